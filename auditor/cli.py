@@ -1,0 +1,91 @@
+"""Command line: argument parsing and dispatch only."""
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+import warnings
+
+from . import __version__
+from .errors import AuditorError, InputError
+
+EXIT_OK, EXIT_PROBLEM, EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
+
+EPILOG_REACTIONS = """example:
+  auditor reactions gri30.yaml
+  auditor reactions ptcombust.yaml --phase Pt_surf --json
+A bare file name is also looked up among the data files that ship with cantera."""
+
+
+def _parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(
+        prog="auditor",
+        description="Audit the setup of a chemical-equilibrium problem: balances, independent "
+                    "reactions, phase rule, specifications, and a confirming Gibbs minimisation.",
+        formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("--version", action="version", version=f"auditor {__version__}")
+    p.add_argument("--debug", action="store_true", help="show a traceback on errors")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND")
+    r = sub.add_parser("reactions", help="stoichiometric analysis of a mechanism's own reactions",
+                       epilog=EPILOG_REACTIONS, formatter_class=argparse.RawDescriptionHelpFormatter)
+    r.add_argument("mechanism", metavar="MECHANISM", help="Cantera-format YAML file")
+    r.add_argument("--phase", action="append", metavar="NAME", help="analyse only this phase (repeatable)")
+    r.add_argument("--json", action="store_true", help="print one JSON document")
+    r.add_argument("--limit", type=int, default=50, metavar="N",
+                   help="list at most N items per section in the text output (default 50; 0 = all)")
+    r.add_argument("--debug", action="store_true", help=argparse.SUPPRESS)
+    return p
+
+
+def _resolve_mechanism(name: str) -> str:
+    from pathlib import Path
+    path = Path(name)
+    if path.exists():
+        return str(path)
+    import cantera as ct
+    for d in ct.get_data_directories():
+        for candidate in (Path(d) / name, Path(d) / "example_data" / name):
+            if candidate.is_file():
+                return str(candidate)
+    return str(path)
+
+
+def _cmd_reactions(args) -> int:
+    from .report.reactions import reactions_document, reactions_text
+    from .stoichiometry import analyse, from_mechanism as mechanism_reactions
+    from .system import from_mechanism
+    path = _resolve_mechanism(args.mechanism)
+    system = from_mechanism(path, args.phase)
+    analysis = analyse(system, mechanism_reactions(system))
+    if args.json:
+        print(json.dumps(reactions_document(analysis), indent=1))
+    else:
+        sys.stdout.write(reactions_text(analysis, path, None if args.limit == 0 else args.limit))
+    return EXIT_PROBLEM if analysis.unbalanced else EXIT_OK
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = _parser()
+    args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_help()
+        return EXIT_INPUT
+    handler = {"reactions": _cmd_reactions}[args.command]
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            return handler(args)
+    except InputError as exc:
+        if args.debug:
+            raise
+        print(f"auditor: error: {exc}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("auditor: interrupted", file=sys.stderr)
+        return EXIT_INTERRUPTED
+    except Exception as exc:  # a bug: say so plainly, without a traceback unless asked
+        if args.debug:
+            raise
+        print(f"auditor: internal error: {type(exc).__name__}: {exc} (run with --debug for details)",
+              file=sys.stderr)
+        return EXIT_INTERNAL

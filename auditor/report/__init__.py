@@ -1,0 +1,1 @@
+"""Renderers: pure functions from stage results to text. They compute nothing new."""

@@ -1,0 +1,113 @@
+"""Renderers for the stoichiometric analysis alone (``auditor reactions``)."""
+from __future__ import annotations
+
+from ..exact import format_fraction
+from ..stoichiometry import ReactionAnalysis, format_equation
+
+
+def _combo_text(combination, prefix="#") -> str:
+    parts = []
+    for j, c in combination:
+        sign = "-" if c < 0 else "+"
+        mag = abs(c)
+        coef = "" if mag == 1 else f"{format_fraction(mag)} "
+        parts.append(f"{sign} {coef}{prefix}{j}")
+    text = " ".join(parts)
+    return text[2:] if text.startswith("+ ") else (text or "0 (no net change)")
+
+
+def reactions_document(a: ReactionAnalysis) -> dict:
+    """The ``reactions --json`` document (design §4), plus additive fields."""
+    return {
+        "species": a.n_species,
+        "reactions": len(a.reactions),
+        "formula_rank": a.formula_rank,
+        "rank": a.rank,
+        "max_independent": a.max_independent,
+        "independent": list(a.independent),
+        "dependent": [{"index": d.index,
+                       "combination": [{"index": j, "coefficient": format_fraction(c)} for j, c in d.combination]}
+                      for d in a.dependent],
+        "unbalanced": [u.index for u in a.unbalanced],
+        "complete": a.complete,
+        # additive fields
+        "imbalance": [{"index": u.index, "imbalance": {e: format_fraction(v) for e, v in u.imbalance}}
+                      for u in a.unbalanced],
+        "duplicates": [{"representative": g.representative,
+                        "members": [{"index": i, "factor": format_fraction(f)} for i, f in g.members]}
+                       for g in a.duplicates],
+        "no_net_change": list(a.no_net_change),
+        "frozen_directions": [r.equation for r in a.frozen],
+        "derived_complete_set": [r.equation for r in a.derived_basis],
+        "conserved_quantities": [c.name for c in a.conserved],
+        "equations": [r.equation for r in a.reactions],
+    }
+
+
+def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None) -> str:
+    """Human-readable account; reaction numbers ``#i`` are 0-based, in file order."""
+    lines = [f"Stoichiometric analysis of {source}", ""]
+    rows = [("phase-species (N)", a.n_species), ("reactions listed", len(a.reactions)),
+            ("formula-matrix rank (rank A)", a.formula_rank), ("rank of the reactions (m)", a.rank),
+            ("most independent reactions possible (N - rank A)", a.max_independent)]
+    width = max(len(r[0]) for r in rows)
+    lines += [f"  {name:<{width}}  {value}" for name, value in rows]
+    if a.unbalanced:
+        state = "the list has unbalanced reactions, so completeness is not defined"
+    elif a.complete:
+        state = "complete: the listed reactions reach every element-balanced composition"
+    else:
+        state = (f"incomplete: {len(a.frozen)} composition direction(s) frozen "
+                 f"({a.max_independent} possible, {a.rank} listed)")
+    lines += ["", f"Verdict on the list: {state}", ""]
+
+    def cap(items):
+        items = list(items)
+        if limit is not None and len(items) > limit:
+            return items[:limit], len(items) - limit
+        return items, 0
+
+    shown, more = cap(a.independent)
+    lines.append(f"Independent reactions ({len(a.independent)}, earliest in file order):")
+    lines += [f"  #{i}: {a.reactions[i].equation}" for i in shown]
+    if more:
+        lines.append(f"  ... and {more} more (use --json for all)")
+    dup_members = {i for g in a.duplicates for i, _ in g.members}
+    others = [d for d in a.dependent if d.index not in dup_members]
+    if others:
+        lines += ["", f"Dependent reactions ({len(others)}, each an exact combination of independent ones):"]
+        shown, more = cap(others)
+        for d in shown:
+            lines.append(f"  #{d.index}: {a.reactions[d.index].equation}")
+            lines.append(f"      = {_combo_text(d.combination)}")
+        if more:
+            lines.append(f"  ... and {more} more (use --json for all)")
+    if a.duplicates:
+        n = sum(len(g.members) for g in a.duplicates)
+        lines += ["", f"Duplicates ({n} reactions with the same net change as an earlier one, in {len(a.duplicates)} groups):"]
+        shown, more = cap(a.duplicates)
+        for g in shown:
+            mem = ", ".join(f"#{i}" + ("" if f == 1 else f" (x {format_fraction(f)})") for i, f in g.members)
+            lines.append(f"  #{g.representative} {a.reactions[g.representative].equation}: {mem}")
+        if more:
+            lines.append(f"  ... and {more} more groups")
+    if a.no_net_change:
+        lines += ["", "Reactions with no net change (catalytic or third-body only): "
+                  + ", ".join(f"#{i}" for i in a.no_net_change)]
+    if a.unbalanced:
+        lines += ["", f"Unbalanced reactions ({len(a.unbalanced)}; imbalance = products - reactants):"]
+        for u in a.unbalanced:
+            imb = ", ".join(f"{e} {'+' if v > 0 else ''}{format_fraction(v)}" for e, v in u.imbalance)
+            lines.append(f"  #{u.index}: {a.reactions[u.index].equation}   [{imb}]")
+    if a.frozen:
+        lines += ["", "Frozen directions (reactions the list cannot produce):"]
+        lines += [f"  {r.equation}" for r in a.frozen]
+        extra = [c.name for c in a.conserved if not c.is_element]
+        if extra:
+            lines += ["", "Extra conserved quantities beyond the elements:"] + [f"  {x}" for x in extra]
+    shown, more = cap(a.derived_basis)
+    lines += ["", f"A complete independent set from the species alone ({len(a.derived_basis)}):"]
+    lines += [f"  {r.equation}" for r in shown]
+    if more:
+        lines.append(f"  ... and {more} more (use --json for all)")
+    return "\n".join(lines) + "\n"

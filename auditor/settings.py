@@ -1,0 +1,50 @@
+"""Named tolerances and limits, defined once; every report prints them.
+
+Counts and combinations are exact and need no tolerance; these apply only to
+floating-point thermodynamic values and to reading floats from mechanism files.
+"""
+from __future__ import annotations
+
+# A mechanism stores coefficients as floats: 0.5 and 1.5 are common, 0.333333333 is not
+# exact.  A float within this distance of a fraction with a denominator at most this
+# large is taken as that fraction; anything else is an input error.
+COEFFICIENT_MAX_DENOMINATOR = 1000
+COEFFICIENT_TOLERANCE = 1e-9
+
+# Relative element-balance residual accepted from a Gibbs minimisation (double
+# precision solvers reach ~1e-12; 1e-8 leaves room for ill-conditioned cases).
+ELEMENT_BALANCE_TOLERANCE = 1e-8
+# Largest reaction affinity, in units of RT, accepted among present species
+# (an affinity of 1e-6 RT changes an equilibrium constant by one part per million).
+AFFINITY_TOLERANCE_RT = 1e-6
+# A phase is present when it holds at least this fraction of all moles.
+PHASE_PRESENCE_FRACTION = 1e-10
+# Two solutions from different starting estimates are the same state when every mole
+# fraction agrees to this.
+UNIQUENESS_TOLERANCE = 1e-6
+# ln K additivity of a dependent reaction is checked to this absolute tolerance
+# (rounding in sums of ~10 terms of magnitude ~100).
+LNK_ADDITIVITY_TOLERANCE = 1e-9
+# Smallest singular value over largest of the Jacobian below which a structurally
+# square system is called numerically singular.
+JACOBIAN_RANK_TOLERANCE = 1e-10
+
+# Limits against hostile input.
+MAX_CASE_FILE_BYTES = 1_000_000
+MAX_YAML_DEPTH = 20
+MAX_YAML_NODES = 20_000
+MAX_CASE_SPECIES = 2_000
+MAX_CASE_PHASES = 50
+MAX_CASE_REACTIONS = 10_000
+MINIMISATION_WALL_SECONDS = 60.0
+
+TOLERANCES = {
+    "coefficient_tolerance": COEFFICIENT_TOLERANCE,
+    "coefficient_max_denominator": COEFFICIENT_MAX_DENOMINATOR,
+    "element_balance_tolerance": ELEMENT_BALANCE_TOLERANCE,
+    "affinity_tolerance_RT": AFFINITY_TOLERANCE_RT,
+    "phase_presence_fraction": PHASE_PRESENCE_FRACTION,
+    "uniqueness_tolerance": UNIQUENESS_TOLERANCE,
+    "lnK_additivity_tolerance": LNK_ADDITIVITY_TOLERANCE,
+    "jacobian_rank_tolerance": JACOBIAN_RANK_TOLERANCE,
+}

@@ -1,0 +1,318 @@
+"""Stoichiometric analysis: balances, independent and dependent reactions, a complete set.
+
+Method: the formula-matrix method (W. R. Smith and R. W. Missen, *Chemical Reaction
+Equilibrium Analysis: Theory and Algorithms*, Wiley 1982, §2.3): with formula matrix
+``A`` of rank ``rho`` over ``N`` phase-species, a complete set of independent reactions
+has ``N - rho`` members and spans the null space of ``A``.  For a given list of
+reactions with stoichiometric matrix ``nu`` the rank ``m`` is computed exactly; the
+independent reactions are the earliest independent ones in the user's order and every
+other one is reported as its exact rational combination of them.
+
+Reactions are vectors over phase-species with products positive.  All arithmetic is
+delegated to :mod:`auditor.exact`.
+"""
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from fractions import Fraction
+from typing import Mapping, Sequence
+
+from . import exact
+from .errors import EquationError, Problem
+from .system import ChemicalSystem, unknown_name_message
+
+Stoich = tuple[tuple[int, int | Fraction], ...]  # exact; int whenever the value is whole
+
+
+@dataclass(frozen=True)
+class Reaction:
+    """A reaction: its text as given (or generated) and its net exact stoichiometry."""
+
+    equation: str
+    stoich: Stoich  # (phase-species index, coefficient), products positive, sorted by index
+
+
+@dataclass(frozen=True)
+class Dependent:
+    index: int
+    combination: tuple[tuple[int, Fraction], ...]  # (independent reaction index, coefficient)
+
+
+@dataclass(frozen=True)
+class DuplicateGroup:
+    """Reactions with parallel net change: each member equals factor x representative."""
+
+    representative: int
+    members: tuple[tuple[int, Fraction], ...]
+
+
+@dataclass(frozen=True)
+class Unbalanced:
+    index: int
+    imbalance: tuple[tuple[str, Fraction], ...]  # element (or "charge") -> products minus reactants
+
+
+@dataclass(frozen=True)
+class ConservedQuantity:
+    """A linear combination of phase-species amounts that no listed reaction changes."""
+
+    name: str
+    vector: tuple[tuple[int, Fraction | int], ...]
+    is_element: bool
+
+
+@dataclass(frozen=True)
+class ReactionAnalysis:
+    labels: tuple[str, ...]
+    reactions: tuple[Reaction, ...]
+    formula_rank: int
+    rank: int
+    independent: tuple[int, ...]
+    dependent: tuple[Dependent, ...]
+    duplicates: tuple[DuplicateGroup, ...]
+    unbalanced: tuple[Unbalanced, ...]
+    no_net_change: tuple[int, ...]
+    complete: bool
+    frozen: tuple[Reaction, ...]          # directions the list cannot produce
+    derived_basis: tuple[Reaction, ...]   # a complete independent set from the species alone
+    conserved: tuple[ConservedQuantity, ...]
+
+    @property
+    def n_species(self) -> int:
+        return len(self.labels)
+
+    @property
+    def max_independent(self) -> int:
+        return len(self.labels) - self.formula_rank
+
+    def combination_of(self, index: int) -> tuple[tuple[int, Fraction], ...] | None:
+        for d in self.dependent:
+            if d.index == index:
+                return d.combination
+        return None
+
+
+# ------------------------------------------------------------------ equations
+
+def format_coefficient(c: Fraction | int) -> str:
+    c = Fraction(c)
+    if c == 1:
+        return ""
+    return exact.format_fraction(c) + " "
+
+
+def format_equation(stoich: Mapping[int, Fraction] | Stoich, labels: Sequence[str]) -> str:
+    """``a A + b B <=> c C`` with integer or fractional coefficients; products positive."""
+    items = sorted(dict(stoich).items())
+    left = [f"{format_coefficient(-c)}{labels[k]}" for k, c in items if c < 0]
+    right = [f"{format_coefficient(c)}{labels[k]}" for k, c in items if c > 0]
+    return f"{' + '.join(left) or '(nothing)'} <=> {' + '.join(right) or '(nothing)'}"
+
+
+_ARROW = re.compile(r"\s*(<=>|=>|<=|=)\s*")
+_TERM = re.compile(r"^(?:(\d+(?:\.\d*)?(?:/\d+)?|\.\d+)\s*)?(\S.*)$")
+_SEPARATOR = re.compile(r"\s+\+\s+")
+
+
+def parse_equation(text: str, system: ChemicalSystem, file: str = "", key_path: str = "",
+                   line: int | None = None) -> Reaction:
+    """Parse ``CH4 + H2O <=> CO + 3 H2`` (also ``=>``, ``=``; ``0.5 O2``, ``1/2 O2``).
+
+    Terms are separated by `` + `` with spaces, so ion names such as ``H3O+`` survive.
+    A species is named by its label, or by its plain name when that is unambiguous.
+    """
+    def fail(msg: str):
+        raise EquationError(Problem(file, msg, key_path, line))
+
+    if not isinstance(text, str) or not text.strip():
+        fail(f"expected a reaction equation such as 'CH4 + H2O <=> CO + 3 H2', got {text!r}")
+    parts = _ARROW.split(text.strip())
+    if len(parts) != 3:
+        fail(f"equation {text!r} needs exactly one of '<=>', '=>' or '=' between reactants and products")
+    net: dict[int, Fraction] = {}
+    for side, sign in ((parts[0], -1), (parts[2], 1)):
+        if not side.strip():
+            fail(f"equation {text!r} has an empty side")
+        for term in _SEPARATOR.split(side.strip()):
+            m = _TERM.match(term.strip())
+            if not m:
+                fail(f"cannot read term {term!r} in equation {text!r}")
+            coef_text, name = m.group(1), m.group(2).strip()
+            hits = system.find(name)
+            if not hits and coef_text is None:
+                m2 = re.match(r"^(\d+)(\D.*)$", name)  # '2CO' written without a space
+                if m2 and system.find(m2.group(2)):
+                    coef_text, name = m2.group(1), m2.group(2)
+                    hits = system.find(name)
+            if not hits:
+                fail(unknown_name_message("species", name, system.labels, f"equation {text!r}"))
+            if len(hits) > 1:
+                options = ", ".join(system.labels[h] for h in hits)
+                fail(f"species {name!r} in equation {text!r} is in several phases; write one of {options}")
+            try:
+                coef = Fraction(coef_text) if coef_text else Fraction(1)
+            except (ValueError, ZeroDivisionError):
+                fail(f"cannot read coefficient {coef_text!r} in equation {text!r}")
+            if coef == 0:
+                fail(f"zero coefficient in equation {text!r}")
+            k = hits[0]
+            net[k] = net.get(k, Fraction(0)) + sign * coef
+    stoich = tuple(sorted((k, c.numerator if c.denominator == 1 else c) for k, c in net.items() if c != 0))
+    return Reaction(text.strip(), stoich)
+
+
+def from_mechanism(system: ChemicalSystem) -> tuple[Reaction, ...]:
+    """The mechanism's own reactions as :class:`Reaction` records."""
+    return tuple(Reaction(r.equation, r.stoich) for r in system.reactions)
+
+
+# ------------------------------------------------------------------ derived complete set
+
+def _simplicity(system: ChemicalSystem, k: int) -> tuple:
+    f = system.species[k].formula
+    # references are the simplest species: fewest elements, then fewest atoms; a
+    # charged species is never preferred over a neutral one except the electron
+    return (abs(system.species[k].charge) != 0 and len(f) > 0, len(f), sum(abs(v) for v in f.values()), k)
+
+
+def derived_basis(system: ChemicalSystem) -> tuple[Reaction, ...]:
+    """A complete set of independent reactions from the species alone.
+
+    The formula matrix is put in reduced row echelon form with its columns ordered from
+    the simplest species; the pivot species become references and every other species
+    gets one formation-type reaction from them (at most ``rank A + 1`` terms), scaled to
+    primitive integers and then made sparser where a cheap step helps.
+    """
+    n = system.n_species
+    simplicity = [_simplicity(system, k) for k in range(n)]
+    order = sorted(range(n), key=simplicity.__getitem__)
+    position = {k: j for j, k in enumerate(order)}
+    ech = exact.RowEchelon(track=False, leftmost=True)
+    for row in system.formula_matrix:
+        ech.add({position[k]: x for k, x in enumerate(row) if x != 0})
+    vectors = [{order[j]: x for j, x in w.items()} for w in ech.nullspace(range(n))]
+    vectors = exact.small_integer_basis(vectors)
+    out = []
+    for vec in vectors:
+        # sign: the more complex species on the product side
+        top = max(vec, key=simplicity.__getitem__)
+        if vec[top] < 0:
+            vec = {k: -x for k, x in vec.items()}
+        stoich = tuple(sorted(vec.items()))
+        out.append(Reaction(format_equation(stoich, system.labels), stoich))
+    return tuple(out)
+
+
+# ------------------------------------------------------------------ analysis
+
+def _imbalance(system: ChemicalSystem, columns, stoich: Stoich) -> tuple[tuple[str, Fraction], ...]:
+    total = exact.sparse_matvec(columns, dict(stoich))
+    return tuple((system.elements[e], Fraction(v)) for e, v in sorted(total.items()))
+
+
+def _describe_quantity(vec: Mapping[int, Fraction | int], labels: Sequence[str]) -> str:
+    terms = []
+    for k, c in sorted(vec.items()):
+        c = Fraction(c)
+        sign = "-" if c < 0 else "+"
+        mag = abs(c)
+        coef = "" if mag == 1 else exact.format_fraction(mag) + " "
+        terms.append(f"{sign} {coef}n({labels[k]})")
+    text = " ".join(terms)
+    return text[2:] if text.startswith("+ ") else text
+
+
+def analyse(system: ChemicalSystem, reactions: Sequence[Reaction]) -> ReactionAnalysis:
+    """Complete exact account of a list of reactions over the system's phase-species."""
+    n = system.n_species
+    rows = [row for row in system.formula_matrix]
+    element_pivots = exact.pivot_rows([list(r) for r in rows]) if rows else []
+    formula_rank = len(element_pivots)
+
+    columns = [system.column(k) for k in range(n)]
+    unbalanced = []
+    for i, r in enumerate(reactions):
+        imb = _imbalance(system, columns, r.stoich)
+        if imb:
+            unbalanced.append(Unbalanced(i, imb))
+
+    # Group parallel reactions first: third-body variants and reverse duplicates of one
+    # reaction share a direction and need only one trip through the elimination.
+    groups: dict[tuple, tuple[int, Fraction]] = {}
+    member_of: dict[int, tuple[int, Fraction]] = {}
+    no_net = []
+    ech = exact.RowEchelon()
+    basis_reaction: list[int] = []
+    combo_of: dict[int, dict[int, Fraction]] = {}
+    for i, r in enumerate(reactions):
+        vec = dict(r.stoich)
+        if not vec:
+            no_net.append(i)
+            continue
+        key, factor = exact.canonical_direction(vec)
+        if key in groups:
+            rep, rep_factor = groups[key]
+            member_of[i] = (rep, factor / rep_factor)
+            continue
+        groups[key] = (i, factor)
+        combo = ech.add(vec)
+        if combo is None:
+            basis_reaction.append(i)
+        else:
+            combo_of[i] = {basis_reaction[b]: c for b, c in combo.items()}
+
+    dependent = []
+    dup_members: dict[int, list[tuple[int, Fraction]]] = {}
+    for i in range(len(reactions)):
+        if i in combo_of:
+            combo = combo_of[i]
+        elif i in member_of:
+            rep, f = member_of[i]
+            dup_members.setdefault(rep, []).append((i, f))
+            combo = {rep: f} if rep not in combo_of else {j: f * c for j, c in combo_of[rep].items()}
+        elif i in no_net:
+            combo = {}
+        else:
+            continue
+        dependent.append(Dependent(i, tuple(sorted(combo.items()))))
+    duplicates = tuple(DuplicateGroup(rep, tuple(m)) for rep, m in sorted(dup_members.items()))
+
+    # Conserved quantities: the null space of the listed reactions (N - m vectors).
+    m = ech.rank
+    null_w = ech.nullspace(range(n))
+    all_balanced = not unbalanced
+    conserved: list[ConservedQuantity] = []
+    if all_balanced:
+        # the element rows are conserved; name them, then add the extra (frozen) ones
+        base = exact.RowEchelon(track=False)
+        for e in element_pivots:
+            vec = {k: x for k, x in enumerate(rows[e]) if x != 0}
+            base.add(vec)
+            conserved.append(ConservedQuantity(system.elements[e], tuple(sorted(vec.items())), True))
+        extra = 0
+        for w in null_w:
+            if base.add(w) is None:
+                extra += 1
+                conserved.append(ConservedQuantity(f"extra {extra}: {_describe_quantity(w, system.labels)}",
+                                                   tuple(sorted(w.items())), False))
+    else:
+        for j, w in enumerate(null_w, 1):
+            conserved.append(ConservedQuantity(f"quantity {j}: {_describe_quantity(w, system.labels)}",
+                                               tuple(sorted(w.items())), False))
+
+    basis = derived_basis(system)
+    frozen = []
+    if all_balanced and m < n - formula_rank:
+        ech_frozen = ech  # continue the same elimination: what the list cannot reach is frozen
+        ech_frozen.track = False
+        for r in basis:
+            if ech_frozen.add({k: c for k, c in r.stoich}) is None:
+                frozen.append(r)
+    complete = all_balanced and m == n - formula_rank
+
+    return ReactionAnalysis(
+        labels=system.labels, reactions=tuple(reactions), formula_rank=formula_rank, rank=m,
+        independent=tuple(basis_reaction), dependent=tuple(dependent), duplicates=duplicates,
+        unbalanced=tuple(unbalanced), no_net_change=tuple(no_net), complete=complete,
+        frozen=tuple(frozen), derived_basis=basis, conserved=tuple(conserved))

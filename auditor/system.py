@@ -1,0 +1,438 @@
+"""Chemical system: phases, phase-species, elements and the exact formula matrix.
+
+A *phase-species* is one species in one phase (design §2); H2O in a gas and H2O in a
+liquid are two phase-species, and the transfer between them is a reaction like any
+other.  The formula matrix ``A`` has one row per element that occurs, plus a row
+``charge`` when any species is charged (the electron is a species; cantera's pseudo
+element ``E`` is replaced by the charge row so that it is not counted twice).
+
+Two sources: a Cantera-format YAML mechanism (all its phases or the ones named), or
+species lists per phase picked from the thermo databases that ship with cantera
+(``nasa_gas.yaml`` for an ideal-gas phase, ``nasa_condensed.yaml`` for condensed phases).
+"""
+from __future__ import annotations
+
+import difflib
+import functools
+import re
+import warnings
+from dataclasses import dataclass
+from fractions import Fraction
+from pathlib import Path
+from typing import Iterator, Mapping, Sequence
+
+from .errors import CoefficientError, MechanismError, Problem
+from .settings import COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE
+from .exact import as_simple_fraction
+
+GAS_DATABASE = "nasa_gas.yaml"
+CONDENSED_DATABASE = "nasa_condensed.yaml"
+CHARGE = "charge"
+
+
+class Formula(Mapping[str, Fraction]):
+    """Exact read-only mapping element -> amount; equality and hash are exact."""
+
+    __slots__ = ("_items",)
+
+    def __init__(self, items: Mapping[str, object] | Sequence[tuple[str, object]] = ()):
+        pairs = items.items() if isinstance(items, Mapping) else items
+        self._items = tuple(sorted((str(k), Fraction(v)) for k, v in pairs if Fraction(v) != 0))
+
+    def __getitem__(self, key: str) -> Fraction:
+        for k, v in self._items:
+            if k == key:
+                return v
+        raise KeyError(key)
+
+    def __iter__(self) -> Iterator[str]:
+        return (k for k, _ in self._items)
+
+    def __len__(self) -> int:
+        return len(self._items)
+
+    def __hash__(self) -> int:
+        return hash(self._items)
+
+    def __eq__(self, other: object) -> bool:
+        if isinstance(other, Formula):
+            return self._items == other._items
+        if isinstance(other, Mapping):
+            return self == Formula(other)
+        return NotImplemented
+
+    def __repr__(self) -> str:
+        return "Formula({" + ", ".join(f"{k!r}: {v}" for k, v in self._items) + "})"
+
+
+@dataclass(frozen=True)
+class SpeciesDef:
+    """One phase-species."""
+
+    name: str            # the species name in its source
+    phase: str           # the phase it belongs to
+    label: str           # unique label in the system: name, or name[phase] when ambiguous
+    formula: Formula     # atoms per molecule (the electron pseudo-element excluded)
+    charge: Fraction
+    t_min: float         # thermo data validity range, K
+    t_max: float
+    database: str        # file the species definition came from
+
+
+@dataclass(frozen=True)
+class PhaseDef:
+    name: str
+    model: str           # cantera thermo model: ideal-gas, fixed-stoichiometry, ideal-condensed, ...
+    species: tuple[str, ...]  # labels of its phase-species
+    is_gas: bool
+
+
+@dataclass(frozen=True)
+class MechanismReaction:
+    """A reaction read from a mechanism: its equation and net exact stoichiometry."""
+
+    equation: str
+    stoich: tuple[tuple[int, int | Fraction], ...]  # (phase-species index, net coefficient, products > 0)
+    phase: str
+
+
+@dataclass(frozen=True)
+class ChemicalSystem:
+    source: str                       # "packaged" or the mechanism path
+    phases: tuple[PhaseDef, ...]
+    species: tuple[SpeciesDef, ...]   # phase-species, phase by phase
+    elements: tuple[str, ...]         # rows of the formula matrix (may end with "charge")
+    formula_matrix: tuple[tuple[Fraction | int, ...], ...]
+    reactions: tuple[MechanismReaction, ...] = ()   # the mechanism's own reactions, if any
+
+    @functools.cached_property
+    def labels(self) -> tuple[str, ...]:
+        return tuple(s.label for s in self.species)
+
+    @property
+    def n_species(self) -> int:
+        return len(self.species)
+
+    def index(self, label: str) -> int:
+        return self._index()[label]
+
+    def find(self, name: str) -> list[int]:
+        """Indices of phase-species whose label or plain name is ``name``."""
+        idx = self._index()
+        if name in idx:
+            return [idx[name]]
+        return [i for i, s in enumerate(self.species) if s.name == name]
+
+    def phase(self, name: str) -> PhaseDef:
+        for p in self.phases:
+            if p.name == name:
+                return p
+        raise KeyError(name)
+
+    def phase_indices(self, name: str) -> list[int]:
+        return [i for i, s in enumerate(self.species) if s.phase == name]
+
+    def column(self, k: int) -> dict[int, Fraction | int]:
+        """Sparse column ``k`` of the formula matrix."""
+        return {e: row[k] for e, row in enumerate(self.formula_matrix) if row[k] != 0}
+
+    def _index(self) -> dict[str, int]:
+        return _label_index(self.labels)
+
+
+@functools.lru_cache(maxsize=64)
+def _label_index(labels: tuple[str, ...]) -> dict[str, int]:
+    return {lab: i for i, lab in enumerate(labels)}
+
+
+def _close(name: str, known: Sequence[str], n: int = 5) -> list[str]:
+    """Closest names, comparing case-insensitively (``HCl`` finds ``HCL``)."""
+    upper = {k.upper(): k for k in known}
+    hits = difflib.get_close_matches(name.upper(), list(upper), n=n, cutoff=0.6)
+    return [upper[h] for h in hits]
+
+
+def unknown_name_message(kind: str, name: str, known: Sequence[str], where: str) -> str:
+    hint = _close(name, known)
+    tail = f"; closest names: {', '.join(hint)}" if hint else ""
+    return f"unknown {kind} {name!r} in {where}{tail}"
+
+
+def _cantera():
+    import cantera as ct
+    return ct
+
+
+@functools.lru_cache(maxsize=4)
+def packaged_species(database: str) -> dict[str, object]:
+    """Species of a database shipped with cantera, by name (cached: parsing costs ~0.3 s)."""
+    ct = _cantera()
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        return {s.name: s for s in ct.Species.list_from_file(database)}
+
+
+def _formula_and_charge(sp) -> tuple[Formula, Fraction]:
+    comp = {k: v for k, v in sp.composition.items() if k not in ("E",)}
+    formula = {}
+    for k, v in comp.items():
+        f = as_simple_fraction(v, COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE)
+        if f is None:
+            raise MechanismError.single("", f"species {sp.name}: element amount {v!r} of {k} is not a simple fraction")
+        formula[k] = f
+    charge = as_simple_fraction(sp.charge, COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE) or Fraction(0)
+    return Formula(formula), charge
+
+
+def _thermo_range(sp) -> tuple[float, float]:
+    try:
+        return float(sp.thermo.min_temp), float(sp.thermo.max_temp)
+    except Exception:  # a species without a parametrised thermo model
+        return 0.0, float("inf")
+
+
+def _assemble(source: str, raw: list[tuple[str, str, bool, list]], reactions=()) -> ChemicalSystem:
+    """raw: (phase name, model, is_gas, [cantera Species]) in order."""
+    counts: dict[str, int] = {}
+    for _, _, _, sps in raw:
+        for sp in sps:
+            counts[sp.name] = counts.get(sp.name, 0) + 1
+    species: list[SpeciesDef] = []
+    phases: list[PhaseDef] = []
+    elements: list[str] = []
+    charged = False
+    for pname, model, is_gas, sps in raw:
+        labels = []
+        for sp in sps:
+            formula, charge = _formula_and_charge(sp)
+            label = sp.name if counts[sp.name] == 1 else f"{sp.name}[{pname}]"
+            t_min, t_max = _thermo_range(sp)
+            species.append(SpeciesDef(sp.name, pname, label, formula, charge, t_min, t_max, source))
+            labels.append(label)
+            for e in formula:
+                if e not in elements:
+                    elements.append(e)
+            charged = charged or charge != 0
+        phases.append(PhaseDef(pname, model, tuple(labels), is_gas))
+    rows = [tuple(_norm(s.formula.get(e, 0)) for s in species) for e in elements]
+    if charged:
+        elements.append(CHARGE)
+        rows.append(tuple(_norm(s.charge) for s in species))
+    return ChemicalSystem(source, tuple(phases), tuple(species), tuple(elements), tuple(rows), tuple(reactions))
+
+
+def _norm(x: Fraction) -> Fraction | int:
+    x = Fraction(x)
+    return x.numerator if x.denominator == 1 else x
+
+
+# ---------------------------------------------------------------- packaged databases
+
+def from_packaged(phases: Mapping[str, Sequence[str]], where: str = "system.phases") -> ChemicalSystem:
+    """Phases of species picked by name from the databases shipped with cantera.
+
+    Raises
+    ------
+    MechanismError
+        Listing every unknown species (with the closest known names) and every phase
+        that mixes gas and condensed species.
+    """
+    gas_db = packaged_species(GAS_DATABASE)
+    cond_db = packaged_species(CONDENSED_DATABASE)
+    problems: list[Problem] = []
+    raw = []
+    for pname, names in phases.items():
+        sps, kinds = [], set()
+        for i, name in enumerate(names):
+            if name in gas_db:
+                sps.append(gas_db[name]); kinds.add("gas")
+            elif name in cond_db:
+                sps.append(cond_db[name]); kinds.add("condensed")
+            else:
+                problems.append(Problem("packaged databases", unknown_name_message(
+                    "species", name, list(gas_db) + list(cond_db), f"{GAS_DATABASE} or {CONDENSED_DATABASE}"),
+                    f"{where}.{pname}[{i}]"))
+        if len(kinds) > 1:
+            problems.append(Problem("packaged databases", f"phase {pname!r} mixes gas species "
+                                    f"({', '.join(n for n in names if n in gas_db)}) with condensed species "
+                                    f"({', '.join(n for n in names if n in cond_db)}); put them in separate phases",
+                                    f"{where}.{pname}"))
+        if not names:
+            problems.append(Problem("packaged databases", f"phase {pname!r} lists no species", f"{where}.{pname}"))
+        is_gas = kinds == {"gas"}
+        model = "ideal-gas" if is_gas else ("fixed-stoichiometry" if len(sps) == 1 else "ideal-condensed")
+        raw.append((pname, model, is_gas, sps))
+    if problems:
+        raise MechanismError(problems)
+    return _assemble("packaged", raw)
+
+
+# ---------------------------------------------------------------- mechanism files
+
+_TOP_KEY = re.compile(r"^[A-Za-z_][\w-]*\s*:")
+
+
+def mechanism_phase_names(path: str | Path) -> list[str]:
+    """Names of the phases a Cantera-format YAML file defines, without parsing the whole file.
+
+    Full YAML parsing of a large mechanism takes seconds, so only the top-level
+    ``phases:`` block is cut out and parsed.
+    """
+    import yaml
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise MechanismError.single(path, f"cannot read mechanism file: {exc}") from None
+    lines = text.splitlines()
+    start = next((i for i, ln in enumerate(lines) if ln.startswith("phases:")), None)
+    if start is None:
+        raise MechanismError.single(path, "no top-level 'phases:' section: not a Cantera-format mechanism")
+    end = next((j for j in range(start + 1, len(lines)) if _TOP_KEY.match(lines[j])), len(lines))
+    try:
+        block = yaml.safe_load("\n".join(lines[start:end]))
+        names = [str(p["name"]) for p in block["phases"]]
+    except Exception as exc:
+        raise MechanismError.single(path, f"malformed 'phases:' section: {exc}", "phases", start + 1) from None
+    return names
+
+
+def _load_phase(ct, path: Path, name: str):
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        sol = ct.Solution(str(path), name)
+        if sol.thermo_model in ("ideal-surface", "coverage-dependent-surface", "edge"):
+            # an interface's reactions involve its adjacent phases: cantera loads them
+            sol = ct.Interface(str(path), name)
+    return sol
+
+
+def _cantera_message(exc: Exception) -> str:
+    text = str(exc).strip()
+    # cantera's own words, without its banner lines
+    lines = [ln for ln in text.splitlines() if ln.strip() and not set(ln.strip()) <= set("*-")]
+    return " ".join(ln.strip() for ln in lines[:6])
+
+
+def load_phases(path: str | Path, phase_names: Sequence[str] | None = None):
+    """Cantera objects for the named (or all) phases of a mechanism, with interface neighbours.
+
+    Returns a list of (name, Solution) in order; the adjacent bulk phases of an
+    interface are added after the phases asked for when they are not already there.
+    """
+    ct = _cantera()
+    path = Path(path)
+    if not path.is_file():
+        raise MechanismError.single(path, "mechanism file not found")
+    available = mechanism_phase_names(path)
+    names = list(phase_names) if phase_names else available
+    problems = [Problem(str(path), unknown_name_message("phase", n, available, path.name), "phases")
+                for n in names if n not in available]
+    if problems:
+        raise MechanismError(problems)
+    loaded: dict[str, object] = {}
+    for n in names:
+        try:
+            sol = _load_phase(ct, path, n)
+        except Exception as exc:  # cantera's error text is shown as it is
+            raise MechanismError.single(path, f"cantera cannot build phase {n!r}: {_cantera_message(exc)}",
+                                        f"phases[{n}]") from None
+        loaded[n] = sol
+        for adj_name, adj in getattr(sol, "adjacent", {}).items():
+            loaded.setdefault(adj_name, adj)
+    return list(loaded.items())
+
+
+def _exact_coefficient(value: float, path: Path, equation: str, species: str) -> Fraction:
+    f = as_simple_fraction(value, COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE)
+    if f is None:
+        raise CoefficientError.single(
+            path, f"stoichiometric coefficient {value!r} of {species} in reaction '{equation}' is not within "
+            f"{COEFFICIENT_TOLERANCE:g} of a fraction with denominator <= {COEFFICIENT_MAX_DENOMINATOR}",
+            "reactions")
+    return f
+
+
+def _mechanism_reactions(ct, path: Path, pname: str, sol, offsets: dict[str, int], system_labels) -> list[MechanismReaction]:
+    """Net exact stoichiometry of every reaction of one phase's kinetics.
+
+    Uses cantera's sparse stoichiometric matrices (one call, no per-reaction objects),
+    which is what keeps a 5000-reaction mechanism fast.
+    """
+    n_rxn = getattr(sol, "n_reactions", 0)
+    if not n_rxn:
+        return []
+    # kinetics species: the phase itself, then its adjacent phases (checked by name)
+    parts = [(pname, sol)] + list(getattr(sol, "adjacent", {}).items())
+    kin_to_system: list[int] = []
+    for ph_name, ph in parts:
+        for k in range(ph.n_species):
+            kin_to_system.append(offsets[ph_name] + k)
+    kin_names = sol.kinetics_species_names
+    if len(kin_names) != len(kin_to_system) or any(
+            system_labels[i].split("[")[0] != nm for i, nm in zip(kin_to_system, kin_names)):
+        raise MechanismError.single(path, f"cannot map the kinetics species of phase {pname!r} to its phases", "phases")
+    ct.use_sparse(True)
+    try:
+        net = (sol.product_stoich_coeffs - sol.reactant_stoich_coeffs).tocsc()
+    finally:
+        ct.use_sparse(False)
+    equations = sol.reaction_equations()
+    out = []
+    indptr, indices, data = net.indptr, net.indices, net.data
+    for j in range(n_rxn):
+        pairs = []
+        for k, x in zip(indices[indptr[j]:indptr[j + 1]], data[indptr[j]:indptr[j + 1]]):
+            if x == 0:
+                continue
+            x = float(x)
+            c = int(x) if x.is_integer() else _exact_coefficient(x, path, equations[j], kin_names[k])
+            pairs.append((kin_to_system[k], c if type(c) is int or c.denominator != 1 else c.numerator))
+        pairs.sort()
+        out.append(MechanismReaction(equations[j], tuple(pairs), pname))
+    return out
+
+
+def from_mechanism(path: str | Path, phase_names: Sequence[str] | None = None,
+                   species: Mapping[str, Sequence[str]] | None = None,
+                   with_reactions: bool = True) -> ChemicalSystem:
+    """All (or the named) phases of a Cantera-format mechanism, and their reactions.
+
+    ``species`` optionally restricts a phase to a subset of its species (case files);
+    reactions are then not read, because they may involve the species left out.
+    """
+    ct = _cantera()
+    path = Path(path)
+    loaded = load_phases(path, phase_names)
+    raw = []
+    problems = []
+    for name, sol in loaded:
+        sps = [sol.species(k) for k in range(sol.n_species)]
+        if species and name in species:
+            known = {s.name: s for s in sps}
+            chosen = []
+            for i, nm in enumerate(species[name]):
+                if nm in known:
+                    chosen.append(known[nm])
+                else:
+                    problems.append(Problem(str(path), unknown_name_message("species", nm, list(known), f"phase {name!r}"),
+                                            f"system.phases.{name}[{i}]"))
+            sps = chosen
+        is_gas = sol.thermo_model in ("ideal-gas", "Redlich-Kwong", "Peng-Robinson", "plasma")
+        raw.append((name, sol.thermo_model, is_gas, sps))
+    if problems:
+        raise MechanismError(problems)
+    system = _assemble(str(path), raw)
+    if not with_reactions or species:
+        return system
+    offsets, n = {}, 0
+    for name, _, _, sps in raw:
+        offsets[name] = n
+        n += len(sps)
+    reactions = []
+    for name, sol in loaded:
+        if phase_names and name not in phase_names and any(name in getattr(s, "adjacent", {}) for _, s in loaded):
+            continue  # an adjacent phase brought in only to complete an interface
+        reactions.extend(_mechanism_reactions(ct, path, name, sol, offsets, system.labels))
+    return ChemicalSystem(system.source, system.phases, system.species, system.elements,
+                          system.formula_matrix, tuple(reactions))
