@@ -1,0 +1,725 @@
+"""Case files: YAML -> validated, frozen :class:`Case` in SI units (design §5).
+
+The loader works on the YAML *node* tree so that every problem carries its line, and
+it collects every problem in a file before raising one :class:`CaseError`.  Only safe
+YAML is read; file size, nesting depth and node count (alias expansion included) are
+capped by the named limits in :mod:`auditor.settings`.
+
+Units are parsed with pint (K, degC, degF, Pa, kPa, bar, atm, psi; mol, kmol, lbmol).
+"""
+from __future__ import annotations
+
+import difflib
+import functools
+import math
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Mapping
+
+from . import settings
+from .errors import CaseError, InputError, LimitError, Problem
+
+# ------------------------------------------------------------------ records
+
+
+@dataclass(frozen=True)
+class RatioSpec:
+    """x(numerator) / x(denominator) = value in one phase."""
+
+    phase: str
+    numerator: str
+    denominator: str
+    value: float
+    key_path: str
+
+
+@dataclass(frozen=True)
+class MoleFractionSpec:
+    phase: str
+    species: str
+    value: float
+    key_path: str
+
+
+@dataclass(frozen=True)
+class PhaseFractionSpec:
+    """Moles of a phase over all moles: an extensive specification."""
+
+    phase: str
+    value: float
+    key_path: str
+
+
+@dataclass(frozen=True)
+class Specified:
+    temperature_K: float | None = None
+    pressure_Pa: float | None = None
+    mole_fractions: tuple[MoleFractionSpec, ...] = ()
+    ratios: tuple[RatioSpec, ...] = ()
+    phase_fractions: tuple[PhaseFractionSpec, ...] = ()
+    adiabatic_feed_temperature_K: float | None = None
+
+    def names(self) -> list[str]:
+        out = []
+        if self.temperature_K is not None:
+            out.append("temperature")
+        if self.pressure_Pa is not None:
+            out.append("pressure")
+        out += [f"mole fraction x({m.species}) in {m.phase}" for m in self.mole_fractions]
+        out += [f"ratio x({r.numerator})/x({r.denominator}) in {r.phase}" for r in self.ratios]
+        out += [f"phase fraction of {p.phase}" for p in self.phase_fractions]
+        if self.adiabatic_feed_temperature_K is not None:
+            out.append("adiabatic enthalpy balance")
+        return out
+
+
+@dataclass(frozen=True)
+class DeclaredRestriction:
+    kind: str                       # "ratio" or "same-composition"
+    key_path: str
+    ratio: RatioSpec | None = None
+    phases: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class SystemSpec:
+    source: str                                 # "packaged" or "mechanism"
+    mechanism: Path | None
+    phases: tuple[tuple[str, tuple[str, ...] | None], ...]  # (phase, species or None = all)
+
+
+@dataclass(frozen=True)
+class Case:
+    path: Path
+    title: str
+    system: SystemSpec
+    reactions: str | tuple[tuple[str, str], ...]   # "complete", "from-mechanism", or (equation, key path)
+    feed: tuple[tuple[str, float], ...] | None     # species label -> mol
+    coexisting: tuple[str, ...] | None
+    specified: Specified
+    restrictions: tuple[DeclaredRestriction, ...]
+    claims: tuple[tuple[str, Any], ...]
+    lines: Mapping[str, int] = field(default_factory=dict, compare=False)  # key path -> line (1-based)
+
+    def line(self, key_path: str) -> int | None:
+        return self.lines.get(key_path)
+
+
+# ------------------------------------------------------------------ units
+
+@functools.lru_cache(maxsize=1)
+def _units():
+    import pint
+    ureg = pint.UnitRegistry()
+    ureg.define("lbmol = 453.59237 * mol = lb_mol = pound_mole")
+    return ureg
+
+
+_NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?|[-+]?(?:inf|nan))\s*(.*?)\s*$",
+                          re.IGNORECASE)
+DIMENSIONS = {"temperature": ("[temperature]", "K"), "pressure": ("[pressure]", "Pa"),
+              "amount": ("[substance]", "mol")}
+
+
+def parse_quantity(value: Any, kind: str) -> float:
+    """SI value of ``value`` (a number in the default unit, or ``"850 degC"``).
+
+    Raises ValueError with a message naming what was expected.
+    """
+    dim, si = DIMENSIONS[kind]
+    default = {"temperature": "K", "pressure": "Pa", "amount": "mol"}[kind]
+    if isinstance(value, bool) or value is None:
+        raise ValueError(f"expected a {kind} such as {_example(kind)}, got {value!r}")
+    if isinstance(value, (int, float)):
+        number, unit = float(value), default
+    elif isinstance(value, str):
+        m = _NUMBER_UNIT.match(value)
+        if not m:
+            raise ValueError(f"expected a {kind} such as {_example(kind)}, got {value!r}")
+        number, unit = float(m.group(1)), (m.group(2) or default)
+    else:
+        raise ValueError(f"expected a {kind} such as {_example(kind)}, got {type(value).__name__}")
+    if not math.isfinite(number):
+        raise ValueError(f"{kind} must be a finite number, got {value!r}")
+    ureg = _units()
+    try:
+        q = ureg.Quantity(number, unit)
+        if not q.check(dim):
+            raise ValueError(f"unit {unit!r} is not a unit of {kind} (expected e.g. {_example(kind)})")
+        return float(q.to(si).magnitude)
+    except ValueError:
+        raise
+    except Exception as exc:  # pint's own errors: undefined unit, syntax
+        raise ValueError(f"cannot read unit {unit!r} of {kind}: {exc}") from None
+
+
+def _example(kind: str) -> str:
+    return {"temperature": "'850 degC' or 1123.15 (K)", "pressure": "'25 bar' or 101325 (Pa)",
+            "amount": "'2 kmol' or 1.5 (mol)"}[kind]
+
+
+# ------------------------------------------------------------------ YAML with lines
+
+class _Reader:
+    """Validates a YAML node tree, collecting problems with key paths and lines."""
+
+    def __init__(self, file: str):
+        self.file = file
+        self.problems: list[Problem] = []
+        self.lines: dict[str, int] = {}
+        self.count = 0
+
+    def problem(self, node, key_path: str, message: str):
+        line = node.start_mark.line + 1 if node is not None else None
+        col = node.start_mark.column + 1 if node is not None else None
+        self.problems.append(Problem(self.file, message, key_path, line, col))
+
+    def note(self, node, key_path: str):
+        self.lines[key_path] = node.start_mark.line + 1
+
+    def plain(self, node, key_path: str, depth: int = 0):
+        """Python value of a node (aliases expanded, with the node budget enforced)."""
+        import yaml
+        self.count += 1
+        if self.count > settings.MAX_YAML_NODES:
+            raise LimitError(Problem(self.file, f"case file expands to more than {settings.MAX_YAML_NODES} YAML "
+                                     "nodes (alias expansion?); refused", key_path, node.start_mark.line + 1))
+        if depth > settings.MAX_YAML_DEPTH:
+            raise LimitError(Problem(self.file, f"case file nests deeper than {settings.MAX_YAML_DEPTH} levels; refused",
+                                     key_path, node.start_mark.line + 1))
+        self.note(node, key_path)
+        if isinstance(node, yaml.MappingNode):
+            out = {}
+            for k, v in node.value:
+                key = self.plain(k, key_path, depth + 1)
+                if not isinstance(key, (str, int, float)):
+                    self.problem(k, key_path, "mapping keys must be plain names")
+                    continue
+                out[str(key)] = (k, v)
+            return _Mapping(out)
+        if isinstance(node, yaml.SequenceNode):
+            return [(v, self.plain(v, f"{key_path}[{i}]", depth + 1)) for i, v in enumerate(node.value)]
+        return _scalar_loader().construct_object(node)
+
+
+class _Mapping(dict):
+    """key -> (key node, value node)"""
+
+
+@functools.lru_cache(maxsize=1)
+def _scalar_loader():
+    import yaml
+    return yaml.SafeLoader("")
+
+
+def _load_nodes(path: Path):
+    import yaml
+    try:
+        size = path.stat().st_size
+    except OSError as exc:
+        raise CaseError(Problem(str(path), f"cannot read case file: {exc.strerror or exc}")) from None
+    if size > settings.MAX_CASE_FILE_BYTES:
+        raise LimitError(Problem(str(path), f"case file is {size} bytes, more than the limit of "
+                                 f"{settings.MAX_CASE_FILE_BYTES}; refused"))
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise CaseError(Problem(str(path), f"cannot read case file: {exc.strerror or exc}")) from None
+    if b"\x00" in raw:
+        raise CaseError(Problem(str(path), "this is a binary file, not a YAML case file"))
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise CaseError(Problem(str(path), f"case file is not UTF-8 text (byte {exc.start}): save it as UTF-8")) from None
+    if not text.strip():
+        raise CaseError(Problem(str(path), "case file is empty; start from 'auditor new PATH'"))
+    try:
+        docs = list(yaml.compose_all(text, Loader=yaml.SafeLoader))
+    except yaml.YAMLError as exc:
+        mark = getattr(exc, "problem_mark", None)
+        line = mark.line + 1 if mark else None
+        col = mark.column + 1 if mark else None
+        what = getattr(exc, "problem", None) or str(exc)
+        raise CaseError(Problem(str(path), f"YAML syntax error: {what}", "", line, col)) from None
+    docs = [d for d in docs if d is not None]
+    if len(docs) != 1:
+        raise CaseError(Problem(str(path), f"expected one YAML document, found {len(docs)}"))
+    if not isinstance(docs[0], yaml.MappingNode):
+        raise CaseError(Problem(str(path), "a case file is a mapping of keys such as title, system, feed, specified",
+                                "", docs[0].start_mark.line + 1))
+    return docs[0]
+
+
+TOP_KEYS = ("title", "system", "reactions", "feed", "coexisting", "specified", "restrictions", "claims")
+SYSTEM_KEYS = ("source", "mechanism", "phases")
+SPECIFIED_KEYS = ("temperature", "pressure", "mole-fractions", "ratios", "phase-fractions", "adiabatic")
+RATIO_KEYS = ("phase", "numerator", "denominator", "value")
+CLAIM_KEYS = ("independent-reactions", "degrees-of-freedom", "components", "phases-present", "verdict")
+VERDICTS = ("well-posed", "under-specified", "over-specified", "inconsistent", "not-confirmed")
+
+
+def _suggest(word: str, options) -> str:
+    hit = difflib.get_close_matches(word, list(options), n=1, cutoff=0.5)
+    return f"; did you mean {hit[0]!r}?" if hit else f"; expected one of: {', '.join(options)}"
+
+
+def load_case(path: str | Path) -> Case:
+    """Read and validate a case file's structure and units.
+
+    Raises
+    ------
+    CaseError
+        With every problem found in the file (key path and line each).
+    """
+    path = Path(path)
+    root = _load_nodes(path)
+    rd = _Reader(str(path))
+    top = rd.plain(root, "")
+
+    def check_keys(mapping: _Mapping, allowed, where: str):
+        for key, (knode, _) in mapping.items():
+            if key not in allowed:
+                rd.problem(knode, f"{where}.{key}".lstrip("."), f"unknown key {key!r}{_suggest(key, allowed)}")
+
+    check_keys(top, TOP_KEYS, "")
+
+    def get(mapping, key):
+        return mapping[key][1] if key in mapping else None
+
+    def value_of(node, kp):
+        return rd.plain(node, kp) if node is not None else None
+
+    def want_str(node, kp, what="a name") -> str | None:
+        v = value_of(node, kp)
+        if not isinstance(v, str) or not v.strip():
+            rd.problem(node, kp, f"expected {what}, got {v!r}")
+            return None
+        return v.strip()
+
+    def want_fraction(node, kp, what: str) -> float | None:
+        v = value_of(node, kp)
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+            rd.problem(node, kp, f"expected {what} as a number, got {v!r}")
+            return None
+        return float(v)
+
+    def want_mapping(node, kp) -> _Mapping | None:
+        v = value_of(node, kp)
+        if not isinstance(v, _Mapping):
+            rd.problem(node, kp, f"expected a mapping (key: value lines), got {_kind(v)}")
+            return None
+        return v
+
+    def want_list(node, kp) -> list | None:
+        v = value_of(node, kp)
+        if not isinstance(v, list):
+            rd.problem(node, kp, f"expected a list, got {_kind(v)}")
+            return None
+        return v
+
+    # title
+    title = path.stem
+    if "title" in top:
+        t = want_str(get(top, "title"), "title", "a title text")
+        title = t or title
+
+    # system
+    system_spec = None
+    snode = get(top, "system")
+    if snode is None:
+        rd.problem(root, "system", "missing key 'system' (source: packaged with phases, or mechanism: FILE)")
+    else:
+        sm = want_mapping(snode, "system")
+        if sm is not None:
+            check_keys(sm, SYSTEM_KEYS, "system")
+            mech = None
+            source = "packaged"
+            if "mechanism" in sm:
+                m = want_str(get(sm, "mechanism"), "system.mechanism", "a mechanism file path")
+                if m:
+                    mech = (path.parent / m).resolve()
+                    if not mech.is_file():
+                        rd.problem(get(sm, "mechanism"), "system.mechanism", f"mechanism file {m!r} not found "
+                                   f"(looked for {mech})")
+                    source = "mechanism"
+                if "source" in sm:
+                    rd.problem(get(sm, "source"), "system.source", "give either 'source: packaged' or 'mechanism:', not both")
+            elif "source" in sm:
+                s = value_of(get(sm, "source"), "system.source")
+                if s != "packaged":
+                    rd.problem(get(sm, "source"), "system.source",
+                               f"expected 'packaged' (the thermo databases that ship with cantera), got {s!r}; "
+                               "for a mechanism file write 'mechanism: FILE'")
+            else:
+                rd.problem(snode, "system", "say where species come from: 'source: packaged' or 'mechanism: FILE'")
+            phases: list[tuple[str, tuple[str, ...] | None]] = []
+            pnode = get(sm, "phases")
+            if pnode is None:
+                if source == "packaged":
+                    rd.problem(snode, "system.phases", "missing key 'phases' (phase name: [species, ...])")
+            else:
+                pv = value_of(pnode, "system.phases")
+                if isinstance(pv, list) and source == "mechanism":
+                    for i, (n, v) in enumerate(pv):
+                        if isinstance(v, str):
+                            phases.append((v, None))
+                        else:
+                            rd.problem(n, f"system.phases[{i}]", f"expected a phase name, got {v!r}")
+                elif isinstance(pv, _Mapping):
+                    for name, (kn, vn) in pv.items():
+                        kp = f"system.phases.{name}"
+                        v = value_of(vn, kp)
+                        if v == "all" and source == "mechanism":
+                            phases.append((name, None))
+                        elif isinstance(v, list) and v:
+                            names = []
+                            for i, (n, s) in enumerate(v):
+                                if isinstance(s, str) and s.strip():
+                                    names.append(s.strip())
+                                else:
+                                    rd.problem(n, f"{kp}[{i}]", f"expected a species name, got {s!r}")
+                            dup = {s for s in names if names.count(s) > 1}
+                            if dup:
+                                rd.problem(vn, kp, f"species listed twice in phase {name!r}: {', '.join(sorted(dup))}")
+                            phases.append((name, tuple(names)))
+                        else:
+                            rd.problem(vn, kp, "expected a list of species names"
+                                       + (" or 'all'" if source == "mechanism" else "") + f", got {v!r}")
+                else:
+                    rd.problem(pnode, "system.phases", "expected phase name: [species, ...]"
+                               + (" or a list of phase names" if source == "mechanism" else ""))
+            if len(phases) > settings.MAX_CASE_PHASES:
+                rd.problem(pnode, "system.phases", f"{len(phases)} phases is more than the limit of {settings.MAX_CASE_PHASES}")
+            n_sp = sum(len(s or ()) for _, s in phases)
+            if n_sp > settings.MAX_CASE_SPECIES:
+                rd.problem(pnode, "system.phases", f"{n_sp} species is more than the limit of {settings.MAX_CASE_SPECIES}")
+            system_spec = SystemSpec(source, mech, tuple(phases))
+
+    # reactions
+    reactions: str | tuple = "complete"
+    rnode = get(top, "reactions")
+    if rnode is not None:
+        rv = value_of(rnode, "reactions")
+        if isinstance(rv, str):
+            if rv not in ("complete", "from-mechanism"):
+                rd.problem(rnode, "reactions", f"expected 'complete', 'from-mechanism' or a list of equations, got {rv!r}"
+                           + _suggest(rv, ("complete", "from-mechanism")))
+            elif rv == "from-mechanism" and system_spec is not None and system_spec.source != "mechanism":
+                rd.problem(rnode, "reactions", "'from-mechanism' needs 'system: mechanism: FILE'")
+            else:
+                reactions = rv
+        elif isinstance(rv, list):
+            eqs = []
+            for i, (n, e) in enumerate(rv):
+                if isinstance(e, str) and e.strip():
+                    eqs.append((e, f"reactions[{i}]"))
+                else:
+                    rd.problem(n, f"reactions[{i}]", f"expected an equation such as 'CO + H2O <=> CO2 + H2', got {e!r}")
+            if len(eqs) > settings.MAX_CASE_REACTIONS:
+                rd.problem(rnode, "reactions", f"{len(eqs)} reactions is more than the limit of {settings.MAX_CASE_REACTIONS}")
+            reactions = tuple(eqs)
+        else:
+            rd.problem(rnode, "reactions", f"expected 'complete', 'from-mechanism' or a list of equations, got {_kind(rv)}")
+
+    # feed
+    feed = None
+    fnode = get(top, "feed")
+    if fnode is not None:
+        fm = want_mapping(fnode, "feed")
+        if fm is not None:
+            items = []
+            for sp, (kn, vn) in fm.items():
+                kp = f"feed.{sp}"
+                v = value_of(vn, kp)
+                try:
+                    amount = parse_quantity(v, "amount")
+                except ValueError as exc:
+                    rd.problem(vn, kp, str(exc))
+                    continue
+                if amount < 0:
+                    rd.problem(vn, kp, f"feed amount must not be negative, got {v!r}")
+                    continue
+                items.append((sp, amount))
+            if fm and items and all(a == 0 for _, a in items):
+                rd.problem(fnode, "feed", "the feed is empty (every amount is zero)")
+            feed = tuple(items)
+
+    # coexisting
+    coexisting = None
+    cnode = get(top, "coexisting")
+    if cnode is not None:
+        cl = want_list(cnode, "coexisting")
+        if cl is not None:
+            names = []
+            for i, (n, v) in enumerate(cl):
+                if isinstance(v, str):
+                    names.append(v)
+                else:
+                    rd.problem(n, f"coexisting[{i}]", f"expected a phase name, got {v!r}")
+            if not names and not cl:
+                rd.problem(cnode, "coexisting", "at least one phase must be assumed present")
+            coexisting = tuple(names)
+
+    # specified
+    spec = Specified()
+    spnode = get(top, "specified")
+    if spnode is not None:
+        sm = want_mapping(spnode, "specified")
+        if sm is not None:
+            check_keys(sm, SPECIFIED_KEYS, "specified")
+            temperature = pressure = adiabatic = None
+            if "temperature" in sm:
+                vn = get(sm, "temperature")
+                try:
+                    temperature = parse_quantity(value_of(vn, "specified.temperature"), "temperature")
+                    if temperature <= 0:
+                        rd.problem(vn, "specified.temperature", f"temperature must be above absolute zero, got {temperature:g} K")
+                        temperature = None
+                except ValueError as exc:
+                    rd.problem(vn, "specified.temperature", str(exc))
+            if "pressure" in sm:
+                vn = get(sm, "pressure")
+                try:
+                    pressure = parse_quantity(value_of(vn, "specified.pressure"), "pressure")
+                    if pressure <= 0:
+                        rd.problem(vn, "specified.pressure", f"pressure must be positive, got {pressure:g} Pa")
+                        pressure = None
+                except ValueError as exc:
+                    rd.problem(vn, "specified.pressure", str(exc))
+            mfs = []
+            if "mole-fractions" in sm:
+                mm = want_mapping(get(sm, "mole-fractions"), "specified.mole-fractions")
+                for ph, (kn, vn) in (mm or {}).items():
+                    inner = want_mapping(vn, f"specified.mole-fractions.{ph}")
+                    for sp, (kn2, vn2) in (inner or {}).items():
+                        kp = f"specified.mole-fractions.{ph}.{sp}"
+                        x = want_fraction(vn2, kp, "a mole fraction")
+                        if x is not None and not 0 < x < 1:
+                            rd.problem(vn2, kp, f"a specified mole fraction must lie strictly between 0 and 1, got {x:g}")
+                        elif x is not None:
+                            mfs.append(MoleFractionSpec(ph, sp, x, kp))
+            ratios = []
+            if "ratios" in sm:
+                rl = want_list(get(sm, "ratios"), "specified.ratios")
+                for i, (n, _) in enumerate(rl or []):
+                    r = _ratio(rd, n, f"specified.ratios[{i}]", value_of, want_str, want_fraction, want_mapping, check_keys)
+                    if r:
+                        ratios.append(r)
+            pfs = []
+            if "phase-fractions" in sm:
+                pm = want_mapping(get(sm, "phase-fractions"), "specified.phase-fractions")
+                for ph, (kn, vn) in (pm or {}).items():
+                    kp = f"specified.phase-fractions.{ph}"
+                    x = want_fraction(vn, kp, "a phase fraction (moles of phase / all moles)")
+                    if x is not None and not 0 < x < 1:
+                        rd.problem(vn, kp, f"a specified phase fraction must lie strictly between 0 and 1, got {x:g}")
+                    elif x is not None:
+                        pfs.append(PhaseFractionSpec(ph, x, kp))
+            if "adiabatic" in sm:
+                am = want_mapping(get(sm, "adiabatic"), "specified.adiabatic")
+                if am is not None:
+                    check_keys(am, ("feed-temperature",), "specified.adiabatic")
+                    if "feed-temperature" not in am:
+                        rd.problem(get(sm, "adiabatic"), "specified.adiabatic", "missing key 'feed-temperature'")
+                    else:
+                        vn = get(am, "feed-temperature")
+                        kp = "specified.adiabatic.feed-temperature"
+                        try:
+                            adiabatic = parse_quantity(value_of(vn, kp), "temperature")
+                            if adiabatic <= 0:
+                                rd.problem(vn, kp, "temperature must be above absolute zero")
+                                adiabatic = None
+                        except ValueError as exc:
+                            rd.problem(vn, kp, str(exc))
+            spec = Specified(temperature, pressure, tuple(mfs), tuple(ratios), tuple(pfs), adiabatic)
+
+    # restrictions
+    restrictions = []
+    rsnode = get(top, "restrictions")
+    if rsnode is not None:
+        rl = want_list(rsnode, "restrictions")
+        for i, (n, v) in enumerate(rl or []):
+            kp = f"restrictions[{i}]"
+            if not isinstance(v, _Mapping) or len(v) != 1:
+                rd.problem(n, kp, "expected one of '- ratio: {...}' or '- same-composition: [phase, phase]'")
+                continue
+            (kind, (kn, vn)), = v.items()
+            if kind == "ratio":
+                r = _ratio(rd, vn, f"{kp}.ratio", value_of, want_str, want_fraction, want_mapping, check_keys)
+                if r:
+                    restrictions.append(DeclaredRestriction("ratio", kp, ratio=r))
+            elif kind == "same-composition":
+                pl = want_list(vn, f"{kp}.same-composition")
+                names = [p for _, p in (pl or []) if isinstance(p, str)]
+                if pl is not None and (len(names) != len(pl) or len(names) < 2 or len(set(names)) != len(names)):
+                    rd.problem(vn, f"{kp}.same-composition", "expected a list of two or more different phase names")
+                elif pl is not None:
+                    restrictions.append(DeclaredRestriction("same-composition", kp, phases=tuple(names)))
+            else:
+                rd.problem(kn, f"{kp}.{kind}", f"unknown restriction {kind!r}{_suggest(kind, ('ratio', 'same-composition'))}")
+
+    # claims
+    claims = []
+    clnode = get(top, "claims")
+    if clnode is not None:
+        cm = want_mapping(clnode, "claims")
+        if cm is not None:
+            check_keys(cm, CLAIM_KEYS, "claims")
+            for key, (kn, vn) in cm.items():
+                kp = f"claims.{key}"
+                v = value_of(vn, kp)
+                if key in ("independent-reactions", "degrees-of-freedom", "components"):
+                    if isinstance(v, bool) or not isinstance(v, int):
+                        rd.problem(vn, kp, f"expected a whole number, got {v!r}")
+                        continue
+                elif key == "phases-present":
+                    if not isinstance(v, list) or not all(isinstance(p, str) for _, p in v):
+                        rd.problem(vn, kp, "expected a list of phase names")
+                        continue
+                    v = tuple(sorted(p for _, p in v))
+                elif key == "verdict":
+                    if v not in VERDICTS:
+                        rd.problem(vn, kp, f"expected one of {', '.join(VERDICTS)}, got {v!r}")
+                        continue
+                else:
+                    continue
+                claims.append((key, v))
+
+    if rd.problems:
+        raise CaseError(rd.problems)
+    return Case(path=path, title=title, system=system_spec, reactions=reactions, feed=feed,
+                coexisting=coexisting, specified=spec, restrictions=tuple(restrictions),
+                claims=tuple(claims), lines=dict(rd.lines))
+
+
+def _kind(v) -> str:
+    if isinstance(v, _Mapping):
+        return "a mapping"
+    if isinstance(v, list):
+        return "a list"
+    return repr(v)
+
+
+def _ratio(rd, node, kp, value_of, want_str, want_fraction, want_mapping, check_keys) -> RatioSpec | None:
+    m = want_mapping(node, kp)
+    if m is None:
+        return None
+    check_keys(m, RATIO_KEYS, kp)
+    missing = [k for k in RATIO_KEYS if k not in m]
+    if missing:
+        rd.problem(node, kp, f"missing key(s) {', '.join(missing)} (a ratio needs phase, numerator, denominator, value)")
+        return None
+    phase = want_str(m["phase"][1], f"{kp}.phase", "a phase name")
+    num = want_str(m["numerator"][1], f"{kp}.numerator", "a species name")
+    den = want_str(m["denominator"][1], f"{kp}.denominator", "a species name")
+    val = want_fraction(m["value"][1], f"{kp}.value", "the ratio value")
+    if val is not None and val <= 0:
+        rd.problem(m["value"][1], f"{kp}.value", f"a ratio of mole fractions must be positive, got {val:g}")
+        return None
+    if num is not None and num == den:
+        rd.problem(node, kp, "numerator and denominator are the same species")
+        return None
+    if None in (phase, num, den, val):
+        return None
+    return RatioSpec(phase, num, den, val, kp)
+
+
+# ------------------------------------------------------------------ binding to the system
+
+def build_system(case: Case):
+    """The :class:`~auditor.system.ChemicalSystem` a case describes (errors carry the case's lines)."""
+    from .system import from_mechanism, from_packaged
+    spec = case.system
+    try:
+        if spec.source == "packaged":
+            return from_packaged(dict(spec.phases))
+        names = [p for p, _ in spec.phases] or None
+        subsets = {p: s for p, s in spec.phases if s is not None}
+        return from_mechanism(spec.mechanism, names, subsets or None, with_reactions=case.reactions == "from-mechanism")
+    except InputError as exc:
+        # re-point each problem at the case file line where the offending key sits
+        problems = []
+        for p in exc.problems:
+            line = case.line(p.key_path) if p.key_path else case.line("system")
+            file = str(case.path) if spec.source == "packaged" or p.key_path.startswith("system") else p.file
+            msg = p.message if file == p.file else (p.message if spec.source == "packaged" else f"{p.file}: {p.message}")
+            problems.append(Problem(file, msg, p.key_path or "system", line))
+        raise CaseError(problems) from None
+
+
+def check_names(case: Case, system) -> None:
+    """Every species and phase the case names must exist in the system; all problems together."""
+    from .system import unknown_name_message
+    problems: list[Problem] = []
+    phases = [p.name for p in system.phases]
+    file = str(case.path)
+
+    def phase_ok(name, kp):
+        if name not in phases:
+            problems.append(Problem(file, unknown_name_message("phase", name, phases, "the system"), kp, case.line(kp)))
+            return False
+        return True
+
+    def species_ok(name, kp, phase=None):
+        hits = system.find(name)
+        if phase is not None:
+            hits = [h for h in hits if system.species[h].phase == phase]
+            known = [system.labels[i] for i in system.phase_indices(phase)]
+            where = f"phase {phase!r}"
+        else:
+            known, where = list(system.labels), "any phase"
+        if not hits:
+            problems.append(Problem(file, unknown_name_message("species", name, known, where), kp, case.line(kp)))
+        elif len(hits) > 1:
+            problems.append(Problem(file, f"species {name!r} is in several phases; write one of "
+                                    + ", ".join(system.labels[h] for h in hits), kp, case.line(kp)))
+
+    for sp, _ in case.feed or ():
+        species_ok(sp, f"feed.{sp}")
+    for i, ph in enumerate(case.coexisting or ()):
+        phase_ok(ph, f"coexisting[{i}]")
+    s = case.specified
+    for m in s.mole_fractions:
+        if phase_ok(m.phase, m.key_path):
+            species_ok(m.species, m.key_path, m.phase)
+    ratios = list(s.ratios) + [r.ratio for r in case.restrictions if r.ratio]
+    for r in ratios:
+        if phase_ok(r.phase, f"{r.key_path}.phase"):
+            species_ok(r.numerator, f"{r.key_path}.numerator", r.phase)
+            species_ok(r.denominator, f"{r.key_path}.denominator", r.phase)
+    for p in s.phase_fractions:
+        phase_ok(p.phase, p.key_path)
+    for r in case.restrictions:
+        for i, ph in enumerate(r.phases):
+            phase_ok(ph, f"{r.key_path}.same-composition[{i}]")
+        if r.kind == "same-composition" and all(ph in phases for ph in r.phases):
+            sets = {ph: sorted(system.species[k].name for k in system.phase_indices(ph)) for ph in r.phases}
+            if len({tuple(v) for v in sets.values()}) > 1:
+                problems.append(Problem(file, "same-composition needs phases with the same species; "
+                                        + "; ".join(f"{ph}: {', '.join(v)}" for ph, v in sets.items()),
+                                        f"{r.key_path}.same-composition", case.line(f"{r.key_path}.same-composition")))
+    for key, v in case.claims:
+        if key == "phases-present":
+            for ph in v:
+                phase_ok(ph, "claims.phases-present")
+    if problems:
+        raise CaseError(problems)
+
+
+def build_reactions(case: Case, system):
+    """The reaction list a case asks for, as :class:`~auditor.stoichiometry.Reaction` records."""
+    from .stoichiometry import derived_basis, from_mechanism, parse_equation
+    if case.reactions == "complete":
+        return derived_basis(system)
+    if case.reactions == "from-mechanism":
+        return from_mechanism(system)
+    problems, out = [], []
+    for eq, kp in case.reactions:
+        try:
+            out.append(parse_equation(eq, system, str(case.path), kp, case.line(kp)))
+        except InputError as exc:
+            problems.extend(exc.problems)
+    if problems:
+        raise CaseError(problems)
+    return tuple(out)
