@@ -178,7 +178,7 @@ class _Reader:
     def note(self, node, key_path: str):
         self.lines[key_path] = node.start_mark.line + 1
 
-    def plain(self, node, key_path: str, depth: int = 0):
+    def plain(self, node, key_path: str, depth: int = 0, names: bool = False):
         """Python value of a node (aliases expanded, with the node budget enforced)."""
         import yaml
         self.count += 1
@@ -192,14 +192,17 @@ class _Reader:
         if isinstance(node, yaml.MappingNode):
             out = {}
             for k, v in node.value:
-                key = self.plain(k, key_path, depth + 1)
+                # keys are names: keep the text as written (YAML 1.1 would turn NO into False)
+                key = k.value if isinstance(k, yaml.ScalarNode) else self.plain(k, key_path, depth + 1)
                 if not isinstance(key, (str, int, float)):
                     self.problem(k, key_path, "mapping keys must be plain names")
                     continue
                 out[str(key)] = (k, v)
             return _Mapping(out)
         if isinstance(node, yaml.SequenceNode):
-            return [(v, self.plain(v, f"{key_path}[{i}]", depth + 1)) for i, v in enumerate(node.value)]
+            return [(v, self.plain(v, f"{key_path}[{i}]", depth + 1, names)) for i, v in enumerate(node.value)]
+        if names and isinstance(node, yaml.ScalarNode) and node.style is None and node.tag.endswith(":bool"):
+            return node.value  # a species called NO, not the YAML 1.1 boolean
         return _scalar_loader().construct_object(node)
 
 
@@ -369,7 +372,7 @@ def load_case(path: str | Path) -> Case:
                 elif isinstance(pv, _Mapping):
                     for name, (kn, vn) in pv.items():
                         kp = f"system.phases.{name}"
-                        v = value_of(vn, kp)
+                        v = rd.plain(vn, kp, names=True)
                         if v == "all" and source == "mechanism":
                             phases.append((name, None))
                         elif isinstance(v, list) and v:
@@ -694,17 +697,29 @@ def check_names(case: Case, system) -> None:
         for i, ph in enumerate(r.phases):
             phase_ok(ph, f"{r.key_path}.same-composition[{i}]")
         if r.kind == "same-composition" and all(ph in phases for ph in r.phases):
-            sets = {ph: sorted(system.species[k].name for k in system.phase_indices(ph)) for ph in r.phases}
-            if len({tuple(v) for v in sets.values()}) > 1:
-                problems.append(Problem(file, "same-composition needs phases with the same species; "
-                                        + "; ".join(f"{ph}: {', '.join(v)}" for ph, v in sets.items()),
-                                        f"{r.key_path}.same-composition", case.line(f"{r.key_path}.same-composition")))
+            sets = {ph: sorted(_formula_key(system.species[k]) for k in system.phase_indices(ph)) for ph in r.phases}
+            if len({tuple(v) for v in sets.values()}) > 1 or any(len(set(v)) != len(v) for v in sets.values()):
+                listing = "; ".join(f"{ph}: {', '.join(system.labels[k] for k in system.phase_indices(ph))}"
+                                    for ph in r.phases)
+                problems.append(Problem(file, "same-composition needs phases whose species match one to one by "
+                                        f"formula; {listing}", f"{r.key_path}.same-composition",
+                                        case.line(f"{r.key_path}.same-composition")))
     for key, v in case.claims:
         if key == "phases-present":
             for ph in v:
                 phase_ok(ph, "claims.phases-present")
     if problems:
         raise CaseError(problems)
+
+
+def _formula_key(species) -> tuple:
+    return (tuple(sorted(species.formula.items())), species.charge)
+
+
+def matching_species(system, first: str, other: str) -> list[tuple[int, int]]:
+    """Pairs (k in first, k in other) of the same substance, matched by formula and charge."""
+    by_key = {_formula_key(system.species[k]): k for k in system.phase_indices(other)}
+    return [(k, by_key[_formula_key(system.species[k])]) for k in system.phase_indices(first)]
 
 
 def build_reactions(case: Case, system):

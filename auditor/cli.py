@@ -26,6 +26,14 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument("--version", action="version", version=f"auditor {__version__}")
     p.add_argument("--debug", action="store_true", help="show a traceback on errors")
     sub = p.add_subparsers(dest="command", metavar="COMMAND")
+    c = sub.add_parser("check", help="audit case files (default: the packaged demo case)",
+                       epilog=EPILOG_CHECK, formatter_class=argparse.RawDescriptionHelpFormatter)
+    c.add_argument("cases", nargs="*", metavar="CASE", help="case file(s) in YAML")
+    c.add_argument("--json", action="store_true", help="print the audit as JSON")
+    c.add_argument("--explain", action="store_true", help="print each verdict rule as it was applied")
+    c.add_argument("--quiet", action="store_true", help="no output for a single case; exit status only")
+    c.add_argument("--no-confirm", action="store_true", help="skip the Gibbs minimisation (counting only)")
+    c.add_argument("--debug", action="store_true", help=argparse.SUPPRESS)
     r = sub.add_parser("reactions", help="stoichiometric analysis of a mechanism's own reactions",
                        epilog=EPILOG_REACTIONS, formatter_class=argparse.RawDescriptionHelpFormatter)
     r.add_argument("mechanism", metavar="MECHANISM", help="Cantera-format YAML file")
@@ -35,6 +43,43 @@ def _parser() -> argparse.ArgumentParser:
                    help="list at most N items per section in the text output (default 50; 0 = all)")
     r.add_argument("--debug", action="store_true", help=argparse.SUPPRESS)
     return p
+
+
+EPILOG_CHECK = """examples:
+  auditor check                      audit the packaged demo case
+  auditor check cases/*.yaml         one summary line per case, worst exit status
+  auditor check my_case.yaml --json  one JSON document (a list for several cases)
+exit status: 0 well posed and every claim holds, 1 the audit found a problem,
+2 an input could not be read or is invalid."""
+
+
+def _cmd_check(args) -> int:
+    from importlib import resources
+    from .audit import audit_file
+    from .report.document import check_document
+    from .report.terminal import audit_text, summary_line
+    paths = args.cases or [str(resources.files("auditor") / "data" / "default_case.yaml")]
+    results, docs, status = [], [], EXIT_OK
+    for path in paths:
+        try:
+            result = audit_file(path, confirm=not args.no_confirm)
+        except InputError as exc:
+            if args.debug:
+                raise
+            print(f"auditor: error: {exc}", file=sys.stderr)
+            status = max(status, EXIT_INPUT)
+            continue
+        results.append(result)
+        status = max(status, result.exit_status)
+    if args.json:
+        docs = [check_document(r) for r in results]
+        print(json.dumps(docs[0] if len(paths) == 1 and docs else docs, indent=1))
+    elif len(paths) == 1 and results and not args.quiet:
+        sys.stdout.write(audit_text(results[0], explain=args.explain))
+    elif not args.quiet or len(paths) > 1:
+        for r in results:
+            print(summary_line(r))
+    return status
 
 
 def _resolve_mechanism(name: str) -> str:
@@ -70,7 +115,7 @@ def main(argv: list[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return EXIT_INPUT
-    handler = {"reactions": _cmd_reactions}[args.command]
+    handler = {"check": _cmd_check, "reactions": _cmd_reactions}[args.command]
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")

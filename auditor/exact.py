@@ -237,6 +237,36 @@ class RowEchelon:
         return out
 
 
+def eliminate_columns(rows: Sequence[Mapping[int, Number]], columns: Iterable[int]) -> list[SparseVector]:
+    """Independent rows spanning ``span(rows) ∩ {v : v_c = 0 for c in columns}``.
+
+    ``rows`` must be linearly independent.  For each column in turn one row holding it
+    becomes the pivot and leaves the set, after clearing that column from the others;
+    what remains is zero on every listed column (dimension = rank - rank of the
+    projection onto those columns).
+    """
+    remaining = [dict(r) for r in rows]
+    for c in columns:
+        holders = [i for i, r in enumerate(remaining) if r.get(c, 0) != 0]
+        if not holders:
+            continue
+        pi = min(holders, key=lambda i: (len(remaining[i]), i))
+        pivot = remaining[pi]
+        for i in holders:
+            if i == pi:
+                continue
+            r = remaining[i]
+            f = Fraction(r[c]) / pivot[c]
+            for k, x in pivot.items():
+                y = r.get(k, 0) - f * x
+                if y:
+                    r[k] = _norm(y)
+                else:
+                    r.pop(k, None)
+        del remaining[pi]
+    return remaining
+
+
 def _sparse_rows(matrix: Sequence[Sequence[Number]]) -> list[SparseVector]:
     return [{j: x for j, x in enumerate(row) if x != 0} for row in matrix]
 

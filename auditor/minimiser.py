@@ -450,7 +450,8 @@ def minimise_gibbs(A, g, phase_of, solution, b, *, tol=1e-12, max_iter=500) -> M
         _, _, _, xs_ = dual.eval(nu_)
         nf = np.zeros(free.size)
         for i, amt in sol_amounts.items():
-            nf[groups[i]] = amt * xs_[i]
+            # mole fractions below 1e-300 (subnormal range: ln x inaccurate) -> 0
+            nf[groups[i]] = amt * np.where(xs_[i] < 1e-300, 0.0, xs_[i])
         for j, amt in pure_amounts.items():
             nf[pure[j]] = amt
         n = np.zeros(N)
@@ -484,11 +485,28 @@ def minimise_gibbs(A, g, phase_of, solution, b, *, tol=1e-12, max_iter=500) -> M
         pure_act = [j for j in range(len(pure)) if present[ns + j]]
         lnN = np.log(np.maximum(amounts[sol_act], _MIN_PHASE_AMOUNT * 1e3))
         npure = amounts[[ns + j for j in pure_act]]
+        budget = min(60, max_iter - it_p)
+        if budget <= 0:
+            return fallback("iteration limit reached in Newton polish; barrier estimate returned", it_p)
         status, nu_n, lnN, npure, its = _kkt_newton(dual, c, nu, sol_act, lnN, pure_act, npure,
-                                                    tol, max(max_iter - it_p, 1))
+                                                    tol, budget)
         it_p += its
         if status == "fail":
-            return fallback("Newton polish did not converge; barrier estimate returned", it_p)
+            # Usually a wrong active set (no solution with these phases): if an
+            # absent phase is unstable at the last iterate, add it and go on.
+            if not np.all(np.isfinite(nu_n)):
+                return fallback("Newton polish diverged; barrier estimate returned", it_p)
+            viol = np.where(present, -np.inf, dual.h(nu_n))
+            if viol.max() <= _STABILITY_TOL:
+                return fallback("Newton polish did not converge; barrier estimate returned", it_p)
+            k = int(np.argmax(viol))
+            nu = nu_n
+            amounts = np.zeros(m)
+            amounts[sol_act] = np.exp(lnN)
+            amounts[[ns + j for j in pure_act]] = npure
+            present[k] = True
+            amounts[k] = 1e-6 if k < ns else 0.0
+            continue
         nu = nu_n
         amounts = np.zeros(m)
         amounts[sol_act] = np.exp(lnN)

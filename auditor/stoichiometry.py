@@ -316,3 +316,20 @@ def analyse(system: ChemicalSystem, reactions: Sequence[Reaction]) -> ReactionAn
         independent=tuple(basis_reaction), dependent=tuple(dependent), duplicates=duplicates,
         unbalanced=tuple(unbalanced), no_net_change=tuple(no_net), complete=complete,
         frozen=tuple(frozen), derived_basis=basis, conserved=tuple(conserved))
+
+
+def basis_within(reactions: Sequence[Reaction], n_species: int, present: Sequence[int]) -> tuple[dict[int, int], ...]:
+    """A basis of the reactions among ``present`` species that the list can produce.
+
+    That space is ``span(nu) ∩ {v : v_k = 0 for every absent k}``: combinations that
+    cancel an absent species count.  Its dimension is ``rank(nu)`` minus the rank of
+    ``nu`` restricted to the absent columns.
+    """
+    ech = exact.RowEchelon(track=False)
+    for r in reactions:
+        if r.stoich:
+            ech.add(dict(r.stoich))
+    present_set = set(present)
+    absent = [k for k in range(n_species) if k not in present_set]
+    rows = exact.eliminate_columns(ech.basis_rows(), absent)
+    return tuple(exact.primitive(r) for r in rows)

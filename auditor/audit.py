@@ -1,0 +1,144 @@
+"""Runs the stages in order, collects findings and decides the verdict (design §2, §3)."""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from . import case as case_mod
+from .case import Case
+from .exact import format_fraction
+from .findings import Finding
+from .phase_rule import PhaseRuleCount, count as count_phase_rule
+from .stoichiometry import ReactionAnalysis, analyse
+from .structure import SpecificationAudit, audit as audit_specification
+from .system import ChemicalSystem
+
+VERDICT_ORDER = ("well-posed", "under-specified", "over-specified", "not-confirmed", "inconsistent")
+
+
+@dataclass(frozen=True)
+class ClaimCheck:
+    name: str
+    claimed: Any
+    found: Any
+    held: bool | None          # None: could not be checked
+
+
+@dataclass(frozen=True)
+class AuditResult:
+    case: Case
+    system: ChemicalSystem
+    reactions: ReactionAnalysis
+    phase_rule: PhaseRuleCount
+    specification: SpecificationAudit
+    equilibrium: Any             # EquilibriumCheck or None
+    claims: tuple[ClaimCheck, ...]
+    findings: tuple[Finding, ...]
+    verdict: str
+
+    @property
+    def exit_status(self) -> int:
+        return 0 if self.verdict == "well-posed" and all(c.held is not False for c in self.claims) else 1
+
+
+def _reaction_findings(a: ReactionAnalysis) -> list[Finding]:
+    out = []
+    for u in a.unbalanced:
+        imb = ", ".join(f"{e} {'+' if v > 0 else ''}{format_fraction(v)}" for e, v in u.imbalance)
+        out.append(Finding("error", "reactions", f"reaction #{u.index} '{a.reactions[u.index].equation}' does not "
+                           f"balance (products - reactants: {imb})", tuple(e for e, _ in u.imbalance)))
+    dup = {i for g in a.duplicates for i, _ in g.members}
+    for d in a.dependent:
+        if d.index in dup:
+            continue
+        combo = " ".join(f"{'+' if c > 0 else '-'} {format_fraction(abs(c))} x #{j}" for j, c in d.combination)
+        out.append(Finding("note", "reactions", f"reaction #{d.index} '{a.reactions[d.index].equation}' is "
+                           f"redundant: it equals {combo.lstrip('+ ')}"))
+    for g in a.duplicates:
+        out.append(Finding("note", "reactions", f"reactions {', '.join('#' + str(i) for i, _ in g.members)} repeat the "
+                           f"net change of #{g.representative} '{a.reactions[g.representative].equation}'"))
+    if a.frozen:
+        extra = [c.name for c in a.conserved if not c.is_element]
+        out.append(Finding("warning", "reactions", f"the listed reactions are incomplete: {len(a.frozen)} composition "
+                           f"direction(s) are frozen ({'; '.join(r.equation for r in a.frozen)}); extra conserved "
+                           f"quantities: {'; '.join(extra)}"))
+    return out
+
+
+def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) -> AuditResult:
+    """Audit one validated case (its system may be passed in when already built)."""
+    if system is None:
+        system = case_mod.build_system(case)
+    case_mod.check_names(case, system)
+    reactions = case_mod.build_reactions(case, system)
+    analysis = analyse(system, reactions)
+    count = count_phase_rule(case, system, reactions, analysis)
+    spec = audit_specification(case, system, count)
+    findings = _reaction_findings(analysis)
+    F = count.degrees_of_freedom
+    if F < 0:
+        findings.append(Finding("error", "phase-rule", f"F = {F} < 0: the phases assumed to coexist "
+                                f"({', '.join(count.coexisting)}) cannot coexist at equilibrium with these "
+                                "reactions and restrictions", count.coexisting))
+    for rel in count.double_counted:
+        findings.append(Finding("warning", "phase-rule", f"declared restriction '{rel.text}' ({rel.key_path}) is "
+                                "already implied by the feed: counted once, not twice", (rel.key_path,)))
+    for rel in count.relations:
+        if rel.origin == "feed":
+            findings.append(Finding("note", "phase-rule", f"the feed imposes {rel.text}", (rel.phase,)))
+    if spec.status != "well-posed":
+        findings.append(Finding("error", "specification", f"{spec.status}: {spec.reasons[-1] if len(spec.reasons) > 1 else spec.reasons[0]}"
+                                + (f"; {spec.suggestion}" if spec.suggestion else ""),
+                                spec.conflicting or spec.free))
+    if spec.conflicting and spec.status == "over-specified":
+        findings.append(Finding("error", "specification", "conflicting specifications: " + "; ".join(spec.conflicting),
+                                spec.conflicting))
+
+    equilibrium = None
+    if confirm and case.feed is not None:
+        from .equilibrium import confirm as confirm_equilibrium
+        equilibrium = confirm_equilibrium(case, system, analysis, count, spec)
+        findings.extend(equilibrium.findings)
+
+    # verdict before claims
+    verdict = spec.status
+    if analysis.unbalanced or F < 0:
+        verdict = "inconsistent"
+    elif verdict == "well-posed" and equilibrium is not None and not equilibrium.confirmed:
+        verdict = "not-confirmed"
+
+    checks = []
+    for name, claimed in case.claims:
+        found: Any
+        if name == "independent-reactions":
+            found = count.independent_reactions
+        elif name == "degrees-of-freedom":
+            found = F
+        elif name == "components":
+            found = count.components
+        elif name == "phases-present":
+            found = tuple(sorted(equilibrium.phases_present)) if equilibrium is not None and equilibrium.solved else None
+        else:
+            found = verdict
+        held = None if found is None else found == claimed
+        checks.append(ClaimCheck(name, claimed, found, held))
+        if held is False:
+            findings.append(Finding("error", "claims", f"claim {name} = {_show(claimed)} is refuted: the audit finds "
+                                    f"{_show(found)}", (name,)))
+        elif held is None:
+            findings.append(Finding("warning", "claims", f"claim {name} = {_show(claimed)} could not be checked "
+                                    "(no equilibrium was computed)", (name,)))
+    if any(c.held is False for c in checks):
+        verdict = "inconsistent"
+    return AuditResult(case, system, analysis, count, spec, equilibrium, tuple(checks), tuple(findings), verdict)
+
+
+def _show(v) -> str:
+    if isinstance(v, tuple):
+        return "[" + ", ".join(map(str, v)) + "]"
+    return str(v)
+
+
+def audit_file(path: str | Path, confirm: bool = True) -> AuditResult:
+    return run(case_mod.load_case(path), confirm=confirm)

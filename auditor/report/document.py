@@ -1,0 +1,88 @@
+"""The JSON document of ``check --json`` (design §4). Other renderers follow its content."""
+from __future__ import annotations
+
+from .. import __version__
+from ..audit import AuditResult
+from ..exact import format_fraction
+from ..settings import TOLERANCES
+
+SCHEMA = 1
+
+CAUTIONS = (
+    "Equilibrium says where a system would go, not how fast or how violently: this audit is no "
+    "substitute for kinetic, hazard (HAZOP, LOPA) or relief analysis.",
+    "Many species here are toxic, flammable or asphyxiant (e.g. CO, H2, CH4, NH3, HCl); handle "
+    "them under your site's safety rules.",
+    "Thermodynamic data are valid only inside their stated temperature ranges; results outside "
+    "them are extrapolations.",
+    "Follow local codes and standards and licensed engineering practice; this tool does not replace them.",
+)
+
+
+def _claim_value(v):
+    return list(v) if isinstance(v, tuple) else v
+
+
+def check_document(r: AuditResult) -> dict:
+    a, pr, sp = r.reactions, r.phase_rule, r.specification
+    eqs = [x.equation for x in a.reactions]
+    doc = {
+        "schema": SCHEMA,
+        "case": str(r.case.path),
+        "title": r.case.title,
+        "verdict": r.verdict,
+        "phase_rule": {
+            "species": pr.n_species,
+            "phases": pr.n_phases,
+            "independent_reactions": pr.independent_reactions,
+            "restrictions": pr.restrictions,
+            "degrees_of_freedom": pr.degrees_of_freedom,
+            # additive fields
+            "components": pr.components,
+            "restrictions_from_feed": pr.r_feed,
+            "restrictions_declared": pr.r_declared,
+            "coexisting": list(pr.coexisting),
+            "relations": [{"origin": x.origin, "relation": x.text} for x in pr.relations],
+            "double_counted": [x.text for x in pr.double_counted],
+            "reactions_among_present_species": [x.equation for x in pr.reactions_present],
+            "explanation": pr.explanation(),
+        },
+        "reactions": {
+            "rank": a.rank,
+            "independent": [eqs[i] for i in a.independent],
+            "complete": a.complete,
+            "dependent": [{"equation": eqs[d.index],
+                           "combination": [{"equation": eqs[j], "coefficient": format_fraction(c)}
+                                           for j, c in d.combination]} for d in a.dependent],
+            "unbalanced": [{"equation": eqs[u.index], "imbalance": {e: format_fraction(v) for e, v in u.imbalance}}
+                           for u in a.unbalanced],
+            # additive fields
+            "formula_rank": a.formula_rank,
+            "max_independent": a.max_independent,
+            "frozen_directions": [x.equation for x in a.frozen],
+            "conserved_quantities": [c.name for c in a.conserved],
+        },
+        "specification": {
+            "intensive": len(sp.intensive),
+            "extensive": len(sp.extensive),
+            "free": list(sp.free),
+            "conflicting": list(sp.conflicting),
+            # additive fields
+            "intensive_names": list(sp.intensive),
+            "extensive_names": list(sp.extensive),
+            "status": sp.status,
+            "rules_applied": list(sp.reasons),
+            "suggestion": sp.suggestion,
+            "structural_rank": sp.decomposition.structural_rank,
+            "variables": len(sp.variables),
+            "equations": len(sp.equations),
+        },
+        "equilibrium": r.equilibrium.document() if r.equilibrium is not None else None,
+        "claims": [{"claim": c.name, "claimed": _claim_value(c.claimed), "found": _claim_value(c.found),
+                    "held": c.held} for c in r.claims],
+        "findings": [{"severity": f.severity, "topic": f.topic, "message": f.message} for f in r.findings],
+        "tolerances": dict(TOLERANCES),
+        "tool": {"name": "auditor", "version": __version__},
+        "cautions": list(CAUTIONS),
+    }
+    return doc

@@ -1,0 +1,59 @@
+"""Compact human-readable audit for the terminal."""
+from __future__ import annotations
+
+import textwrap
+
+from ..audit import AuditResult
+from .document import CAUTIONS
+
+WIDTH = 100
+
+
+def _wrap(text: str, indent: str = "  ") -> list[str]:
+    return textwrap.wrap(text, WIDTH, initial_indent=indent, subsequent_indent=indent + "  ") or [indent]
+
+
+def audit_text(r: AuditResult, explain: bool = False) -> str:
+    pr, sp, a = r.phase_rule, r.specification, r.reactions
+    out = [f"{r.case.title}  ({r.case.path})", f"Verdict: {r.verdict.upper()}", ""]
+    out.append("Phase rule over the phases assumed to coexist:")
+    rows = [("N  phase-species", pr.n_species), ("pi phases", pr.n_phases),
+            ("m  independent reactions", pr.independent_reactions),
+            ("r  restrictions (feed + electroneutrality, declared)", f"{pr.restrictions} ({pr.r_feed} + {pr.r_declared})"),
+            ("C  components = N - m - r", pr.components), ("F  degrees of freedom = 2 + C - pi", pr.degrees_of_freedom)]
+    w = max(len(x) for x, _ in rows)
+    out += [f"  {name:<{w}}  {val}" for name, val in rows]
+    if explain:
+        out += ["", "How the count was made:"] + [f"  {line}" for line in pr.explanation()]
+    out += ["", f"Reactions: rank {a.rank} of {len(a.reactions)} listed; "
+            + ("complete" if a.complete else "incomplete" if not a.unbalanced else "unbalanced reactions present")]
+    for x in pr.reactions_present:
+        out.append(f"  {x.equation}")
+    out += ["", f"Specifications: {len(sp.intensive)} intensive ({', '.join(sp.intensive) or 'none'}), "
+            f"{len(sp.extensive)} extensive ({', '.join(sp.extensive) or 'none'})"]
+    if explain:
+        out += ["Verdict rules as applied:"] + [l for reason in sp.reasons for l in _wrap(reason)]
+    if sp.free:
+        out += _wrap("free in the intensive problem: " + ", ".join(sp.free))
+    if sp.conflicting:
+        out += _wrap("conflicting: " + "; ".join(sp.conflicting))
+    if sp.suggestion:
+        out += _wrap("suggested fix: " + sp.suggestion)
+    if r.equilibrium is not None:
+        out += [""] + r.equilibrium.summary_lines()
+    if r.claims:
+        out += ["", "Claims:"]
+        for c in r.claims:
+            state = "held" if c.held else "REFUTED" if c.held is False else "not checked"
+            out.append(f"  {c.name}: claimed {c.claimed}, found {c.found} -> {state}")
+    if r.findings:
+        out += ["", "Findings:"]
+        for f in r.findings:
+            out += _wrap(f"[{f.severity}] {f.topic}: {f.message}")
+    out += ["", "Cautions:"] + [l for c in CAUTIONS for l in _wrap(c)]
+    return "\n".join(out) + "\n"
+
+
+def summary_line(r: AuditResult) -> str:
+    pr = r.phase_rule
+    return f"{r.verdict:<16} F={pr.degrees_of_freedom:<3} m={pr.independent_reactions:<3} {r.case.path}"
