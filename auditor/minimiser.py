@@ -74,6 +74,8 @@ _ABSENT_MARGIN = 100.0
 _STABILITY_TOL = 1e-10
 # A present solution phase whose scaled amount falls below this is removed.
 _MIN_PHASE_AMOUNT = 1e-40
+# Pure-phase amounts in [-_ZERO_AMOUNT, 0] (scaled feed) are rounding noise: reported as 0.
+_ZERO_AMOUNT = 1e-13
 
 
 @dataclass(frozen=True)
@@ -221,6 +223,7 @@ def _kkt_newton(dual, c, nu, sol_act, lnN, pure_act, npure, tol, max_iter):
     npure = np.array(npure, dtype=float)
     F, h, G, covs = residual(nu, lnN, npure)
     norm = np.abs(F).max()
+    prev_sr = np.inf
     for it in range(1, max_iter + 1):
         H = np.zeros((r, r))
         for a, i in enumerate(sol_act):
@@ -257,8 +260,15 @@ def _kkt_newton(dual, c, nu, sol_act, lnN, pure_act, npure, tol, max_iter):
             size[r + a] += zabs[dual.groups[i]].max()
         for a, j in enumerate(pure_act):
             size[r + ka + a] += zabs[dual.pure[j]]
-        if np.all(np.abs(F) <= tol * size):
+        sr = float(np.max(np.abs(F) / size))
+        if sr <= tol:
             return "ok", nu, lnN, npure, it
+        # Rounding floor: amounts carry the relative error of exp(z) with |z| up to
+        # max zabs, so with huge g the residual may stall just above tol; accept a
+        # stalled Newton step (no halving of the residual) within 1e4 tol.
+        if sr <= 1e4 * tol and sr > 0.5 * prev_sr:
+            return "ok", nu, lnN, npure, it
+        prev_sr = sr
     return "fail", nu, lnN, npure, max_iter
 
 
@@ -453,7 +463,7 @@ def minimise_gibbs(A, g, phase_of, solution, b, *, tol=1e-12, max_iter=500) -> M
             # mole fractions below 1e-300 (subnormal range: ln x inaccurate) -> 0
             nf[groups[i]] = amt * np.where(xs_[i] < 1e-300, 0.0, xs_[i])
         for j, amt in pure_amounts.items():
-            nf[pure[j]] = amt
+            nf[pure[j]] = max(amt, 0.0)
         n = np.zeros(N)
         n[free] = nf * scale
         return n
@@ -514,7 +524,10 @@ def minimise_gibbs(A, g, phase_of, solution, b, *, tol=1e-12, max_iter=500) -> M
         if status.startswith("collapse"):
             present[sol_act[int(status.split(":")[1])]] = False
             continue
-        if len(pure_act) and npure.min() < 0:  # remove the most negative pure phase
+        # Remove the most negative pure phase.  Amounts within rounding of zero
+        # (|n| <= _ZERO_AMOUNT of the scaled feed) are kept in the set and reported
+        # as 0, so that marginal phases cannot make the active set cycle.
+        if len(pure_act) and npure.min() < -_ZERO_AMOUNT:
             present[ns + pure_act[int(np.argmin(npure))]] = False
             continue
         hh = dual.h(nu)
@@ -526,7 +539,8 @@ def minimise_gibbs(A, g, phase_of, solution, b, *, tol=1e-12, max_iter=500) -> M
             continue
         n = assemble(nu, {i: amounts[i] for i in sol_act}, {j: amounts[ns + j] for j in pure_act})
         lam, amsg = potentials(nu)
-        msg = (f"converged: {int(present.sum())} of {m} phases present; "
+        n_present = int(np.count_nonzero(np.bincount(phase_of, weights=n, minlength=P) > 0))
+        msg = (f"converged: {n_present} of {P} phases present; "
                f"{it_b} barrier + {it_p} Newton iterations")
         if pre_msg:
             msg += f"; note: {pre_msg}"

@@ -1,0 +1,769 @@
+"""Gibbs-energy minimisation at the specified state, and a certificate of optimality.
+
+Method: minimise G over the phase-species subject to the conserved quantities
+(W. R. Smith and R. W. Missen, *Chemical Reaction Equilibrium Analysis*, 1982, ch. 6-7),
+with cantera's multiphase solver (``vcs``; D. G. Goodwin et al., Cantera, www.cantera.org)
+when the reaction list is complete, and with the element-potential minimiser of
+:mod:`auditor.minimiser` holding the extra conserved quantities fixed when it is not.
+Specifications other than temperature and pressure are met by a bracketed scalar solve
+(``scipy.optimize.brentq``) on T or P around the T,P minimisation.
+
+The answer is not trusted: a certificate is checked instead.
+* balance: ``|W n - W n0| / |W n0|`` for every conserved quantity;
+* element potentials ``lambda`` fitted to ``mu_k / RT = A_k . lambda`` over present
+  species, and the largest residual;
+* the largest affinity, in RT, of any independent reaction among present species;
+* the driving force to form each absent phase, maximised over the element potentials
+  that the present species leave undetermined (rank-deficient present formula matrix,
+  elements of zero abundance), so that non-uniqueness raises no false alarm;
+* the same state from several starting estimates (``unique``);
+* present phases against those assumed; temperature inside each present species' data;
+* ``ln K`` of every dependent reaction equal to the combination of the independent ones;
+* for structurally square cases, the Jacobian of the specification audit's equations
+  at the solution has full numerical rank.
+"""
+from __future__ import annotations
+
+import functools
+import math
+import time
+import warnings
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Sequence
+
+import numpy as np
+
+from . import settings
+from .case import Case
+from .findings import Finding
+from .phase_rule import PhaseRuleCount
+from .stoichiometry import ReactionAnalysis, basis_within
+from .structure import SpecificationAudit
+from .system import CONDENSED_DATABASE, GAS_DATABASE, ChemicalSystem, packaged_species
+
+R = 8.314462618  # J/(mol K), CODATA 2018 (exact since the 2019 SI)
+
+
+# ------------------------------------------------------------------ densities
+
+@functools.lru_cache(maxsize=1)
+def density_table() -> dict[str, tuple[float, str]]:
+    """Densities (kg/m3) of condensed species of the packaged database, with their source."""
+    import yaml
+    from importlib import resources
+    data = yaml.safe_load((resources.files("auditor") / "data" / "densities.yaml").read_text(encoding="utf-8"))
+    return {name: (float(entry["density"]), str(entry["source"])) for name, entry in data["densities"].items()}
+
+
+DEFAULT_DENSITY = 2000.0  # kg/m3: a typical inorganic solid; only the P*V term uses it
+
+
+# ------------------------------------------------------------------ results
+
+@dataclass(frozen=True)
+class PhaseState:
+    name: str
+    moles: float
+    mole_fractions: tuple[tuple[str, float], ...]
+
+
+@dataclass(frozen=True)
+class EquilibriumCheck:
+    solved: bool
+    converged: bool
+    solver: str
+    temperature_K: float | None
+    pressure_Pa: float | None
+    phases: tuple[PhaseState, ...]
+    phases_present: tuple[str, ...]
+    max_affinity_RT: float | None
+    element_balance_error: float | None
+    potential_residual_RT: float | None
+    absent_phase_driving_force: tuple[tuple[str, float], ...]   # phase -> min driving force, RT
+    unique: bool | None
+    starts: int
+    lnK_additivity_error: float | None
+    jacobian_rcond: float | None
+    assumed_densities: tuple[tuple[str, float, str], ...]
+    findings: tuple[Finding, ...]
+    confirmed: bool
+    seconds: float = 0.0
+    element_potentials: tuple[tuple[str, float], ...] = ()
+
+    def document(self) -> dict:
+        return {
+            "converged": self.converged,
+            "temperature_K": self.temperature_K,
+            "pressure_Pa": self.pressure_Pa,
+            "phases_present": list(self.phases_present),
+            "phases": [{"name": p.name, "moles": p.moles, "mole_fractions": dict(p.mole_fractions)} for p in self.phases],
+            "max_affinity_RT": self.max_affinity_RT,
+            "element_balance_error": self.element_balance_error,
+            "unique": self.unique,
+            # additive fields
+            "solved": self.solved,
+            "confirmed": self.confirmed,
+            "solver": self.solver,
+            "starts": self.starts,
+            "potential_residual_RT": self.potential_residual_RT,
+            "absent_phase_driving_force_RT": dict(self.absent_phase_driving_force),
+            "lnK_additivity_error": self.lnK_additivity_error,
+            "jacobian_rcond": self.jacobian_rcond,
+            "element_potentials_RT": dict(self.element_potentials),
+            "assumed_densities": [{"species": s, "density_kg_m3": d, "source": src}
+                                  for s, d, src in self.assumed_densities],
+        }
+
+    def summary_lines(self) -> list[str]:
+        if not self.solved:
+            return ["Gibbs minimisation: not solved"] + [f"  {f.message}" for f in self.findings if f.topic == "equilibrium"][:3]
+        out = [f"Gibbs minimisation ({self.solver}) at T = {self.temperature_K:.2f} K, P = {self.pressure_Pa:.6g} Pa: "
+               + ("CONFIRMED" if self.confirmed else "NOT CONFIRMED")]
+        for p in self.phases:
+            if p.moles <= 0:
+                continue
+            major = sorted(p.mole_fractions, key=lambda kv: -kv[1])[:8]
+            out.append(f"  {p.name}: {p.moles:.6g} mol; " + ", ".join(f"{k} {v:.4g}" for k, v in major))
+        absent = ", ".join(f"{n} {d:+.3g}" for n, d in self.absent_phase_driving_force)
+        out.append(f"  certificate: balance error {self.element_balance_error:.2e}, max affinity "
+                   f"{_fmt(self.max_affinity_RT)} RT, potential residual {_fmt(self.potential_residual_RT)} RT, "
+                   f"unique {self.unique} ({self.starts} starts)")
+        if absent:
+            out.append(f"  driving force to form absent phases (RT, must be >= 0): {absent}")
+        if self.jacobian_rcond is not None:
+            out.append(f"  Jacobian smallest/largest singular value: {self.jacobian_rcond:.3e}")
+        return out
+
+
+def _fmt(x):
+    return "n/a" if x is None else f"{x:.2e}"
+
+
+# ------------------------------------------------------------------ building cantera phases
+
+def _plain(obj):
+    """cantera's input data as plain Python containers (for YAML output)."""
+    from collections.abc import Mapping
+    if isinstance(obj, Mapping):
+        return {str(k): _plain(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_plain(v) for v in obj]
+    if isinstance(obj, (np.floating, np.integer)):
+        return obj.item()
+    if isinstance(obj, np.ndarray):
+        return [_plain(v) for v in obj.tolist()]
+    return obj
+
+
+class _Model:
+    """Cantera objects for a system, built once and reused for every state."""
+
+    def __init__(self, system: ChemicalSystem):
+        import cantera as ct
+        self.ct = ct
+        self.system = system
+        self.assumed: list[tuple[str, float, str]] = []
+        self.problems: list[str] = []
+        self.phases: list = []          # cantera phases, in system order
+        self.usable: list[bool] = []
+        if system.source == "packaged":
+            self._packaged()
+        else:
+            self._mechanism()
+
+    def _species_entry(self, sp_def, condensed: bool) -> dict:
+        base = packaged_species(CONDENSED_DATABASE if condensed else GAS_DATABASE)[sp_def.name]
+        entry = _plain(base.input_data)
+        if condensed:
+            if sp_def.name in density_table():
+                rho, src = density_table()[sp_def.name]
+            else:
+                rho, src = DEFAULT_DENSITY, "default (no tabulated value; only the P*V term uses it)"
+            self.assumed.append((sp_def.label, rho, src))
+            entry["equation-of-state"] = {"model": "constant-volume", "density": f"{rho} kg/m^3"}
+        return entry
+
+    def _packaged(self):
+        import yaml
+        ct = self.ct
+        for ph in self.system.phases:
+            sps = [s for s in self.system.species if s.phase == ph.name]
+            entries = [self._species_entry(s, not ph.is_gas) for s in sps]
+            thermo = {"ideal-gas": "ideal-gas", "fixed-stoichiometry": "fixed-stoichiometry"}.get(ph.model, "ideal-condensed")
+            phase = {"name": ph.name, "thermo": thermo, "species": [e["name"] for e in entries],
+                     "state": {"T": 300.0, "P": 101325.0}}
+            if thermo == "ideal-condensed":
+                phase["standard-concentration-basis"] = "unity"
+            text = yaml.safe_dump({"phases": [phase], "species": entries}, sort_keys=False)
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                self.phases.append(ct.Solution(yaml=text, name=ph.name))
+            self.usable.append(True)
+
+    def _mechanism(self):
+        ct = self.ct
+        for ph in self.system.phases:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                sol = ct.Solution(self.system.source, ph.name)
+            names = [s.name for s in self.system.species if s.phase == ph.name]
+            ok = sol.thermo_model not in ("pure-fluid", "liquid-water-IAPWS95", "ideal-surface", "edge",
+                                          "coverage-dependent-surface", "electron-cloud")
+            if ok and names != list(sol.species_names):
+                if sol.thermo_model == "ideal-gas":
+                    keep = [sol.species(n) for n in names]
+                    sol = ct.Solution(thermo="ideal-gas", species=keep)
+                else:
+                    ok = False
+                    self.problems.append(f"phase {ph.name}: a species subset of a {sol.thermo_model} phase cannot be minimised")
+            if not ok and sol.thermo_model in ("pure-fluid", "liquid-water-IAPWS95"):
+                self.problems.append(f"phase {ph.name} ({sol.thermo_model}) cannot enter a multiphase minimisation; "
+                                     "model the vapour and the liquid as two phases")
+            elif not ok and "surface" in sol.thermo_model or sol.thermo_model == "edge":
+                self.problems.append(f"phase {ph.name} ({sol.thermo_model}) is an interface and is left out of the minimisation")
+            self.phases.append(sol)
+            self.usable.append(ok)
+
+    # ---- thermodynamics at a state
+    def set_state(self, T: float, P: float, n: np.ndarray):
+        off = 0
+        for ph in self.phases:
+            k = ph.n_species
+            x = n[off:off + k]
+            tot = x.sum()
+            if tot > 0:
+                ph.TPX = T, P, x / tot
+            else:
+                ph.TP = T, P
+            off += k
+
+    def g_RT(self, T: float, P: float) -> np.ndarray:
+        """Standard chemical potentials mu°_k(T, P)/RT (pressure term included)."""
+        out = []
+        for ph in self.phases:
+            ph.TP = T, P
+            out.append(ph.standard_gibbs_RT)
+        return np.concatenate(out)
+
+    def mu_RT(self, T: float, P: float, n: np.ndarray) -> np.ndarray:
+        self.set_state(T, P, n)
+        return np.concatenate([ph.chemical_potentials for ph in self.phases]) / (R * 1000.0 * T)
+
+    def enthalpy(self, T: float, P: float, n: np.ndarray) -> float:
+        """Total enthalpy, J, of amounts n (mol) at T, P."""
+        self.set_state(T, P, n)
+        h = np.concatenate([ph.partial_molar_enthalpies for ph in self.phases]) / 1000.0  # J/mol
+        return float(h @ n)
+
+
+@functools.lru_cache(maxsize=16)
+def _model_cached(system: ChemicalSystem) -> _Model:
+    return _Model(system)
+
+
+# ------------------------------------------------------------------ minimisation
+
+@dataclass
+class _Solution:
+    n: np.ndarray
+    T: float
+    P: float
+    solver: str
+    converged: bool
+    message: str = ""
+
+
+def _conserved_matrix(analysis: ReactionAnalysis, n_species: int) -> np.ndarray:
+    W = np.zeros((len(analysis.conserved), n_species))
+    for i, c in enumerate(analysis.conserved):
+        for k, v in c.vector:
+            W[i, k] = float(v)
+    return W
+
+
+class _Solver:
+    """T,P minimisation of one case, reusable for outer solves."""
+
+    def __init__(self, model: _Model, system: ChemicalSystem, analysis: ReactionAnalysis,
+                 n0: np.ndarray, candidate: np.ndarray):
+        self.model = model
+        self.system = system
+        self.n0 = n0
+        self.candidate = candidate            # bool per species: in a phase that may form
+        self.W = _conserved_matrix(analysis, system.n_species)
+        self.A = np.array([[float(x) for x in row] for row in system.formula_matrix]) if system.formula_matrix else np.zeros((0, system.n_species))
+        self.complete = analysis.complete
+        self.phase_of = np.array([next(i for i, p in enumerate(system.phases) if p.name == s.phase) for s in system.species])
+        self.solution = np.array([len(p.species) > 1 for p in system.phases])
+        self.calls = 0
+
+    def _ours(self, T: float, P: float) -> _Solution:
+        from .minimiser import minimise_gibbs
+        g = self.model.g_RT(T, P)
+        mask = self.candidate
+        idx = np.flatnonzero(mask)
+        phases_used = sorted(set(self.phase_of[idx]))
+        remap = {p: i for i, p in enumerate(phases_used)}
+        res = minimise_gibbs(self.W[:, idx], g[idx], np.array([remap[p] for p in self.phase_of[idx]]),
+                             self.solution[phases_used], self.W @ self.n0)
+        n = np.zeros(self.system.n_species)
+        n[idx] = res.moles
+        return _Solution(n, T, P, "element-potential minimiser (auditor.minimiser)", bool(res.converged), res.message)
+
+    def _cantera(self, T: float, P: float, start: np.ndarray, solver: str = "vcs") -> _Solution:
+        ct = self.model.ct
+        m = self.model
+        items, off = [], 0
+        start = start.copy()
+        for ph, ok in zip(m.phases, m.usable):
+            k = ph.n_species
+            if ok:
+                items.append((ph, 0.0))
+            off += k
+        usable_mask = np.concatenate([[ok] * ph.n_species for ph, ok in zip(m.phases, m.usable)])
+        mask = usable_mask & self.candidate
+        total = max(start[mask].sum(), 1e-300)
+        # a phase that may appear needs a trace seed: zero-seeded phases break the solver
+        off = 0
+        for ph, ok in zip(m.phases, m.usable):
+            k = ph.n_species
+            if ok:
+                seg = start[off:off + k]
+                cand = self.candidate[off:off + k]
+                if seg[cand].sum() <= 0 and cand.any():
+                    seg[cand] = 1e-12 * total / cand.sum()
+                start[off:off + k] = seg
+            off += k
+        mix = ct.Mixture(items)
+        mix.T = T
+        mix.P = P
+        mix.species_moles = start[usable_mask]
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                mix.equilibrate("TP", solver=solver, max_steps=2000, max_iter=200, estimate_equil=0)
+            converged, msg = True, ""
+        except Exception as exc:
+            converged, msg = False, " ".join(str(exc).split())[:300]
+        n = np.zeros(self.system.n_species)
+        n[usable_mask] = mix.species_moles
+        return _Solution(n, T, P, f"cantera {solver}", converged, msg)
+
+    def solve(self, T: float, P: float, start: np.ndarray | None = None) -> _Solution:
+        self.calls += 1
+        if not self.complete or not all(self.model.usable):
+            return self._ours(T, P)
+        return self._cantera(T, P, self.n0 if start is None else start)
+
+
+# ------------------------------------------------------------------ certificate
+
+def _fit_potentials(A: np.ndarray, mu: np.ndarray, present: np.ndarray):
+    """Least-squares element potentials over present species; residual and the free directions."""
+    Ap = A[:, present].T       # species x elements
+    if Ap.size == 0:
+        return np.zeros(A.shape[0]), 0.0, np.eye(A.shape[0])
+    lam, *_ = np.linalg.lstsq(Ap, mu[present], rcond=None)
+    resid = float(np.max(np.abs(Ap @ lam - mu[present]))) if present.any() else 0.0
+    # directions d with Ap d = 0 leave present potentials unchanged
+    u, s, vt = np.linalg.svd(Ap, full_matrices=True)
+    rank = int((s > 1e-10 * (s[0] if s.size else 1)).sum())
+    free = vt[rank:].T
+    return lam, resid, free
+
+
+def _absent_driving_forces(system, model_g, A, lam, free, phase_present, phase_of, solution, usable_species):
+    """Minimum over absent phases of the driving force to form them, maximised over the free
+    element-potential directions (a valid certificate needs only one such lambda)."""
+    absent = [p for p in range(len(system.phases)) if not phase_present[p]]
+    if not absent:
+        return {}
+    groups = {p: np.flatnonzero((phase_of == p) & usable_species) for p in absent}
+    groups = {p: g for p, g in groups.items() if g.size}
+
+    def forces(z):
+        lz = lam + (free @ z if free.shape[1] else 0.0)
+        d = model_g - A.T @ lz
+        out = {}
+        for p, idx in groups.items():
+            if solution[p]:
+                m = np.min(d[idx])
+                out[p] = float(m - math.log(np.sum(np.exp(-(d[idx] - m)))))
+            else:
+                out[p] = float(d[idx][0])
+        return out
+
+    base = forces(np.zeros(free.shape[1]))
+    if free.shape[1] == 0 or not base or min(base.values()) >= 0:
+        return base
+    # maximise the worst driving force over the free directions (concave: a smooth solve suffices)
+    from scipy.optimize import minimize
+    k = free.shape[1]
+
+    def neg_worst(z):
+        return -min(forces(z).values())
+
+    best = None
+    for z0 in (np.zeros(k), np.ones(k), -np.ones(k)):
+        res = minimize(neg_worst, z0, method="Nelder-Mead", options={"xatol": 1e-10, "fatol": 1e-12, "maxiter": 4000})
+        if best is None or res.fun < best.fun:
+            best = res
+        if -best.fun > 1e3:
+            break
+    better = forces(best.x)
+    return better if min(better.values()) > min(base.values()) else base
+
+
+def _feed_vector(case: Case, system: ChemicalSystem) -> np.ndarray:
+    n0 = np.zeros(system.n_species)
+    for name, amount in case.feed or ():
+        n0[system.find(name)[0]] += amount
+    return n0
+
+
+def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, count: PhaseRuleCount,
+            spec: SpecificationAudit) -> EquilibriumCheck:
+    """Solve the case's equilibrium and check the certificate; failures become findings."""
+    t0 = time.perf_counter()
+    findings: list[Finding] = []
+
+    def not_solved(message: str, severity="error", assumed=()):
+        findings.append(Finding(severity, "equilibrium", message))
+        return EquilibriumCheck(False, False, "", None, None, (), (), None, None, None, (), None, 0, None, None,
+                                tuple(assumed), tuple(findings), False, time.perf_counter() - t0)
+
+    if analysis.unbalanced:
+        return not_solved("Gibbs minimisation not run: a listed reaction does not balance, so the conserved "
+                          "quantities are not those of the elements", "note")
+    if spec.status != "well-posed":
+        return not_solved(f"Gibbs minimisation not run: the case is {spec.status}, so its equilibrium state "
+                          "is not determined by what it fixes", "note")
+    try:
+        model = _model_cached(system)
+    except Exception as exc:
+        return not_solved(f"cantera cannot build the phases for the minimisation: {' '.join(str(exc).split())[:300]}")
+    for p in model.problems:
+        findings.append(Finding("warning", "equilibrium", p))
+    if not any(model.usable):
+        return not_solved("no phase of this system can enter a Gibbs minimisation", assumed=model.assumed)
+    n0 = _feed_vector(case, system)
+    candidate = np.ones(system.n_species, dtype=bool)
+    solver = _Solver(model, system, analysis, n0, candidate)
+    s = case.specified
+
+    try:
+        sol = _solve_specified(case, solver, spec)
+    except _SpecError as exc:
+        return not_solved(str(exc), assumed=model.assumed)
+    except Exception as exc:
+        return not_solved(f"the minimisation failed: {type(exc).__name__}: {' '.join(str(exc).split())[:300]}",
+                          assumed=model.assumed)
+    if sol is None or not sol.converged:
+        return not_solved("the minimisation did not converge" + (f": {sol.message}" if sol and sol.message else ""),
+                          assumed=model.assumed)
+    return _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0)
+
+
+class _SpecError(Exception):
+    pass
+
+
+def _phase_totals(system: ChemicalSystem, n: np.ndarray) -> dict[str, float]:
+    out = {p.name: 0.0 for p in system.phases}
+    for k, s in enumerate(system.species):
+        out[s.phase] += n[k]
+    return out
+
+
+def _bracket_solve(f, lo: float, hi: float, log: bool, what: str):
+    """Root of f on [lo, hi] by Brent's method (R. P. Brent, Algorithms for Minimization
+    without Derivatives, 1973), scanning for a sign change first."""
+    from scipy.optimize import brentq
+    grid = np.geomspace(lo, hi, 25) if log else np.linspace(lo, hi, 25)
+    vals = []
+    for x in grid:
+        try:
+            vals.append(f(x))
+        except Exception:
+            vals.append(np.nan)
+    for (a, fa), (b, fb) in zip(zip(grid, vals), zip(grid[1:], vals[1:])):
+        if np.isfinite(fa) and np.isfinite(fb) and fa * fb <= 0:
+            return brentq(f, a, b, xtol=1e-10 * max(abs(a), 1.0), rtol=1e-12, maxiter=200)
+    raise _SpecError(f"no {what} in [{lo:g}, {hi:g}] meets the specification (no sign change found)")
+
+
+def _solve_specified(case: Case, solver: _Solver, spec: SpecificationAudit) -> _Solution | None:
+    system = solver.system
+    s = case.specified
+    T, P = s.temperature_K, s.pressure_Pa
+    others = []   # residual functions of the solution for specifications other than T, P
+
+    def idx_of(name, phase):
+        return [i for i in system.find(name) if system.species[i].phase == phase][0]
+
+    for m in s.mole_fractions:
+        k = idx_of(m.species, m.phase)
+        others.append(("mole fraction", lambda sol, k=k, m=m: sol.n[k] / max(_phase_totals(system, sol.n)[m.phase], 1e-300) - m.value))
+    for r in s.ratios:
+        a, b = idx_of(r.numerator, r.phase), idx_of(r.denominator, r.phase)
+        others.append(("ratio", lambda sol, a=a, b=b, r=r: math.log(max(sol.n[a], 1e-300) / max(sol.n[b], 1e-300)) - math.log(r.value)))
+    for pf in s.phase_fractions:
+        others.append(("phase fraction", lambda sol, pf=pf: _phase_totals(system, sol.n)[pf.phase] / sol.n.sum() - pf.value))
+    if s.adiabatic_feed_temperature_K is not None:
+        H_feed = solver.model.enthalpy(s.adiabatic_feed_temperature_K, P if P else 101325.0, solver.n0)
+        scale = max(abs(H_feed), 1e3 * solver.n0.sum())
+        others.append(("adiabatic", lambda sol: (solver.model.enthalpy(sol.T, sol.P, sol.n) - H_feed) / scale))
+    if T is not None and P is not None:
+        if others:
+            raise _SpecError("more than two specifications reached the solver")
+        return solver.solve(T, P)
+    if len(others) != 1 or (T is None and P is None):
+        raise _SpecError("this combination of specifications (neither temperature nor pressure fixed, or more than one "
+                         "other) is not handled by the confirmation yet; fix temperature or pressure")
+    what, resid = others[0]
+    last = {}
+
+    if T is None:
+        t_lo = max(max(sp.t_min for sp in system.species), 200.0)
+        t_hi = min(min(sp.t_max for sp in system.species), 6000.0)
+        if what == "adiabatic":
+            t_lo = max(t_lo, 250.0)
+        if not t_lo < t_hi:
+            t_lo, t_hi = 250.0, 6000.0
+
+        def f(x):
+            sol = solver.solve(x, P)
+            last["sol"] = sol
+            return resid(sol)
+        x = _bracket_solve(f, t_lo, t_hi, False, "temperature")
+    else:
+        def f(x):
+            sol = solver.solve(T, x)
+            last["sol"] = sol
+            return resid(sol)
+        x = _bracket_solve(f, 1.0, 1e9, True, "pressure")
+    sol = solver.solve(x, P) if T is None else solver.solve(T, x)
+    if abs(resid(sol)) > 1e-6:
+        sol.converged = False
+        sol.message = f"the {what} specification is met only to {abs(resid(sol)):.2e}"
+    return sol
+
+
+def _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0) -> EquilibriumCheck:
+    n = np.where(sol.n > 0, sol.n, 0.0)
+    T, P = sol.T, sol.P
+    totals = _phase_totals(system, n)
+    grand = max(sum(totals.values()), 1e-300)
+    phase_present = np.array([totals[p.name] / grand > settings.PHASE_PRESENCE_FRACTION for p in system.phases])
+    present_names = tuple(p.name for p, pr in zip(system.phases, phase_present) if pr)
+    phase_of = solver.phase_of
+    usable_species = np.concatenate([[ok] * ph.n_species for ph, ok in zip(model.phases, model.usable)])
+
+    # balance of every conserved quantity (elements, charge, extra frozen quantities)
+    b = solver.W @ solver.n0
+    bal = float(np.max(np.abs(solver.W @ n - b)) / max(np.max(np.abs(b)), 1e-300)) if b.size else 0.0
+
+    mu = model.mu_RT(T, P, n)
+    present_species = np.array([phase_present[phase_of[k]] and n[k] > 0 for k in range(system.n_species)])
+    W = solver.W
+    lam, resid, free = _fit_potentials(W, mu, present_species)
+
+    # affinities of the independent reactions among present species
+    present_idx = [k for k in range(system.n_species) if present_species[k]]
+    basis = basis_within(analysis.reactions, system.n_species, present_idx)
+    affinities = [abs(sum(float(c) * mu[k] for k, c in v.items())) for v in basis]
+    max_aff = max(affinities) if affinities else 0.0
+
+    g = model.g_RT(T, P)
+    drive = _absent_driving_forces(system, g, W, lam, free, phase_present, phase_of, solver.solution, usable_species)
+    drive_named = tuple((system.phases[p].name, d) for p, d in sorted(drive.items()))
+
+    # uniqueness: restart from different compositions with the same conserved quantities
+    starts, unique = 1, True
+    x_ref = _mole_fractions(system, n)
+    rng = np.random.default_rng(12345)
+    if analysis.derived_basis and (case.specified.temperature_K is not None or True):
+        vecs = [dict(r.stoich) for r in analysis.derived_basis] if analysis.complete else [dict(v) for v in basis]
+        for trial in range(2):
+            start = _perturbed_start(n if trial == 0 else solver.n0, vecs, system.n_species, rng)
+            if start is None:
+                continue
+            other = solver.solve(T, P, start) if analysis.complete else solver.solve(T, P)
+            starts += 1
+            if not other.converged:
+                unique = False
+                continue
+            x_other = _mole_fractions(system, np.where(other.n > 0, other.n, 0.0))
+            tot_o = _phase_totals(system, other.n)
+            pres_o = tuple(p.name for p in system.phases if tot_o[p.name] / max(sum(tot_o.values()), 1e-300) > settings.PHASE_PRESENCE_FRACTION)
+            if pres_o != present_names or np.max(np.abs(x_other - x_ref)) > settings.UNIQUENESS_TOLERANCE:
+                unique = False
+
+    # ln K additivity of dependent reactions
+    lnk_err = None
+    if analysis.dependent:
+        lnK = [-sum(float(c) * g[k] for k, c in r.stoich) for r in analysis.reactions]
+        errs = []
+        for d in analysis.dependent:
+            comb = sum(float(c) * lnK[j] for j, c in d.combination)
+            errs.append(abs(lnK[d.index] - comb) / max(1.0, abs(lnK[d.index])))
+        lnk_err = max(errs) if errs else 0.0
+
+    # Jacobian of the specification audit's equations (structurally square cases only)
+    jac = None
+    if spec.decomposition.structurally_nonsingular and not spec.extensive and tuple(count.coexisting) == present_names:
+        try:
+            jac = _jacobian_rcond(case, system, model, count, spec, T, P, n)
+        except Exception as exc:
+            findings.append(Finding("warning", "equilibrium", f"the Jacobian check could not be evaluated: {exc}"))
+
+    # findings
+    ok = True
+    if bal > settings.ELEMENT_BALANCE_TOLERANCE:
+        ok = False
+        findings.append(Finding("error", "equilibrium", f"conserved-quantity balance error {bal:.2e} exceeds "
+                                f"{settings.ELEMENT_BALANCE_TOLERANCE:g}"))
+    if max_aff > settings.AFFINITY_TOLERANCE_RT:
+        ok = False
+        findings.append(Finding("error", "equilibrium", f"a reaction among present species is not at equilibrium: "
+                                f"affinity {max_aff:.2e} RT exceeds {settings.AFFINITY_TOLERANCE_RT:g} RT"))
+    if resid > settings.AFFINITY_TOLERANCE_RT * 10:
+        findings.append(Finding("warning", "equilibrium", f"element potentials fit the present species only to "
+                                f"{resid:.2e} RT"))
+    for name, d in drive_named:
+        if d < -settings.AFFINITY_TOLERANCE_RT:
+            ok = False
+            findings.append(Finding("error", "equilibrium", f"absent phase {name} has a negative driving force "
+                                    f"({d:.3g} RT): it should form, so the minimisation stopped short", (name,)))
+    if not unique:
+        ok = False
+        findings.append(Finding("error", "equilibrium", f"different starting estimates ({starts}) reached different "
+                                "states: the answer is not unique or the solver is unreliable here"))
+    if lnk_err is not None and lnk_err > settings.LNK_ADDITIVITY_TOLERANCE:
+        findings.append(Finding("warning", "equilibrium", f"ln K of a dependent reaction differs from the combination "
+                                f"of the independent ones by {lnk_err:.2e} (relative)"))
+    if jac is not None and jac < settings.JACOBIAN_RANK_TOLERANCE:
+        ok = False
+        findings.append(Finding("error", "equilibrium", f"the equations are numerically singular at the solution "
+                                f"(smallest/largest singular value {jac:.2e})"))
+    assumed = tuple(count.coexisting)
+    if set(present_names) != set(assumed):
+        ok = False
+        appeared = sorted(set(present_names) - set(assumed))
+        vanished = sorted(set(assumed) - set(present_names))
+        parts = []
+        if appeared:
+            parts.append(f"phase(s) {', '.join(appeared)} appeared")
+        if vanished:
+            parts.append(f"phase(s) {', '.join(vanished)} vanished")
+        findings.append(Finding("error", "equilibrium", f"the minimisation does not land on the assumed phases: "
+                                f"{'; '.join(parts)} (present: {', '.join(present_names)})", tuple(appeared + vanished)))
+    for k in present_idx:
+        sp = system.species[k]
+        if not sp.t_min <= T <= sp.t_max:
+            findings.append(Finding("warning", "data", f"T = {T:.1f} K is outside the thermo data range of "
+                                    f"{sp.label} ({sp.t_min:g}-{sp.t_max:g} K): extrapolated", (sp.label,)))
+    for label, rho, src in model.assumed:
+        findings.append(Finding("note", "data", f"density of {label} taken as {rho:g} kg/m3 ({src})", (label,)))
+
+    phases_out = []
+    for p in system.phases:
+        idx = system.phase_indices(p.name)
+        tot = totals[p.name]
+        xs = tuple((system.labels[k], float(n[k] / tot) if tot > 0 else 0.0) for k in idx)
+        phases_out.append(PhaseState(p.name, float(tot), xs))
+    return EquilibriumCheck(
+        solved=True, converged=sol.converged, solver=sol.solver, temperature_K=float(T), pressure_Pa=float(P),
+        phases=tuple(phases_out), phases_present=present_names, max_affinity_RT=float(max_aff),
+        element_balance_error=bal, potential_residual_RT=float(resid), absent_phase_driving_force=drive_named,
+        unique=unique, starts=starts, lnK_additivity_error=lnk_err, jacobian_rcond=jac,
+        assumed_densities=tuple(model.assumed), findings=tuple(findings), confirmed=ok,
+        seconds=time.perf_counter() - t0,
+        element_potentials=tuple((c.name if c.is_element else f"q{i}", float(l)) for i, (c, l) in enumerate(zip(analysis.conserved, lam))))
+
+
+def _mole_fractions(system: ChemicalSystem, n: np.ndarray) -> np.ndarray:
+    x = np.zeros_like(n)
+    for p in system.phases:
+        idx = system.phase_indices(p.name)
+        tot = n[idx].sum()
+        if tot > 0:
+            x[idx] = n[idx] / tot
+    return x
+
+
+def _perturbed_start(n: np.ndarray, vectors, n_species: int, rng) -> np.ndarray | None:
+    """A different composition with the same conserved quantities: n + sum_j t_j v_j >= 0."""
+    if not vectors:
+        return None
+    start = n.astype(float).copy()
+    for v in rng.permutation(len(vectors)):
+        vec = np.zeros(n_species)
+        for k, c in vectors[v].items():
+            vec[k] = float(c)
+        sign = 1.0 if rng.random() < 0.5 else -1.0
+        d = sign * vec
+        neg = d < 0
+        if not neg.any():
+            step = start.sum() * 0.3 / max(d.sum(), 1e-300)
+        else:
+            step = 0.5 * np.min(start[neg] / -d[neg])
+        if step > 0:
+            start = start + step * d
+    start = np.where(start > 0, start, 0.0)
+    return start
+
+
+def _jacobian_rcond(case, system, model, count, spec, T, P, n) -> float:
+    """Smallest over largest singular value of the scaled Jacobian of the audit's equations."""
+    present = list(count.present_species)
+    x0 = _mole_fractions(system, n)[present]
+    z0 = np.concatenate([[math.log(T), math.log(P)], x0])
+    eqs = spec.equations
+    reactions = count.reactions_present
+
+    s = case.specified
+    col = {k: 2 + j for j, k in enumerate(present)}
+    equilibria = [e for e in eqs if e.kind == "equilibrium"]
+    restrictions = [e for e in eqs if e.kind == "restriction"]
+
+    def index_in(name, phase):
+        return [i for i in system.find(name) if system.species[i].phase == phase][0]
+
+    # specification residuals in the order structure.build_incidence adds them
+    spec_res = []
+    if s.temperature_K is not None:
+        spec_res.append(lambda z: z[0] - math.log(s.temperature_K))
+    if s.pressure_Pa is not None:
+        spec_res.append(lambda z: z[1] - math.log(s.pressure_Pa))
+    for m in s.mole_fractions:
+        spec_res.append(lambda z, c=col[index_in(m.species, m.phase)], v=m.value: z[c] - v)
+    for r in s.ratios:
+        spec_res.append(lambda z, a=col[index_in(r.numerator, r.phase)], b=col[index_in(r.denominator, r.phase)],
+                        v=r.value: z[a] - v * z[b])
+
+    def residual(z):
+        T_, P_ = math.exp(z[0]), math.exp(z[1])
+        nn = np.zeros(system.n_species)
+        nn[present] = np.maximum(z[2:], 1e-300)
+        mu = model.mu_RT(T_, P_, nn)
+        out = [sum(z[c] for c in e.variables) - 1.0 for e in eqs if e.kind == "normalisation"]
+        out += [sum(float(c) * mu[k] for k, c in r.stoich) for r in reactions[:len(equilibria)]]
+        out += [sum(float(c) * z[col[k]] for k, c in rel.coefficients) for rel in count.relations[:len(restrictions)]]
+        out += [f(z) for f in spec_res]
+        return np.array(out)
+
+    J = np.zeros((len(eqs), len(z0)))
+    for j in range(len(z0)):
+        h = 1e-7 * max(abs(z0[j]), 1e-8) if j >= 2 else 1e-7
+        zp, zm = z0.copy(), z0.copy()
+        zp[j] += h
+        zm[j] -= h
+        J[:, j] = (residual(zp) - residual(zm)) / (2 * h)
+    # scale columns of mole fractions by their value (relative changes), rows to unit norm
+    J[:, 2:] *= np.maximum(x0, 1e-300)
+    norms = np.linalg.norm(J, axis=1)
+    J = J / np.where(norms > 0, norms, 1.0)[:, None]
+    sv = np.linalg.svd(J, compute_uv=False)
+    return float(sv[-1] / sv[0]) if sv.size and sv[0] > 0 else 0.0
