@@ -1,7 +1,7 @@
 """Runs the stages in order, collects findings and decides the verdict (design §2, §3)."""
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
@@ -100,6 +100,14 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
         from .equilibrium import confirm as confirm_equilibrium
         equilibrium = confirm_equilibrium(case, system, analysis, count, spec)
         findings.extend(equilibrium.findings)
+        found = equilibrium.phases_present
+        if equilibrium.solved and set(found) != set(count.coexisting) and found:
+            actual = count_phase_rule(replace(case, coexisting=tuple(found)), system, reactions, analysis)
+            findings.append(Finding("warning", "phase-rule", f"for the phases found present ({', '.join(found)}) the "
+                                    f"phase rule gives N = {actual.n_species}, pi = {actual.n_phases}, m = "
+                                    f"{actual.independent_reactions}, r = {actual.restrictions}, F = "
+                                    f"{actual.degrees_of_freedom}; revise 'coexisting' or the specifications",
+                                    tuple(found)))
 
     # verdict before claims
     verdict = spec.status
