@@ -76,6 +76,9 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     count = count_phase_rule(case, system, reactions, analysis)
     spec = audit_specification(case, system, count)
     findings = _reaction_findings(analysis)
+    for w in system.library_warnings:
+        severity = "warning" if "discontinuity" in w.lower() or "outside" in w.lower() else "note"
+        findings.append(Finding(severity, "data", f"cantera: {w}"))
     F = count.degrees_of_freedom
     if F < 0:
         findings.append(Finding("error", "phase-rule", f"F = {F} < 0: the phases assumed to coexist "

@@ -5,6 +5,7 @@ import argparse
 import json
 import sys
 import warnings
+from pathlib import Path
 
 from . import __version__
 from .errors import AuditorError, InputError
@@ -33,7 +34,10 @@ def _parser() -> argparse.ArgumentParser:
     c.add_argument("--explain", action="store_true", help="print each verdict rule as it was applied")
     c.add_argument("--quiet", action="store_true", help="no output for a single case; exit status only")
     c.add_argument("--no-confirm", action="store_true", help="skip the Gibbs minimisation (counting only)")
-    c.add_argument("--debug", action="store_true", help=argparse.SUPPRESS)
+    c.add_argument("--report", metavar="PATH", help="write the full audit; the format follows the suffix "
+                   "(.html, .md, .json)")
+    c.add_argument("--force", action="store_true", help="overwrite an existing report")
+    c.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
     r = sub.add_parser("reactions", help="stoichiometric analysis of a mechanism's own reactions",
                        epilog=EPILOG_REACTIONS, formatter_class=argparse.RawDescriptionHelpFormatter)
     r.add_argument("mechanism", metavar="MECHANISM", help="Cantera-format YAML file")
@@ -41,7 +45,7 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("--json", action="store_true", help="print one JSON document")
     r.add_argument("--limit", type=int, default=50, metavar="N",
                    help="list at most N items per section in the text output (default 50; 0 = all)")
-    r.add_argument("--debug", action="store_true", help=argparse.SUPPRESS)
+    r.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
     return p
 
 
@@ -59,6 +63,18 @@ def _cmd_check(args) -> int:
     from .report.document import check_document
     from .report.terminal import audit_text, summary_line
     paths = args.cases or [str(resources.files("auditor") / "data" / "default_case.yaml")]
+    if args.report and len(paths) != 1:
+        print("auditor: error: --report takes exactly one CASE", file=sys.stderr)
+        return EXIT_INPUT
+    if args.report:
+        from .report.files import check_target
+        try:
+            check_target(args.report, paths, args.force)
+            if Path(args.report).suffix.lower() not in REPORT_FORMATS:
+                raise InputError.single(args.report, "report format follows the suffix: .html, .md or .json")
+        except InputError as exc:
+            print(f"auditor: error: {exc}", file=sys.stderr)
+            return EXIT_INPUT
     results, docs, status = [], [], EXIT_OK
     for path in paths:
         try:
@@ -71,15 +87,54 @@ def _cmd_check(args) -> int:
             continue
         results.append(result)
         status = max(status, result.exit_status)
+    if args.report and results:
+        from .report.files import write_atomic
+        write_atomic(args.report, render_report(results[0], Path(args.report).suffix.lower()))
+        if not args.quiet:
+            print(f"report written to {args.report}", file=sys.stderr)
     if args.json:
         docs = [check_document(r) for r in results]
         print(json.dumps(docs[0] if len(paths) == 1 and docs else docs, indent=1))
     elif len(paths) == 1 and results and not args.quiet:
-        sys.stdout.write(audit_text(results[0], explain=args.explain))
+        sys.stdout.write(colourise(audit_text(results[0], explain=args.explain)))
     elif not args.quiet or len(paths) > 1:
         for r in results:
             print(summary_line(r))
     return status
+
+
+REPORT_FORMATS = (".html", ".htm", ".md", ".json")
+
+
+def render_report(result, suffix: str) -> str:
+    if suffix in (".html", ".htm"):
+        from .report.html import render
+        return render(result)
+    if suffix == ".md":
+        from .report.markdown import render
+        return render(result)
+    from .report.document import check_document
+    return json.dumps(check_document(result, with_context=True), indent=1) + "\n"
+
+
+def colourise(text: str) -> str:
+    """Colour the verdict line on a terminal only (NO_COLOR honoured: https://no-color.org)."""
+    import os
+    if os.environ.get("NO_COLOR") or not sys.stdout.isatty():
+        return text
+    colours = {"WELL-POSED": "32", "UNDER-SPECIFIED": "33", "OVER-SPECIFIED": "33",
+               "INCONSISTENT": "31", "NOT-CONFIRMED": "31"}
+    out = []
+    for line in text.splitlines(keepends=True):
+        if line.startswith("Verdict: "):
+            word = line.split()[1]
+            line = f"Verdict: \033[1;{colours.get(word, '0')}m{word}\033[0m\n"
+        elif line.lstrip().startswith("[error]"):
+            line = line.replace("[error]", "\033[31m[error]\033[0m", 1)
+        elif line.lstrip().startswith("[warning]"):
+            line = line.replace("[warning]", "\033[33m[warning]\033[0m", 1)
+        out.append(line)
+    return "".join(out)
 
 
 def _resolve_mechanism(name: str) -> str:
@@ -103,9 +158,10 @@ def _cmd_reactions(args) -> int:
     system = from_mechanism(path, args.phase)
     analysis = analyse(system, mechanism_reactions(system))
     if args.json:
-        print(json.dumps(reactions_document(analysis), indent=1))
+        print(json.dumps(reactions_document(analysis, system.library_warnings), indent=1))
     else:
-        sys.stdout.write(reactions_text(analysis, path, None if args.limit == 0 else args.limit))
+        sys.stdout.write(reactions_text(analysis, path, None if args.limit == 0 else args.limit,
+                                        system.library_warnings))
     return EXIT_PROBLEM if analysis.unbalanced else EXIT_OK
 
 
@@ -128,6 +184,12 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("auditor: interrupted", file=sys.stderr)
         return EXIT_INTERRUPTED
+    except BrokenPipeError:
+        # the reader went away (e.g. piped into head): not an error of ours
+        import os
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return EXIT_OK
     except Exception as exc:  # a bug: say so plainly, without a traceback unless asked
         if args.debug:
             raise

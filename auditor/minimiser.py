@@ -73,7 +73,7 @@ _ABSENT_MARGIN = 100.0
 # (ln sum x for solution phases, A_k.lambda - g_k for pure phases).
 _STABILITY_TOL = 1e-10
 # A present solution phase whose scaled amount falls below this is removed.
-_MIN_PHASE_AMOUNT = 1e-40
+_MIN_PHASE_AMOUNT = 1e-25
 # Pure-phase amounts in [-_ZERO_AMOUNT, 0] (scaled feed) are rounding noise: reported as 0.
 _ZERO_AMOUNT = 1e-13
 
@@ -151,13 +151,21 @@ def _solve(M: np.ndarray, rhs: np.ndarray) -> np.ndarray:
 
 
 def _barrier(dual: _Dual, c: np.ndarray, nu: np.ndarray, max_newton: int):
-    """Log-barrier method on (D) from strictly feasible nu.  Returns nu, t, iterations, ok."""
+    """Log-barrier method on (D) from strictly feasible nu.
+
+    Returns (nu, eta, eta_prev, iterations, ok): eta = 1/(t (-h)) are the
+    multipliers (phase amounts on the central path) at the final t, eta_prev at
+    the previous t.  Along the path eta tends to the amount of a present phase
+    and falls like 1/t for an absent one.
+    """
     m = dual.m
     t = float(m)
     it = 0
+    eta_prev = np.full(m, np.inf)
     # Only the active set and a starting point are needed from this stage (the
     # polish makes them exact), and beyond t ~ 1e10 rounding dominates phi.
     gap_target = 1e-8
+    ok = True
     while True:
         for _ in range(50):  # centering: minimise phi = -t c.nu - sum log(-h)
             h, G, covs, _ = dual.eval(nu)
@@ -187,9 +195,12 @@ def _barrier(dual: _Dual, c: np.ndarray, nu: np.ndarray, max_newton: int):
                 break
             nu = trial
             if it >= max_newton:
-                return nu, t, it, False
-        if m / t < gap_target:
-            return nu, t, it, True
+                ok = False
+                break
+        eta = 1.0 / (t * -dual.h(nu))
+        if m / t < gap_target or not ok:
+            return nu, eta, eta_prev, it, ok
+        eta_prev = eta
         t *= 20.0
 
 
@@ -451,9 +462,8 @@ def minimise_gibbs(A, g, phase_of, solution, b, *, tol=1e-12, max_iter=500) -> M
         return result(np.zeros(N), np.zeros(E), False, 0, smsg)
 
     # ---- stage 1: barrier
-    nu_b, t, it_b, ok_b = _barrier(dual, c, nu0, max_iter)
-    h, G, covs, xs = dual.eval(nu_b)
-    eta = 1.0 / (t * -h)  # barrier multipliers = phase amounts on the central path
+    nu_b, eta, eta_prev, it_b, ok_b = _barrier(dual, c, nu0, max_iter)
+    h_b = dual.h(nu_b)
 
     def assemble(nu_, sol_amounts: dict, pure_amounts: dict):
         """Full-length moles (unscaled) from nu and phase amounts; n_k = N_p x_k."""
@@ -479,74 +489,81 @@ def minimise_gibbs(A, g, phase_of, solution, b, *, tol=1e-12, max_iter=500) -> M
         return result(n, lam, False, it_b + it_p, msg)
 
     # ---- stage 2: active-set Newton polish
-    present = eta > -h  # multiplier larger than slack
-    if not present.any():
-        present[int(np.argmax(eta))] = True
-    amounts = eta.copy()
-    nu = nu_b.copy()
-    seen = set()
-    it_p = 0
-    for _loop in range(4 * m + 20):
-        key = tuple(np.flatnonzero(present))
-        if key in seen:
-            return fallback("active-set cycling in Newton polish; barrier estimate returned", it_p)
-        seen.add(key)
-        sol_act = [i for i in range(ns) if present[i]]
-        pure_act = [j for j in range(len(pure)) if present[ns + j]]
-        lnN = np.log(np.maximum(amounts[sol_act], _MIN_PHASE_AMOUNT * 1e3))
-        npure = amounts[[ns + j for j in pure_act]]
-        budget = min(60, max_iter - it_p)
-        if budget <= 0:
-            return fallback("iteration limit reached in Newton polish; barrier estimate returned", it_p)
-        status, nu_n, lnN, npure, its = _kkt_newton(dual, c, nu, sol_act, lnN, pure_act, npure,
-                                                    tol, budget)
-        it_p += its
-        if status == "fail":
-            # Usually a wrong active set (no solution with these phases): if an
-            # absent phase is unstable at the last iterate, add it and go on.
-            if not np.all(np.isfinite(nu_n)):
-                return fallback("Newton polish diverged; barrier estimate returned", it_p)
-            viol = np.where(present, -np.inf, dual.h(nu_n))
-            if viol.max() <= _STABILITY_TOL:
-                return fallback("Newton polish did not converge; barrier estimate returned", it_p)
-            k = int(np.argmax(viol))
-            nu = nu_n
+    def polish(present: np.ndarray, it_p: int):
+        """Active-set loop from the initial set `present`.  Returns (result or None, msg, it_p)."""
+        present = present.copy()
+        seen = set()
+        for _loop in range(4 * m + 20):
+            key = tuple(np.flatnonzero(present))
+            if key in seen:
+                return None, "active-set cycling in Newton polish", it_p
+            seen.add(key)
+            sol_act = [i for i in range(ns) if present[i]]
+            pure_act = [j for j in range(len(pure)) if present[ns + j]]
+            # Every active set is solved from the barrier point, which is close to
+            # the optimum; a Newton iterate of a wrong set may have drifted far away.
+            lnN = np.log(np.maximum(eta[sol_act], 1e-30))
+            npure = eta[[ns + j for j in pure_act]]
+            budget = min(60, max_iter - it_p)
+            if budget <= 0:
+                return None, "iteration limit reached in Newton polish", it_p
+            status, nu, lnN, npure, its = _kkt_newton(dual, c, nu_b, sol_act, lnN, pure_act,
+                                                      npure, tol, budget)
+            it_p += its
+            if status == "fail":
+                # Usually a wrong active set (no solution with these phases): if an
+                # absent phase is unstable at the last iterate, add it and go on.
+                if not np.all(np.isfinite(nu)):
+                    return None, "Newton polish diverged", it_p
+                viol = np.where(present, -np.inf, dual.h(nu))
+                if viol.max() <= _STABILITY_TOL:
+                    return None, "Newton polish did not converge", it_p
+                present[int(np.argmax(viol))] = True
+                continue
             amounts = np.zeros(m)
             amounts[sol_act] = np.exp(lnN)
             amounts[[ns + j for j in pure_act]] = npure
-            present[k] = True
-            amounts[k] = 1e-6 if k < ns else 0.0
+            if status.startswith("collapse"):
+                present[sol_act[int(status.split(":")[1])]] = False
+                continue
+            # Remove the most negative pure phase.  Amounts within rounding of zero
+            # (|n| <= _ZERO_AMOUNT of the scaled feed) are kept in the set and
+            # reported as 0, so that marginal phases cannot make the set cycle.
+            if len(pure_act) and npure.min() < -_ZERO_AMOUNT:
+                present[ns + pure_act[int(np.argmin(npure))]] = False
+                continue
+            viol = np.where(present, -np.inf, dual.h(nu))
+            if viol.max() > _STABILITY_TOL:  # add the most unstable absent phase
+                present[int(np.argmax(viol))] = True
+                continue
+            n = assemble(nu, {i: amounts[i] for i in sol_act},
+                         {j: amounts[ns + j] for j in pure_act})
+            lam, amsg = potentials(nu)
+            n_present = int(np.count_nonzero(np.bincount(phase_of, weights=n, minlength=P) > 0))
+            msg = (f"converged: {n_present} of {P} phases present; "
+                   f"{it_b} barrier + {it_p} Newton iterations")
+            if pre_msg:
+                msg += f"; note: {pre_msg}"
+            if amsg:
+                return result(n, lam, False, it_b + it_p, amsg), amsg, it_p
+            if not ok_b:
+                msg += "; note: barrier stage hit its iteration limit"
+            return result(n, lam, True, it_b + it_p, msg), msg, it_p
+        return None, "active-set loop limit reached", it_p
+
+    # Initial active sets, tried in turn: (1) multiplier larger than slack, or not
+    # falling like 1/t between the last two barrier parameters (t grew 20-fold);
+    # (2) every phase the barrier gives a non-negligible amount; (3) all phases.
+    first = (eta > -h_b) | (eta > 0.3 * eta_prev)
+    if not first.any():
+        first[int(np.argmax(eta))] = True
+    tried, it_p, msgs = [], 0, []
+    for start_set in (first, eta > 1e-30, np.ones(m, dtype=bool)):
+        if not start_set.any() or any(np.array_equal(start_set, t_) for t_ in tried):
             continue
-        nu = nu_n
-        amounts = np.zeros(m)
-        amounts[sol_act] = np.exp(lnN)
-        amounts[[ns + j for j in pure_act]] = npure
-        if status.startswith("collapse"):
-            present[sol_act[int(status.split(":")[1])]] = False
-            continue
-        # Remove the most negative pure phase.  Amounts within rounding of zero
-        # (|n| <= _ZERO_AMOUNT of the scaled feed) are kept in the set and reported
-        # as 0, so that marginal phases cannot make the active set cycle.
-        if len(pure_act) and npure.min() < -_ZERO_AMOUNT:
-            present[ns + pure_act[int(np.argmin(npure))]] = False
-            continue
-        hh = dual.h(nu)
-        viol = np.where(present, -np.inf, hh)
-        if viol.max() > _STABILITY_TOL:  # add the most unstable absent phase
-            k = int(np.argmax(viol))
-            present[k] = True
-            amounts[k] = 1e-6 if k < ns else 0.0
-            continue
-        n = assemble(nu, {i: amounts[i] for i in sol_act}, {j: amounts[ns + j] for j in pure_act})
-        lam, amsg = potentials(nu)
-        n_present = int(np.count_nonzero(np.bincount(phase_of, weights=n, minlength=P) > 0))
-        msg = (f"converged: {n_present} of {P} phases present; "
-               f"{it_b} barrier + {it_p} Newton iterations")
-        if pre_msg:
-            msg += f"; note: {pre_msg}"
-        if amsg:
-            return result(n, lam, False, it_b + it_p, amsg)
-        if not ok_b:
-            msg += "; note: barrier stage hit its iteration limit"
-        return result(n, lam, True, it_b + it_p, msg)
-    return fallback("active-set loop limit reached; barrier estimate returned", it_p)
+        tried.append(start_set)
+        res, why, it_p = polish(start_set, it_p)
+        if res is not None:
+            return res
+        msgs.append(why)
+    return fallback("; ".join(msgs) + "; barrier estimate returned", it_p)

@@ -104,6 +104,7 @@ class ChemicalSystem:
     elements: tuple[str, ...]         # rows of the formula matrix (may end with "charge")
     formula_matrix: tuple[tuple[Fraction | int, ...], ...]
     reactions: tuple[MechanismReaction, ...] = ()   # the mechanism's own reactions, if any
+    library_warnings: tuple[str, ...] = ()          # what cantera warned about while loading
 
     @functools.cached_property
     def labels(self) -> tuple[str, ...]:
@@ -191,7 +192,7 @@ def _thermo_range(sp) -> tuple[float, float]:
         return 0.0, float("inf")
 
 
-def _assemble(source: str, raw: list[tuple[str, str, bool, list]], reactions=()) -> ChemicalSystem:
+def _assemble(source: str, raw: list[tuple[str, str, bool, list]], reactions=(), library_warnings=()) -> ChemicalSystem:
     """raw: (phase name, model, is_gas, [cantera Species]) in order."""
     counts: dict[str, int] = {}
     for _, _, _, sps in raw:
@@ -218,7 +219,8 @@ def _assemble(source: str, raw: list[tuple[str, str, bool, list]], reactions=())
     if charged:
         elements.append(CHARGE)
         rows.append(tuple(_norm(s.charge) for s in species))
-    return ChemicalSystem(source, tuple(phases), tuple(species), tuple(elements), tuple(rows), tuple(reactions))
+    return ChemicalSystem(source, tuple(phases), tuple(species), tuple(elements), tuple(rows), tuple(reactions),
+                          tuple(library_warnings))
 
 
 def _norm(x: Fraction) -> Fraction | int:
@@ -297,14 +299,21 @@ def mechanism_phase_names(path: str | Path) -> list[str]:
     return names
 
 
-def _load_phase(ct, path: Path, name: str):
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
+def _load_phase(ct, path: Path, name: str, notes: list[str]):
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
         sol = ct.Solution(str(path), name)
         if sol.thermo_model in ("ideal-surface", "coverage-dependent-surface", "edge"):
             # an interface's reactions involve its adjacent phases: cantera loads them
             sol = ct.Interface(str(path), name)
+    notes.extend(_library_note(w.message) for w in caught)
     return sol
+
+
+def _library_note(message) -> str:
+    """One line from a cantera warning (kept in cantera's words)."""
+    text = " ".join(str(message).split())
+    return text[:400]
 
 
 def _cantera_message(exc: Exception) -> str:
@@ -314,7 +323,7 @@ def _cantera_message(exc: Exception) -> str:
     return " ".join(ln.strip() for ln in lines[:6])
 
 
-def load_phases(path: str | Path, phase_names: Sequence[str] | None = None):
+def load_phases(path: str | Path, phase_names: Sequence[str] | None = None, notes: list[str] | None = None):
     """Cantera objects for the named (or all) phases of a mechanism, with interface neighbours.
 
     Returns a list of (name, Solution) in order; the adjacent bulk phases of an
@@ -331,9 +340,10 @@ def load_phases(path: str | Path, phase_names: Sequence[str] | None = None):
     if problems:
         raise MechanismError(problems)
     loaded: dict[str, object] = {}
+    notes = [] if notes is None else notes
     for n in names:
         try:
-            sol = _load_phase(ct, path, n)
+            sol = _load_phase(ct, path, n, notes)
         except Exception as exc:  # cantera's error text is shown as it is
             raise MechanismError.single(path, f"cantera cannot build phase {n!r}: {_cantera_message(exc)}",
                                         f"phases[{n}]") from None
@@ -403,7 +413,8 @@ def from_mechanism(path: str | Path, phase_names: Sequence[str] | None = None,
     """
     ct = _cantera()
     path = Path(path)
-    loaded = load_phases(path, phase_names)
+    notes: list[str] = []
+    loaded = load_phases(path, phase_names, notes)
     raw = []
     problems = []
     for name, sol in loaded:
@@ -422,7 +433,7 @@ def from_mechanism(path: str | Path, phase_names: Sequence[str] | None = None,
         raw.append((name, sol.thermo_model, is_gas, sps))
     if problems:
         raise MechanismError(problems)
-    system = _assemble(str(path), raw)
+    system = _assemble(str(path), raw, library_warnings=tuple(dict.fromkeys(notes)))
     if not with_reactions or species:
         return system
     offsets, n = {}, 0
@@ -435,4 +446,4 @@ def from_mechanism(path: str | Path, phase_names: Sequence[str] | None = None,
             continue  # an adjacent phase brought in only to complete an interface
         reactions.extend(_mechanism_reactions(ct, path, name, sol, offsets, system.labels))
     return ChemicalSystem(system.source, system.phases, system.species, system.elements,
-                          system.formula_matrix, tuple(reactions))
+                          system.formula_matrix, tuple(reactions), system.library_warnings)

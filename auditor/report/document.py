@@ -23,7 +23,41 @@ def _claim_value(v):
     return list(v) if isinstance(v, tuple) else v
 
 
-def check_document(r: AuditResult) -> dict:
+def _sha256(path) -> str | None:
+    import hashlib
+    try:
+        return hashlib.sha256(open(path, "rb").read()).hexdigest()
+    except OSError:
+        return None
+
+
+def versions() -> dict:
+    import platform
+    from importlib import metadata
+    out = {"auditor": __version__, "python": platform.python_version()}
+    for lib in ("cantera", "numpy", "scipy", "sympy", "pint", "PyYAML"):
+        try:
+            out[lib] = metadata.version(lib)
+        except metadata.PackageNotFoundError:
+            out[lib] = None
+    return out
+
+
+def system_block(r: AuditResult) -> dict:
+    s = r.system
+    return {
+        "source": s.source,
+        "phases": [{"name": p.name, "model": p.model, "species": list(p.species)} for p in s.phases],
+        "elements": list(s.elements),
+        "formula_matrix": [[format_fraction(x) for x in row] for row in s.formula_matrix],
+        "species": [{"label": sp.label, "phase": sp.phase, "charge": format_fraction(sp.charge),
+                     "thermo_range_K": [sp.t_min, sp.t_max]} for sp in s.species],
+    }
+
+
+def check_document(r: AuditResult, with_context: bool = False) -> dict:
+    """The audit as one JSON-ready dict.  ``with_context`` adds inputs, versions and the date
+    (for filed reports); the ``generated`` timestamp is the only field that varies between runs."""
     a, pr, sp = r.reactions, r.phase_rule, r.specification
     eqs = [x.equation for x in a.reactions]
     doc = {
@@ -85,4 +119,17 @@ def check_document(r: AuditResult) -> dict:
         "tool": {"name": "auditor", "version": __version__},
         "cautions": list(CAUTIONS),
     }
+    doc["reactions"]["duplicates"] = [{"equation": eqs[g.representative],
+                                       "members": [{"equation": eqs[i], "factor": format_fraction(f)} for i, f in g.members]}
+                                      for g in a.duplicates]
+    doc["reactions"]["derived_complete_set"] = [x.equation for x in a.derived_basis]
+    doc["system"] = system_block(r)
+    if with_context:
+        import datetime
+        inputs = [{"path": str(r.case.path), "sha256": _sha256(r.case.path)}]
+        if r.system.source not in ("packaged",):
+            inputs.append({"path": r.system.source, "sha256": _sha256(r.system.source)})
+        doc["inputs"] = inputs
+        doc["versions"] = versions()
+        doc["generated"] = datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds")
     return doc

@@ -16,7 +16,7 @@ def _combo_text(combination, prefix="#") -> str:
     return text[2:] if text.startswith("+ ") else (text or "0 (no net change)")
 
 
-def reactions_document(a: ReactionAnalysis) -> dict:
+def reactions_document(a: ReactionAnalysis, warnings_: tuple[str, ...] = ()) -> dict:
     """The ``reactions --json`` document (design §4), plus additive fields."""
     return {
         "species": a.n_species,
@@ -41,10 +41,11 @@ def reactions_document(a: ReactionAnalysis) -> dict:
         "derived_complete_set": [r.equation for r in a.derived_basis],
         "conserved_quantities": [c.name for c in a.conserved],
         "equations": [r.equation for r in a.reactions],
+        "library_warnings": list(warnings_),
     }
 
 
-def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None) -> str:
+def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, warnings_: tuple[str, ...] = ()) -> str:
     """Human-readable account; reaction numbers ``#i`` are 0-based, in file order."""
     lines = [f"Stoichiometric analysis of {source}", ""]
     rows = [("phase-species (N)", a.n_species), ("reactions listed", len(a.reactions)),
@@ -106,6 +107,12 @@ def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None) -
         if extra:
             lines += ["", "Extra conserved quantities beyond the elements:"] + [f"  {x}" for x in extra]
     shown, more = cap(a.derived_basis)
+    if warnings_:
+        lines += ["", f"Cantera warned while loading ({len(warnings_)}):"]
+        shown_w, more_w = cap(warnings_)
+        lines += [f"  {w}" for w in shown_w]
+        if more_w:
+            lines.append(f"  ... and {more_w} more")
     lines += ["", f"A complete independent set from the species alone ({len(a.derived_basis)}):"]
     lines += [f"  {r.equation}" for r in shown]
     if more:
