@@ -38,6 +38,20 @@ def _parser() -> argparse.ArgumentParser:
                    "(.html, .md, .json)")
     c.add_argument("--force", action="store_true", help="overwrite an existing report")
     c.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
+    w = sub.add_parser("sweep", help="run the confirmation over a grid of temperature and pressure",
+                       epilog=EPILOG_SWEEP, formatter_class=argparse.RawDescriptionHelpFormatter)
+    w.add_argument("case", metavar="CASE")
+    w.add_argument("--vary", action="append", required=True, metavar="NAME=START:STOP:STEP",
+                   help="temperature (K) or pressure (bar); repeat for a two-dimensional grid")
+    w.add_argument("--out", metavar="PREFIX", help="output prefix (default: CASE name + _sweep)")
+    w.add_argument("--jobs", type=int, default=None, metavar="N", help="worker processes (default: all cores)")
+    w.add_argument("--scheduler", metavar="ADDRESS", help="a Dask scheduler tcp://HOST:PORT, or local:N "
+                   "(needs the cluster extra)")
+    w.add_argument("--block-size", type=int, default=None, metavar="N", help="grid points per unit of work")
+    w.add_argument("--resume", action="store_true", help="continue a stopped sweep from its journal")
+    w.add_argument("--force", action="store_true", help="overwrite existing outputs")
+    w.add_argument("--quiet", action="store_true", help="no summary line")
+    w.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
     r = sub.add_parser("reactions", help="stoichiometric analysis of a mechanism's own reactions",
                        epilog=EPILOG_REACTIONS, formatter_class=argparse.RawDescriptionHelpFormatter)
     r.add_argument("mechanism", metavar="MECHANISM", help="Cantera-format YAML file")
@@ -137,6 +151,77 @@ def colourise(text: str) -> str:
     return "".join(out)
 
 
+EPILOG_SWEEP = """examples:
+  auditor sweep cases/reformer_design_point.yaml --vary temperature=600:1400:25
+  auditor sweep my_case.yaml --vary temperature=500:900:50 --vary pressure=1:40:5 --out envelope
+  auditor sweep my_case.yaml --vary "temperature=400:700:10 degC" --jobs 2
+Temperature is in K and pressure in bar unless a unit follows STEP. Writes PREFIX.csv and
+PREFIX.svg; finished points are journalled in PREFIX.partial.jsonl so that --resume can
+continue a run that was stopped."""
+
+
+def _progress(done: int, total: int) -> None:
+    if not sys.stderr.isatty():
+        return
+    width = 40
+    fill = int(width * done / max(total, 1))
+    sys.stderr.write(f"\r[{'#' * fill}{'.' * (width - fill)}] {done}/{total}")
+    if done == total:
+        sys.stderr.write("\n")
+    sys.stderr.flush()
+
+
+def _cmd_sweep(args) -> int:
+    from .case import load_case
+    from .executors import make_executor
+    from .report.files import check_target, write_atomic
+    from .report.sweep_plot import sweep_svg
+    from .sweep import PointResult, csv_text, grid, parse_vary, run_sweep
+    axes = [parse_vary(v) for v in args.vary]
+    case = load_case(args.case)
+    prefix = args.out or Path(args.case).stem + "_sweep"
+    csv_path, svg_path, journal = Path(f"{prefix}.csv"), Path(f"{prefix}.svg"), Path(f"{prefix}.partial.jsonl")
+    for target in (csv_path, svg_path):
+        check_target(target, [args.case], args.force or args.resume)
+    done = []
+    if args.resume and journal.exists():
+        for line in journal.read_text(encoding="utf-8").splitlines():
+            try:
+                done.append(PointResult.from_json(line))
+            except (ValueError, KeyError, TypeError):
+                continue  # a line cut short by the interruption
+    elif journal.exists() and not args.force:
+        raise InputError.single(journal, "an unfinished sweep left this journal; pass --resume to continue it "
+                                "or --force to start again")
+    total = len(grid(case, axes))
+    counter = [len(done)]
+    executor = make_executor(args.jobs, args.scheduler)
+    try:
+        with open(journal, "a" if args.resume else "w", encoding="utf-8") as jf:
+            def on_result(r):
+                jf.write(r.to_json() + "\n")
+                jf.flush()
+                counter[0] += 1
+                _progress(counter[0], total)
+            results = run_sweep(str(Path(args.case)), axes, executor, done=done, on_result=on_result,
+                                block_size=args.block_size, workers=executor.workers)
+    finally:
+        executor.close()
+    assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
+    write_atomic(csv_path, csv_text(results))
+    write_atomic(svg_path, sweep_svg(results, axes, assumed))
+    journal.unlink(missing_ok=True)
+    failed = [r for r in results if r.verdict == "failed"]
+    off = [r for r in results if r.verdict != "well-posed"]
+    if not args.quiet:
+        print(f"{len(results)} points: {len(results) - len(off)} confirmed, {len(off) - len(failed)} not confirmed, "
+              f"{len(failed)} failed; wrote {csv_path} and {svg_path}")
+        reasons = sorted({r.message for r in failed})
+        for m in reasons[:5]:
+            print(f"  failure: {m}")
+    return EXIT_OK if not off else EXIT_PROBLEM
+
+
 def _resolve_mechanism(name: str) -> str:
     from pathlib import Path
     path = Path(name)
@@ -171,7 +256,7 @@ def main(argv: list[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return EXIT_INPUT
-    handler = {"check": _cmd_check, "reactions": _cmd_reactions}[args.command]
+    handler = {"check": _cmd_check, "reactions": _cmd_reactions, "sweep": _cmd_sweep}[args.command]
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
