@@ -52,6 +52,21 @@ def _parser() -> argparse.ArgumentParser:
     w.add_argument("--force", action="store_true", help="overwrite existing outputs")
     w.add_argument("--quiet", action="store_true", help="no summary line")
     w.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
+    n = sub.add_parser("new", help="write a commented starter case file",
+                       epilog="example:\n  auditor new my_case.yaml && auditor check my_case.yaml",
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    n.add_argument("path", metavar="PATH")
+    n.add_argument("--force", action="store_true", help="overwrite an existing file")
+    n.add_argument("--quiet", action="store_true")
+    n.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
+    q = sub.add_parser("species", help="search the packaged thermo databases by name or formula",
+                       epilog="examples:\n  auditor species CaCO3\n  auditor species 'C(gr)'\n  auditor species methanol"
+                              "\n  auditor species H2O --json",
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    q.add_argument("query", metavar="QUERY", help="part of a name, or a formula such as CH4O")
+    q.add_argument("--limit", type=int, default=40, metavar="N")
+    q.add_argument("--json", action="store_true")
+    q.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
     r = sub.add_parser("reactions", help="stoichiometric analysis of a mechanism's own reactions",
                        epilog=EPILOG_REACTIONS, formatter_class=argparse.RawDescriptionHelpFormatter)
     r.add_argument("mechanism", metavar="MECHANISM", help="Cantera-format YAML file")
@@ -222,6 +237,31 @@ def _cmd_sweep(args) -> int:
     return EXIT_OK if not off else EXIT_PROBLEM
 
 
+def _cmd_new(args) -> int:
+    from importlib import resources
+    from .report.files import check_target, write_atomic
+    target = check_target(args.path, [], args.force)
+    write_atomic(target, (resources.files("auditor") / "data" / "starter_case.yaml").read_text(encoding="utf-8"))
+    if not args.quiet:
+        print(f"wrote {target}; edit it, then run: auditor check {target}")
+    return EXIT_OK
+
+
+def _cmd_species(args) -> int:
+    from .system import search_species
+    hits = search_species(args.query, limit=args.limit)
+    if args.json:
+        print(json.dumps(hits, indent=1))
+        return EXIT_OK if hits else EXIT_PROBLEM
+    if not hits:
+        print(f"no species in the packaged databases matches {args.query!r}")
+        return EXIT_PROBLEM
+    print(f"{'name':<22} {'kind':<10} {'formula':<18} {'charge':>6}  thermo range, K")
+    for h in hits:
+        print(f"{h['name']:<22} {h['kind']:<10} {h['formula']:<18} {h['charge']:>6}  {h['t_min']:g} - {h['t_max']:g}")
+    return EXIT_OK
+
+
 def _resolve_mechanism(name: str) -> str:
     from pathlib import Path
     path = Path(name)
@@ -256,7 +296,8 @@ def main(argv: list[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return EXIT_INPUT
-    handler = {"check": _cmd_check, "reactions": _cmd_reactions, "sweep": _cmd_sweep}[args.command]
+    handler = {"check": _cmd_check, "reactions": _cmd_reactions, "sweep": _cmd_sweep, "new": _cmd_new,
+               "species": _cmd_species}[args.command]
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")

@@ -447,3 +447,40 @@ def from_mechanism(path: str | Path, phase_names: Sequence[str] | None = None,
         reactions.extend(_mechanism_reactions(ct, path, name, sol, offsets, system.labels))
     return ChemicalSystem(system.source, system.phases, system.species, system.elements,
                           system.formula_matrix, tuple(reactions), system.library_warnings)
+
+
+_FORMULA_TOKEN = re.compile(r"([A-Z][a-z]?)(\d*)")
+
+
+def _parse_formula(text: str) -> dict[str, int] | None:
+    """``CH4O`` -> {C: 1, H: 4, O: 1}; None when the text is not a plain formula."""
+    if not text or "".join(m.group(0) for m in _FORMULA_TOKEN.finditer(text)) != text:
+        return None
+    out: dict[str, int] = {}
+    for el, n in _FORMULA_TOKEN.findall(text):
+        out[el.upper()] = out.get(el.upper(), 0) + int(n or 1)
+    return out
+
+
+def search_species(query: str, limit: int = 40) -> list[dict]:
+    """Species of the packaged databases whose name contains ``query`` (any case) or whose
+    formula equals it; exact name matches first."""
+    q = query.strip()
+    formula = _parse_formula(q)
+    hits = []
+    for db, kind in ((GAS_DATABASE, "gas"), (CONDENSED_DATABASE, "condensed")):
+        for name, sp in packaged_species(db).items():
+            comp = {k.upper(): v for k, v in sp.composition.items() if k != "E"}
+            by_formula = formula is not None and comp == {k: float(v) for k, v in formula.items()}
+            if q.upper() in name.upper() or by_formula:
+                t_min, t_max = _thermo_range(sp)
+                hits.append({"name": name, "kind": kind, "database": db,
+                             "formula": "".join(f"{k}{'' if v == 1 else int(v) if float(v).is_integer() else v}"
+                                                for k, v in sp.composition.items() if k != "E"),
+                             "charge": int(sp.charge) if float(sp.charge).is_integer() else sp.charge,
+                             "t_min": t_min, "t_max": t_max,
+                             "_rank": (name.upper() != q.upper(), not by_formula, not name.upper().startswith(q.upper()), len(name))})
+    hits.sort(key=lambda h: h["_rank"])
+    for h in hits:
+        del h["_rank"]
+    return hits[:limit]
