@@ -297,6 +297,7 @@ class _Solver:
         self.phase_of = np.array([next(i for i, p in enumerate(system.phases) if p.name == s.phase) for s in system.species])
         self.solution = np.array([len(p.species) > 1 for p in system.phases])
         self.calls = 0
+        self.directions = _direction_matrix([dict(r.stoich) for r in analysis.derived_basis], system.n_species)
 
     def _ours(self, T: float, P: float) -> _Solution:
         from .minimiser import minimise_gibbs
@@ -358,6 +359,19 @@ class _Solver:
 
 
 # ------------------------------------------------------------------ certificate
+
+@functools.lru_cache(maxsize=64)
+def _basis_cached(reactions, n_species: int, present: tuple[int, ...]):
+    return basis_within(reactions, n_species, present)
+
+
+def _direction_matrix(vectors, n_species: int) -> np.ndarray:
+    V = np.zeros((len(vectors), n_species))
+    for i, v in enumerate(vectors):
+        for k, c in v.items():
+            V[i, k] = float(c)
+    return V
+
 
 def _fit_potentials(A: np.ndarray, mu: np.ndarray, present: np.ndarray):
     """Least-squares element potentials over present species; residual and the free directions."""
@@ -571,7 +585,7 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
 
     # affinities of the independent reactions among present species
     present_idx = [k for k in range(system.n_species) if present_species[k]]
-    basis = basis_within(analysis.reactions, system.n_species, present_idx)
+    basis = _basis_cached(analysis.reactions, system.n_species, tuple(present_idx))
     affinities = [abs(sum(float(c) * mu[k] for k, c in v.items())) for v in basis]
     max_aff = max(affinities) if affinities else 0.0
 
@@ -584,9 +598,9 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     x_ref = _mole_fractions(system, n)
     rng = np.random.default_rng(12345)
     if analysis.derived_basis and (case.specified.temperature_K is not None or True):
-        vecs = [dict(r.stoich) for r in analysis.derived_basis] if analysis.complete else [dict(v) for v in basis]
+        V = solver.directions if analysis.complete else _direction_matrix([dict(v) for v in basis], system.n_species)
         for trial in range(2):
-            start = _perturbed_start(n if trial == 0 else solver.n0, vecs, system.n_species, rng)
+            start = _perturbed_start(n if trial == 0 else solver.n0, V, rng)
             if start is None:
                 continue
             other = solver.solve(T, P, start) if analysis.complete else solver.solve(T, P)
@@ -693,76 +707,81 @@ def _mole_fractions(system: ChemicalSystem, n: np.ndarray) -> np.ndarray:
     return x
 
 
-def _perturbed_start(n: np.ndarray, vectors, n_species: int, rng) -> np.ndarray | None:
-    """A different composition with the same conserved quantities: n + sum_j t_j v_j >= 0."""
-    if not vectors:
+def _perturbed_start(n: np.ndarray, V: np.ndarray, rng) -> np.ndarray | None:
+    """A different composition with the same conserved quantities: ``n + sum_j t_j V_j >= 0``,
+    each step half of the largest that keeps every amount non-negative."""
+    if V.shape[0] == 0:
         return None
     start = n.astype(float).copy()
-    for v in rng.permutation(len(vectors)):
-        vec = np.zeros(n_species)
-        for k, c in vectors[v].items():
-            vec[k] = float(c)
-        sign = 1.0 if rng.random() < 0.5 else -1.0
-        d = sign * vec
+    for v in rng.permutation(V.shape[0]):
+        d = V[v] if rng.random() < 0.5 else -V[v]
         neg = d < 0
         if not neg.any():
             step = start.sum() * 0.3 / max(d.sum(), 1e-300)
         else:
-            step = 0.5 * np.min(start[neg] / -d[neg])
+            step = 0.5 * float(np.min(start[neg] / -d[neg]))
         if step > 0:
             start = start + step * d
-    start = np.where(start > 0, start, 0.0)
-    return start
+    return np.where(start > 0, start, 0.0)
 
 
 def _jacobian_rcond(case, system, model, count, spec, T, P, n) -> float:
-    """Smallest over largest singular value of the scaled Jacobian of the audit's equations."""
-    present = list(count.present_species)
-    x0 = _mole_fractions(system, n)[present]
-    z0 = np.concatenate([[math.log(T), math.log(P)], x0])
-    eqs = spec.equations
-    reactions = count.reactions_present
+    """Smallest over largest singular value of the scaled Jacobian of the audit's equations.
 
-    s = case.specified
+    Variables ``ln T, ln P`` and the mole fractions, columns of mole fractions scaled by
+    their values (relative changes); derivatives in the mole fractions are exact for the
+    ideal phases (d ln x / d x = 1/x), those in T and P by central differences of the
+    standard chemical potentials; rows scaled to unit length.
+    """
+    present = list(count.present_species)
     col = {k: 2 + j for j, k in enumerate(present)}
-    equilibria = [e for e in eqs if e.kind == "equilibrium"]
-    restrictions = [e for e in eqs if e.kind == "restriction"]
+    x_all = _mole_fractions(system, n)
+    x = x_all[present]
+    solution = {p.name: len(p.species) > 1 for p in system.phases}
+    s = case.specified
+    rows = []
+    for e in spec.equations:
+        if e.kind == "normalisation":
+            r = np.zeros(2 + len(present))
+            for c in e.variables:
+                r[c] = x[c - 2]
+            rows.append(r)
+    h = 1e-6
+    g_tp = model.g_RT(T * math.exp(h), P) - model.g_RT(T * math.exp(-h), P)
+    g_pp = model.g_RT(T, P * math.exp(h)) - model.g_RT(T, P * math.exp(-h))
+    for rxn in count.reactions_present:
+        r = np.zeros(2 + len(present))
+        r[0] = sum(float(c) * g_tp[k] for k, c in rxn.stoich) / (2 * h)
+        r[1] = sum(float(c) * g_pp[k] for k, c in rxn.stoich) / (2 * h)
+        for k, c in rxn.stoich:
+            if solution[system.species[k].phase]:
+                r[col[k]] += float(c)   # d(c ln x)/dx * x
+        rows.append(r)
+    for rel in count.relations:
+        r = np.zeros(2 + len(present))
+        for k, c in rel.coefficients:
+            r[col[k]] += float(c) * x_all[k]
+        rows.append(r)
 
     def index_in(name, phase):
         return [i for i in system.find(name) if system.species[i].phase == phase][0]
 
-    # specification residuals in the order structure.build_incidence adds them
-    spec_res = []
     if s.temperature_K is not None:
-        spec_res.append(lambda z: z[0] - math.log(s.temperature_K))
+        rows.append(np.eye(2 + len(present))[0])
     if s.pressure_Pa is not None:
-        spec_res.append(lambda z: z[1] - math.log(s.pressure_Pa))
+        rows.append(np.eye(2 + len(present))[1])
     for m in s.mole_fractions:
-        spec_res.append(lambda z, c=col[index_in(m.species, m.phase)], v=m.value: z[c] - v)
-    for r in s.ratios:
-        spec_res.append(lambda z, a=col[index_in(r.numerator, r.phase)], b=col[index_in(r.denominator, r.phase)],
-                        v=r.value: z[a] - v * z[b])
-
-    def residual(z):
-        T_, P_ = math.exp(z[0]), math.exp(z[1])
-        nn = np.zeros(system.n_species)
-        nn[present] = np.maximum(z[2:], 1e-300)
-        mu = model.mu_RT(T_, P_, nn)
-        out = [sum(z[c] for c in e.variables) - 1.0 for e in eqs if e.kind == "normalisation"]
-        out += [sum(float(c) * mu[k] for k, c in r.stoich) for r in reactions[:len(equilibria)]]
-        out += [sum(float(c) * z[col[k]] for k, c in rel.coefficients) for rel in count.relations[:len(restrictions)]]
-        out += [f(z) for f in spec_res]
-        return np.array(out)
-
-    J = np.zeros((len(eqs), len(z0)))
-    for j in range(len(z0)):
-        h = 1e-7 * max(abs(z0[j]), 1e-8) if j >= 2 else 1e-7
-        zp, zm = z0.copy(), z0.copy()
-        zp[j] += h
-        zm[j] -= h
-        J[:, j] = (residual(zp) - residual(zm)) / (2 * h)
-    # scale columns of mole fractions by their value (relative changes), rows to unit norm
-    J[:, 2:] *= np.maximum(x0, 1e-300)
+        r = np.zeros(2 + len(present))
+        k = index_in(m.species, m.phase)
+        r[col[k]] = x_all[k]
+        rows.append(r)
+    for q in s.ratios:
+        r = np.zeros(2 + len(present))
+        a, b = index_in(q.numerator, q.phase), index_in(q.denominator, q.phase)
+        r[col[a]] = x_all[a]
+        r[col[b]] = -q.value * x_all[b]
+        rows.append(r)
+    J = np.array(rows)
     norms = np.linalg.norm(J, axis=1)
     J = J / np.where(norms > 0, norms, 1.0)[:, None]
     sv = np.linalg.svd(J, compute_uv=False)
