@@ -245,7 +245,10 @@ def _kkt_newton(dual, c, nu, sol_act, lnN, pure_act, npure, tol, max_iter):
         J[:r, :r] = H
         J[:r, r:] = B
         J[r:, :r] = B.T
-        d = _solve(J, -F)
+        # Minimum-norm step: where the active set leaves nu undetermined (e.g.
+        # every present phase has compositions in a subspace), nu keeps its
+        # barrier value, which is stable for the absent phases.
+        d = np.linalg.lstsq(J, -F, rcond=1e-13)[0]
         dnu, dN, dn = d[:r], d[r : r + ka], d[r + ka :]
         dlnN = dN / np.exp(lnN) if ka else dN
         big = np.abs(dlnN).max() if ka else 0.0
