@@ -343,8 +343,10 @@ def load_case(path: str | Path) -> Case:
                 if m:
                     mech = (path.parent / m).resolve()
                     if not mech.is_file():
+                        mech = _cantera_data_file(m) or mech
+                    if not mech.is_file():
                         rd.problem(get(sm, "mechanism"), "system.mechanism", f"mechanism file {m!r} not found "
-                                   f"(looked for {mech})")
+                                   f"(looked for {(path.parent / m).resolve()} and among cantera's data files)")
                     source = "mechanism"
                 if "source" in sm:
                     rd.problem(get(sm, "source"), "system.source", "give either 'source: packaged' or 'mechanism:', not both")
@@ -594,6 +596,21 @@ def load_case(path: str | Path) -> Case:
     return Case(path=path, title=title, system=system_spec, reactions=reactions, feed=feed,
                 coexisting=coexisting, specified=spec, restrictions=tuple(restrictions),
                 claims=tuple(claims), lines=dict(rd.lines))
+
+
+def _cantera_data_file(name: str) -> Path | None:
+    """A mechanism shipped with cantera (``gri30.yaml``), when not found beside the case."""
+    if Path(name).is_absolute() or ".." in Path(name).parts:
+        return None
+    try:
+        import cantera as ct
+    except ImportError:
+        return None
+    for d in ct.get_data_directories():
+        for candidate in (Path(d) / name, Path(d) / "example_data" / name):
+            if candidate.is_file():
+                return candidate.resolve()
+    return None
 
 
 def _kind(v) -> str:

@@ -325,11 +325,21 @@ def basis_within(reactions: Sequence[Reaction], n_species: int, present: Sequenc
     cancel an absent species count.  Its dimension is ``rank(nu)`` minus the rank of
     ``nu`` restricted to the absent columns.
     """
+    present_set = set(present)
+    # listed reactions that already involve only present species come first, as written
+    chosen = exact.RowEchelon(track=False)
+    out = []
+    for r in reactions:
+        if r.stoich and all(k in present_set for k, _ in r.stoich):
+            if chosen.add(dict(r.stoich)) is None:
+                out.append(exact.primitive(dict(r.stoich)))
     ech = exact.RowEchelon(track=False)
     for r in reactions:
         if r.stoich:
             ech.add(dict(r.stoich))
-    present_set = set(present)
     absent = [k for k in range(n_species) if k not in present_set]
-    rows = exact.eliminate_columns(ech.basis_rows(), absent)
-    return tuple(exact.primitive(r) for r in rows)
+    # then what combinations that cancel absent species add
+    for row in exact.eliminate_columns(ech.basis_rows(), absent):
+        if chosen.add(row) is None:
+            out.append(exact.primitive(row))
+    return tuple(out)

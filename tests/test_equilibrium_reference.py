@@ -345,7 +345,8 @@ def test_handbook_fact_in_packaged_data(row):
 @pytest.mark.xfail(reason="BUG: an extensive specification (phase fraction) on a univariant equilibrium is "
                           "never met: the outer brentq on T (or P) converges onto the transition, where the "
                           "T,P minimisation jumps from one side to the other, and _solve_specified reports "
-                          "'met only to 2e-01' instead of splitting the amounts between the two sides",
+                          "'the phase fraction specification is met only to 2e-01' (calcite; 5e-01 for the "
+                          "others) instead of splitting the amounts between the two sides",
                    strict=True)
 @pytest.mark.parametrize("row", HANDBOOK_CASES, ids=[r["name"] for r in HANDBOOK_CASES])
 def test_handbook_fact_through_the_tool(tmp_path, row):
@@ -476,9 +477,10 @@ def test_certificate_identities_on_demo_cases(name):
         assert eq.lnK_additivity_error is not None and eq.lnK_additivity_error < 1e-9
 
 
-def test_demo_cases_that_solve_are_the_expected_ones():
+def test_demo_cases_that_solve_include_the_known_ones():
+    """Keeps the identity test above from passing vacuously (more demo cases may be added)."""
     solved_found = {n for n in DEMO_CASES if demo(n).equilibrium is not None and demo(n).equilibrium.solved}
-    assert solved_found == {"ammonia_converter_ratio.yaml", "aromatics_flash_phase_fraction.yaml",
+    assert solved_found >= {"ammonia_converter_ratio.yaml", "aromatics_flash_phase_fraction.yaml",
                             "combustor_adiabatic.yaml", "reformer_carbon_risk.yaml",
                             "reformer_design_point.yaml"}
 

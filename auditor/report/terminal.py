@@ -27,14 +27,23 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
         out += ["", "How the count was made:"] + [f"  {line}" for line in pr.explanation()]
     out += ["", f"Reactions: rank {a.rank} of {len(a.reactions)} listed; "
             + ("complete" if a.complete else "incomplete" if not a.unbalanced else "unbalanced reactions present")]
-    for x in pr.reactions_present:
+    shown = pr.reactions_present[:12]
+    if pr.reactions_present:
+        out.append("Independent reactions among the species of the coexisting phases:")
+    for x in shown:
         out.append(f"  {x.equation}")
+    if len(pr.reactions_present) > len(shown):
+        out.append(f"  ... and {len(pr.reactions_present) - len(shown)} more (see --json or --report)")
     out += ["", f"Specifications: {len(sp.intensive)} intensive ({', '.join(sp.intensive) or 'none'}), "
             f"{len(sp.extensive)} extensive ({', '.join(sp.extensive) or 'none'})"]
     if explain:
         out += ["Verdict rules as applied:"] + [l for reason in sp.reasons for l in _wrap(reason)]
     if sp.free:
-        out += _wrap("free in the intensive problem: " + ", ".join(sp.free))
+        names = ", ".join(sp.free[:8]) + (f" and {len(sp.free) - 8} more" if len(sp.free) > 8 else "")
+        if sp.status == "well-posed":
+            out += _wrap(f"left free by the intensive specifications and fixed by the extensive one(s): {names}")
+        else:
+            out += _wrap(f"free (structurally undetermined) variables: {names}")
     if sp.conflicting:
         out += _wrap("conflicting: " + "; ".join(sp.conflicting))
     if sp.suggestion:
