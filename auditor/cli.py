@@ -186,6 +186,14 @@ def _progress(done: int, total: int) -> None:
     sys.stderr.flush()
 
 
+def _file_sha256(path) -> str:
+    import hashlib
+    try:
+        return hashlib.sha256(Path(path).read_bytes()).hexdigest()
+    except OSError:
+        return ""
+
+
 def _cmd_sweep(args) -> int:
     from .case import load_case
     from .executors import make_executor
@@ -193,14 +201,30 @@ def _cmd_sweep(args) -> int:
     from .report.sweep_plot import sweep_svg
     from .sweep import PointResult, csv_text, grid, parse_vary, run_sweep
     axes = [parse_vary(v) for v in args.vary]
+    for name in ("jobs", "block_size"):
+        value = getattr(args, name)
+        if value is not None and value < 1:
+            raise InputError.single("--" + name.replace("_", "-"), f"must be at least 1, got {value}")
     case = load_case(args.case)
+    if case.feed is None:
+        raise InputError.single(args.case, "a sweep runs the Gibbs minimisation, which needs a feed; this case "
+                                "has none (it is an intensive problem: use 'auditor check')", "feed")
     prefix = args.out or Path(args.case).stem + "_sweep"
     csv_path, svg_path, journal = Path(f"{prefix}.csv"), Path(f"{prefix}.svg"), Path(f"{prefix}.partial.jsonl")
+    if not csv_path.parent.resolve().is_dir():
+        raise InputError.single(csv_path.parent, "output directory does not exist")
     for target in (csv_path, svg_path):
         check_target(target, [args.case], args.force or args.resume)
+    # the journal's first line says which case and grid it belongs to
+    header = json.dumps({"journal": 1, "case_sha256": _file_sha256(args.case),
+                         "grid": [[a.name, list(a.values)] for a in axes]}, sort_keys=True)
     done = []
     if args.resume and journal.exists():
-        for line in journal.read_text(encoding="utf-8").splitlines():
+        lines = journal.read_text(encoding="utf-8").splitlines()
+        if not lines or lines[0] != header:
+            raise InputError.single(journal, "this journal belongs to another case file or grid; run without "
+                                    "--resume (and with --force) to start again")
+        for line in lines[1:]:
             try:
                 done.append(PointResult.from_json(line))
             except (ValueError, KeyError, TypeError):
@@ -208,11 +232,13 @@ def _cmd_sweep(args) -> int:
     elif journal.exists() and not args.force:
         raise InputError.single(journal, "an unfinished sweep left this journal; pass --resume to continue it "
                                 "or --force to start again")
+    # rewrite the journal with only whole lines, so new results never join a fragment
+    write_atomic(journal, "\n".join([header] + [r.to_json() for r in done]) + "\n")
     total = len(grid(case, axes))
     counter = [len(done)]
     executor = make_executor(args.jobs, args.scheduler)
     try:
-        with open(journal, "a" if args.resume else "w", encoding="utf-8") as jf:
+        with open(journal, "a", encoding="utf-8") as jf:
             def on_result(r):
                 jf.write(r.to_json() + "\n")
                 jf.flush()

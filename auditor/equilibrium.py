@@ -24,7 +24,9 @@ The answer is not trusted: a certificate is checked instead.
 """
 from __future__ import annotations
 
+import contextlib
 import functools
+import io
 import math
 import time
 import warnings
@@ -117,7 +119,8 @@ class EquilibriumCheck:
 
     def summary_lines(self) -> list[str]:
         if not self.solved:
-            return ["Gibbs minimisation: not solved"] + [f"  {f.message}" for f in self.findings if f.topic == "equilibrium"][:3]
+            return [f"Gibbs minimisation: {f.message}" for f in self.findings if f.topic == "equilibrium"][:3] \
+                or ["Gibbs minimisation: not solved"]
         out = [f"Gibbs minimisation ({self.solver}) at T = {self.temperature_K:.2f} K, P = {self.pressure_Pa:.6g} Pa: "
                + ("CONFIRMED" if self.confirmed else "NOT CONFIRMED")]
         for p in self.phases:
@@ -272,6 +275,7 @@ class _Solution:
     solver: str
     converged: bool
     message: str = ""
+    sides: tuple | None = None      # the two end states when the solve stopped on a univariant transition
 
 
 def _conserved_matrix(analysis: ReactionAnalysis, n_species: int) -> np.ndarray:
@@ -297,6 +301,7 @@ class _Solver:
         self.phase_of = np.array([next(i for i, p in enumerate(system.phases) if p.name == s.phase) for s in system.species])
         self.solution = np.array([len(p.species) > 1 for p in system.phases])
         self.calls = 0
+        self.log: list[str] = []      # what cantera's solver printed
         self.directions = _direction_matrix([dict(r.stoich) for r in analysis.derived_basis], system.n_species)
 
     def _ours(self, T: float, P: float) -> _Solution:
@@ -340,13 +345,18 @@ class _Solver:
         mix.T = T
         mix.P = P
         mix.species_moles = start[usable_mask]
+        log = io.StringIO()
         try:
-            with warnings.catch_warnings():
+            # cantera's solver log goes to stdout; keep it out of the tool's output (and JSON)
+            with warnings.catch_warnings(), contextlib.redirect_stdout(log):
                 warnings.simplefilter("ignore")
                 mix.equilibrate("TP", solver=solver, max_steps=2000, max_iter=200, estimate_equil=0)
             converged, msg = True, ""
         except Exception as exc:
             converged, msg = False, " ".join(str(exc).split())[:300]
+        for line in log.getvalue().splitlines():
+            if line.strip() and line.strip() not in self.log:
+                self.log.append(line.strip())
         n = np.zeros(self.system.n_species)
         n[usable_mask] = mix.species_moles
         return _Solution(n, T, P, f"cantera {solver}", converged, msg)
@@ -559,9 +569,31 @@ def _solve_specified(case: Case, solver: _Solver, spec: SpecificationAudit) -> _
         x = _bracket_solve(f, 1.0, 1e9, True, "pressure")
     sol = solver.solve(x, P) if T is None else solver.solve(T, x)
     if abs(resid(sol)) > 1e-6:
+        sol = _on_transition(solver, resid, x, T, P) or sol
+    if abs(resid(sol)) > 1e-6:
         sol.converged = False
         sol.message = f"the {what} specification is met only to {abs(resid(sol)):.2e}"
     return sol
+
+
+def _on_transition(solver, resid, x, T, P):
+    """The residual jumps across x (a univariant transition: calcite/lime, boiling): every
+    mixture of the states on either side is an equilibrium state at x; return the one that
+    meets the extensive specification."""
+    from scipy.optimize import brentq
+    d = 1e-8 * x
+    at = (lambda v: solver.solve(v, P)) if T is None else (lambda v: solver.solve(T, v))
+    lo, hi = at(x - d), at(x + d)
+    if not (lo.converged and hi.converged):
+        return None
+    Tm, Pm = (x, P) if T is None else (T, x)
+
+    def mix(t):
+        return _Solution((1 - t) * lo.n + t * hi.n, Tm, Pm, lo.solver, True, "", (lo.n, hi.n))
+
+    if resid(mix(0.0)) * resid(mix(1.0)) > 0:
+        return None
+    return mix(brentq(lambda t: resid(mix(t)), 0.0, 1.0, xtol=1e-15))
 
 
 def _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0) -> EquilibriumCheck:
@@ -611,7 +643,14 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
             x_other = _mole_fractions(system, np.where(other.n > 0, other.n, 0.0))
             tot_o = _phase_totals(system, other.n)
             pres_o = tuple(p.name for p in system.phases if tot_o[p.name] / max(sum(tot_o.values()), 1e-300) > settings.PHASE_PRESENCE_FRACTION)
-            if pres_o != present_names or np.max(np.abs(x_other - x_ref)) > settings.UNIQUENESS_TOLERANCE:
+            if sol.sides is not None:
+                # on a transition a T,P restart lands on one side: it must agree on every phase it
+                # finds and find no other (the extensive specification sets the split)
+                found = [k for k in range(system.n_species) if system.species[k].phase in pres_o]
+                if not set(pres_o) <= set(present_names) or (
+                        found and np.max(np.abs(x_other[found] - x_ref[found])) > settings.UNIQUENESS_TOLERANCE):
+                    unique = False
+            elif pres_o != present_names or np.max(np.abs(x_other - x_ref)) > settings.UNIQUENESS_TOLERANCE:
                 unique = False
 
     # ln K additivity of dependent reactions
@@ -678,6 +717,9 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
         if not sp.t_min <= T <= sp.t_max:
             findings.append(Finding("warning", "data", f"T = {T:.1f} K is outside the thermo data range of "
                                     f"{sp.label} ({sp.t_min:g}-{sp.t_max:g} K): extrapolated", (sp.label,)))
+    for line in solver.log[:5]:
+        findings.append(Finding("note", "equilibrium", f"cantera's solver reported: {line} (the certificate "
+                                "above is what decides)"))
     for label, rho, src in model.assumed:
         findings.append(Finding("note", "data", f"density of {label} taken as {rho:g} kg/m3 ({src})", (label,)))
 

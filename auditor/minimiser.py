@@ -48,14 +48,29 @@ A_k.lambda)) >= 1``).  The solver runs in three stages:
 2. Active-set Newton polish (Gordon & McBride): Newton's method on the
    equations of the present phases -- element balance, ``ln sum x = 0`` for
    present solution phases, ``A_k.lambda = g_k`` for present pure phases -- in
-   the unknowns lambda, ln N_p (solution phases) and n_k (pure phases); then
-   remove a pure phase with negative amount (or a solution phase whose amount
-   collapses below 1e-40 of the scaled feed) or add the most unstable absent
-   phase, and repeat.
+   the unknowns lambda, ln N_p (solution phases) and n_k (pure phases), always
+   started from the barrier point (minimum-norm steps, so directions of lambda
+   that the present phases leave undetermined keep their stable barrier
+   value); then remove the most negative pure phase (or a solution phase whose
+   amount collapses below 1e-25 of the scaled feed) or add the most unstable
+   absent phase (stability function > 1e-10), and repeat.  The initial set is
+   read off the barrier path (multiplier > slack, or multiplier not falling
+   like 1/t); if the loop cycles, it is retried from every phase with a
+   non-negligible barrier amount, then from all phases.
+
+Convergence: scaled KKT residual <= tol, the phase equations measured relative
+to 1 + max |g_k| + |A_k.lambda| over the phase (their rounding floor).  Mole
+fractions below 1e-300 are reported as 0; pure-phase amounts within 1e-13 of
+the scaled feed below zero are reported as 0.
 
 Never raises on a well-formed input (shape and finiteness errors raise
 ValueError); infeasible or unbounded problems and non-convergence are reported
-with ``converged=False`` and a message.
+with ``converged=False`` and a message (then the barrier estimate is returned).
+Known limitation: when ``b`` lies (almost) exactly on a face of one phase's
+composition cone, the optimum needs vanishing amounts of other phases and the
+element potentials run off to infinity; the polish may then cycle and report
+``converged=False`` (about 1 in 2000 random problems of the kind in the
+tests; none of the chemical test systems).
 """
 from __future__ import annotations
 
@@ -469,7 +484,10 @@ def minimise_gibbs(A, g, phase_of, solution, b, *, tol=1e-12, max_iter=500) -> M
     h_b = dual.h(nu_b)
 
     def assemble(nu_, sol_amounts: dict, pure_amounts: dict):
-        """Full-length moles (unscaled) from nu and phase amounts; n_k = N_p x_k."""
+        """Full-length moles (unscaled) from nu and phase amounts.
+
+        n_k = N_p x_k with x_k = exp(C_k.nu - g_k - h_p), so ln x_k + g_k = C_k.nu
+        when h_p = 0; forced-absent species stay exactly 0."""
         _, _, _, xs_ = dual.eval(nu_)
         nf = np.zeros(free.size)
         for i, amt in sol_amounts.items():
@@ -482,6 +500,9 @@ def minimise_gibbs(A, g, phase_of, solution, b, *, tol=1e-12, max_iter=500) -> M
         return n
 
     def potentials(nu_):
+        # Invariant: A_k.(Ur nu) = C_k.nu for every free species k (its column lies
+        # in span(Ur)), and the shift lies in span(Nperp), orthogonal to those
+        # columns: so mu_k/RT = C_k.nu - h_p = A_k.lambda for present species.
         lam0 = Ur @ nu_
         shift, amsg = _absent_shift(A, g, zero, lam0, Nperp, size_of_species)
         return lam0 + shift, amsg

@@ -135,11 +135,16 @@ def parse_equation(text: str, system: ChemicalSystem, file: str = "", key_path: 
         if not side.strip():
             fail(f"equation {text!r} has an empty side")
         for term in _SEPARATOR.split(side.strip()):
-            m = _TERM.match(term.strip())
-            if not m:
+            term = term.strip()
+            whole = system.find(term)
+            m = _TERM.match(term)
+            if whole:      # a species whose name starts with a digit (1-C4H8) is a name, not 1 x '-C4H8'
+                coef_text, name, hits = None, term, whole
+            elif not m:
                 fail(f"cannot read term {term!r} in equation {text!r}")
-            coef_text, name = m.group(1), m.group(2).strip()
-            hits = system.find(name)
+            else:
+                coef_text, name = m.group(1), m.group(2).strip()
+                hits = system.find(name)
             if not hits and coef_text is None:
                 m2 = re.match(r"^(\d+)(\D.*)$", name)  # '2CO' written without a space
                 if m2 and system.find(m2.group(2)):

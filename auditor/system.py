@@ -173,13 +173,15 @@ def packaged_species(database: str) -> dict[str, object]:
         return {s.name: s for s in ct.Species.list_from_file(database)}
 
 
-def _formula_and_charge(sp) -> tuple[Formula, Fraction]:
+def _formula_and_charge(sp, source: str = "") -> tuple[Formula, Fraction]:
     comp = {k: v for k, v in sp.composition.items() if k not in ("E",)}
     formula = {}
     for k, v in comp.items():
         f = as_simple_fraction(v, COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE)
         if f is None:
-            raise MechanismError.single("", f"species {sp.name}: element amount {v!r} of {k} is not a simple fraction")
+            raise MechanismError.single(source or "mechanism", f"species {sp.name}: element amount {v!r} of {k} is "
+                                        f"not within {COEFFICIENT_TOLERANCE:g} of a fraction with denominator <= "
+                                        f"{COEFFICIENT_MAX_DENOMINATOR}", "species")
         formula[k] = f
     charge = as_simple_fraction(sp.charge, COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE) or Fraction(0)
     return Formula(formula), charge
@@ -205,7 +207,7 @@ def _assemble(source: str, raw: list[tuple[str, str, bool, list]], reactions=(),
     for pname, model, is_gas, sps in raw:
         labels = []
         for sp in sps:
-            formula, charge = _formula_and_charge(sp)
+            formula, charge = _formula_and_charge(sp, source)
             label = sp.name if counts[sp.name] == 1 else f"{sp.name}[{pname}]"
             t_min, t_max = _thermo_range(sp)
             species.append(SpeciesDef(sp.name, pname, label, formula, charge, t_min, t_max, source))
@@ -261,6 +263,10 @@ def from_packaged(phases: Mapping[str, Sequence[str]], where: str = "system.phas
                                     f"{where}.{pname}"))
         if not names:
             problems.append(Problem("packaged databases", f"phase {pname!r} lists no species", f"{where}.{pname}"))
+        twice = sorted({n for n in names if list(names).count(n) > 1})
+        if twice:
+            problems.append(Problem("packaged databases", f"phase {pname!r} lists {', '.join(twice)} more than once",
+                                    f"{where}.{pname}"))
         is_gas = kinds == {"gas"}
         model = "ideal-gas" if is_gas else ("fixed-stoichiometry" if len(sps) == 1 else "ideal-condensed")
         raw.append((pname, model, is_gas, sps))
@@ -294,18 +300,25 @@ def mechanism_phase_names(path: str | Path) -> list[str]:
     try:
         block = yaml.safe_load("\n".join(lines[start:end]))
         names = [str(p["name"]) for p in block["phases"]]
-    except Exception as exc:
-        raise MechanismError.single(path, f"malformed 'phases:' section: {exc}", "phases", start + 1) from None
+    except yaml.YAMLError as exc:
+        mark = getattr(exc, "problem_mark", None)
+        line = start + 1 + mark.line if mark else start + 1
+        what = getattr(exc, "problem", None) or "cannot be parsed"
+        raise MechanismError.single(path, f"malformed 'phases:' section: {what}", "phases", line) from None
+    except (TypeError, KeyError, AttributeError):
+        raise MechanismError.single(path, "malformed 'phases:' section: expected a list of phases, each with a "
+                                    "'name'", "phases", start + 1) from None
     return names
 
 
 def _load_phase(ct, path: Path, name: str, notes: list[str]):
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
-        sol = ct.Solution(str(path), name)
+        # transport data are never used here, and a file's transport model may lack them
+        sol = ct.Solution(str(path), name, transport_model=None)
         if sol.thermo_model in ("ideal-surface", "coverage-dependent-surface", "edge"):
             # an interface's reactions involve its adjacent phases: cantera loads them
-            sol = ct.Interface(str(path), name)
+            sol = ct.Interface(str(path), name, transport_model=None)
     notes.extend(_library_note(w.message) for w in caught)
     return sol
 
@@ -363,7 +376,7 @@ def _exact_coefficient(value: float, path: Path, equation: str, species: str) ->
     return f
 
 
-def _mechanism_reactions(ct, path: Path, pname: str, sol, offsets: dict[str, int], system_labels) -> list[MechanismReaction]:
+def _mechanism_reactions(ct, path: Path, pname: str, sol, offsets: dict[str, int], system_names) -> list[MechanismReaction]:
     """Net exact stoichiometry of every reaction of one phase's kinetics.
 
     Uses cantera's sparse stoichiometric matrices (one call, no per-reaction objects),
@@ -380,7 +393,7 @@ def _mechanism_reactions(ct, path: Path, pname: str, sol, offsets: dict[str, int
             kin_to_system.append(offsets[ph_name] + k)
     kin_names = sol.kinetics_species_names
     if len(kin_names) != len(kin_to_system) or any(
-            system_labels[i].split("[")[0] != nm for i, nm in zip(kin_to_system, kin_names)):
+            system_names[i] != nm for i, nm in zip(kin_to_system, kin_names)):
         raise MechanismError.single(path, f"cannot map the kinetics species of phase {pname!r} to its phases", "phases")
     ct.use_sparse(True)
     try:
@@ -444,7 +457,7 @@ def from_mechanism(path: str | Path, phase_names: Sequence[str] | None = None,
     for name, sol in loaded:
         if phase_names and name not in phase_names and any(name in getattr(s, "adjacent", {}) for _, s in loaded):
             continue  # an adjacent phase brought in only to complete an interface
-        reactions.extend(_mechanism_reactions(ct, path, name, sol, offsets, system.labels))
+        reactions.extend(_mechanism_reactions(ct, path, name, sol, offsets, [sp.name for sp in system.species]))
     return ChemicalSystem(system.source, system.phases, system.species, system.elements,
                           system.formula_matrix, tuple(reactions), system.library_warnings)
 

@@ -154,13 +154,6 @@ def test_phase_selection(phases, capsys):
     assert doc["complete"] == (doc["rank"] == doc["max_independent"])
 
 
-def test_phase_selection_subprocess():
-    proc = run_cli("reactions", str(DATA / "ptcombust.yaml"), "--phase", "gas", "--json")
-    assert proc.returncode == 0, proc.stderr
-    doc = json.loads(proc.stdout)
-    assert (doc["species"], doc["reactions"], doc["formula_rank"]) == (32, 186, 5)  # cantera; O,H,C,N,Ar
-
-
 # ------------------------------------------------------------------ small mechanisms written here
 
 NASA7_H2 = """    model: NASA7
@@ -288,7 +281,7 @@ def test_bad_input_in_process(name, tmp_path, capsys):
     assert_one_clean_error(rc, out, err, *fragments)
 
 
-@pytest.mark.parametrize("name", ["missing file", "non-rational coefficient", "unbalanced reaction"])
+@pytest.mark.parametrize("name", ["missing file", "non-rational coefficient"])
 def test_bad_input_subprocess(name, tmp_path):
     argv, fragments = _bad_inputs(tmp_path)[name]
     proc = run_cli("reactions", *argv)

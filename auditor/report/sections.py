@@ -93,7 +93,9 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
         _para(f"Conflicting specifications: {'; '.join(sp['conflicting']) or 'none'}"),
         _para(f"Suggested fix: {sp['suggestion'] or 'none needed'}")]))
     eq = doc["equilibrium"]
-    if eq is None:
+    if eq is None and r.case.feed is not None:
+        eblocks = [_para("The Gibbs minimisation was not run (counting only, --no-confirm).")]
+    elif eq is None:
         eblocks = [_para("No Gibbs minimisation: the case gives no feed (an intensive problem).")]
     elif not eq["solved"]:
         eblocks = [_para("The Gibbs minimisation was not run or did not solve; see the findings.")]
