@@ -86,7 +86,7 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
                                 "reactions and restrictions", count.coexisting))
     for rel in count.double_counted:
         findings.append(Finding("warning", "phase-rule", f"declared restriction '{rel.text}' ({rel.key_path}) is "
-                                "already implied by the feed: counted once, not twice", (rel.key_path,)))
+                                f"already {rel.origin}: counted once, not twice", (rel.key_path,)))
     for rel in count.relations:
         if rel.origin == "feed":
             findings.append(Finding("note", "phase-rule", f"the feed imposes {rel.text}", (rel.phase,)))

@@ -14,6 +14,7 @@ import functools
 import math
 import re
 from dataclasses import dataclass, field
+from fractions import Fraction
 from pathlib import Path
 from typing import Any, Mapping
 
@@ -95,7 +96,7 @@ class Case:
     title: str
     system: SystemSpec
     reactions: str | tuple[tuple[str, str], ...]   # "complete", "from-mechanism", or (equation, key path)
-    feed: tuple[tuple[str, float], ...] | None     # species label -> mol
+    feed: tuple[tuple[str, Fraction], ...] | None  # species label -> mol, exact as written
     coexisting: tuple[str, ...] | None
     specified: Specified
     restrictions: tuple[DeclaredRestriction, ...]
@@ -154,6 +155,20 @@ def parse_quantity(value: Any, kind: str) -> float:
         raise ValueError(f"cannot read unit {unit!r} of {kind}: {exc}") from None
 
 
+def parse_amount(value: Any) -> "Fraction":
+    """Exact amount in mol: the decimal as written times the exact unit factor
+    (``0.1 lbmol`` is exactly 45.359237 mol, so ratios of feed amounts survive conversion)."""
+    from fractions import Fraction
+    si = parse_quantity(value, "amount")
+    if isinstance(value, (int, float)):
+        return Fraction(repr(float(value))) if isinstance(value, float) else Fraction(value)
+    m = _NUMBER_UNIT.match(value)
+    number, unit = m.group(1), (m.group(2) or "mol")
+    factor = _units().Quantity(1.0, unit).to("mol").magnitude
+    exact = Fraction(number) * Fraction(repr(float(factor)))
+    return exact if abs(float(exact) - si) <= 1e-12 * max(abs(si), 1.0) else Fraction(repr(si))
+
+
 def _example(kind: str) -> str:
     return {"temperature": "'850 degC' or 1123.15 (K)", "pressure": "'25 bar' or 101325 (Pa)",
             "amount": "'2 kmol' or 1.5 (mol)"}[kind]
@@ -197,6 +212,9 @@ class _Reader:
                 if not isinstance(key, (str, int, float)):
                     self.problem(k, key_path, "mapping keys must be plain names")
                     continue
+                if str(key) in out:
+                    self.problem(k, f"{key_path}.{key}".lstrip("."), f"key {key!r} appears twice; keep one")
+                    continue
                 out[str(key)] = (k, v)
             return _Mapping(out)
         if isinstance(node, yaml.SequenceNode):
@@ -216,19 +234,42 @@ def _scalar_loader():
     return yaml.SafeLoader("")
 
 
+def _check_budget(root, file: str) -> None:
+    """Refuse a node tree that expands (through aliases) beyond the node budget or nests
+    beyond the depth limit, before anything walks it; stops as soon as a limit is hit."""
+    import yaml
+    stack = [(root, 0)]
+    seen = 0
+    while stack:
+        node, depth = stack.pop()
+        seen += 1
+        if seen > settings.MAX_YAML_NODES:
+            raise LimitError(Problem(file, f"case file expands to more than {settings.MAX_YAML_NODES} YAML nodes "
+                                     "(alias expansion?); refused", "", node.start_mark.line + 1))
+        if depth > settings.MAX_YAML_DEPTH:
+            raise LimitError(Problem(file, f"case file nests deeper than {settings.MAX_YAML_DEPTH} levels; refused",
+                                     "", node.start_mark.line + 1))
+        if isinstance(node, yaml.MappingNode):
+            for k, v in node.value:
+                stack.append((k, depth + 1))
+                stack.append((v, depth + 1))
+        elif isinstance(node, yaml.SequenceNode):
+            stack.extend((v, depth + 1) for v in node.value)
+
+
 def _load_nodes(path: Path):
     import yaml
+    if path.is_dir():
+        raise CaseError(Problem(str(path), "is a directory, not a case file"))
     try:
-        size = path.stat().st_size
+        # read at most one byte past the limit, whatever stat says (pipes report size 0)
+        with open(path, "rb") as fh:
+            raw = fh.read(settings.MAX_CASE_FILE_BYTES + 1)
     except OSError as exc:
         raise CaseError(Problem(str(path), f"cannot read case file: {exc.strerror or exc}")) from None
-    if size > settings.MAX_CASE_FILE_BYTES:
-        raise LimitError(Problem(str(path), f"case file is {size} bytes, more than the limit of "
-                                 f"{settings.MAX_CASE_FILE_BYTES}; refused"))
-    try:
-        raw = path.read_bytes()
-    except OSError as exc:
-        raise CaseError(Problem(str(path), f"cannot read case file: {exc.strerror or exc}")) from None
+    if len(raw) > settings.MAX_CASE_FILE_BYTES:
+        raise LimitError(Problem(str(path), f"case file is larger than the limit of "
+                                 f"{settings.MAX_CASE_FILE_BYTES} bytes; refused"))
     if b"\x00" in raw:
         raise CaseError(Problem(str(path), "this is a binary file, not a YAML case file"))
     try:
@@ -245,9 +286,13 @@ def _load_nodes(path: Path):
         col = mark.column + 1 if mark else None
         what = getattr(exc, "problem", None) or str(exc)
         raise CaseError(Problem(str(path), f"YAML syntax error: {what}", "", line, col)) from None
+    except RecursionError:
+        raise LimitError(Problem(str(path), f"case file nests deeper than {settings.MAX_YAML_DEPTH} levels; "
+                                 "refused")) from None
     docs = [d for d in docs if d is not None]
     if len(docs) != 1:
         raise CaseError(Problem(str(path), f"expected one YAML document, found {len(docs)}"))
+    _check_budget(docs[0], str(path))
     if not isinstance(docs[0], yaml.MappingNode):
         raise CaseError(Problem(str(path), "a case file is a mapping of keys such as title, system, feed, specified",
                                 "", docs[0].start_mark.line + 1))
@@ -294,16 +339,16 @@ def load_case(path: str | Path) -> Case:
         return rd.plain(node, kp) if node is not None else None
 
     def want_str(node, kp, what="a name") -> str | None:
-        v = value_of(node, kp)
+        v = rd.plain(node, kp, names=True) if node is not None else None
         if not isinstance(v, str) or not v.strip():
-            rd.problem(node, kp, f"expected {what}, got {v!r}")
+            rd.problem(node, kp, f"expected {what}, got {_kind(v)}")
             return None
         return v.strip()
 
     def want_fraction(node, kp, what: str) -> float | None:
         v = value_of(node, kp)
         if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
-            rd.problem(node, kp, f"expected {what} as a number, got {v!r}")
+            rd.problem(node, kp, f"expected {what} as a number, got {_kind(v)}")
             return None
         return float(v)
 
@@ -354,7 +399,7 @@ def load_case(path: str | Path) -> Case:
                 s = value_of(get(sm, "source"), "system.source")
                 if s != "packaged":
                     rd.problem(get(sm, "source"), "system.source",
-                               f"expected 'packaged' (the thermo databases that ship with cantera), got {s!r}; "
+                               f"expected 'packaged' (the thermo databases that ship with cantera), got {_kind(s)}; "
                                "for a mechanism file write 'mechanism: FILE'")
             else:
                 rd.problem(snode, "system", "say where species come from: 'source: packaged' or 'mechanism: FILE'")
@@ -366,11 +411,11 @@ def load_case(path: str | Path) -> Case:
             else:
                 pv = value_of(pnode, "system.phases")
                 if isinstance(pv, list) and source == "mechanism":
-                    for i, (n, v) in enumerate(pv):
+                    for i, (n, v) in enumerate(rd.plain(pnode, "system.phases", names=True)):
                         if isinstance(v, str):
                             phases.append((v, None))
                         else:
-                            rd.problem(n, f"system.phases[{i}]", f"expected a phase name, got {v!r}")
+                            rd.problem(n, f"system.phases[{i}]", f"expected a phase name, got {_kind(v)}")
                 elif isinstance(pv, _Mapping):
                     for name, (kn, vn) in pv.items():
                         kp = f"system.phases.{name}"
@@ -383,14 +428,14 @@ def load_case(path: str | Path) -> Case:
                                 if isinstance(s, str) and s.strip():
                                     names.append(s.strip())
                                 else:
-                                    rd.problem(n, f"{kp}[{i}]", f"expected a species name, got {s!r}")
+                                    rd.problem(n, f"{kp}[{i}]", f"expected a species name, got {_kind(s)}")
                             dup = {s for s in names if names.count(s) > 1}
                             if dup:
                                 rd.problem(vn, kp, f"species listed twice in phase {name!r}: {', '.join(sorted(dup))}")
                             phases.append((name, tuple(names)))
                         else:
                             rd.problem(vn, kp, "expected a list of species names"
-                                       + (" or 'all'" if source == "mechanism" else "") + f", got {v!r}")
+                                       + (" or 'all'" if source == "mechanism" else "") + f", got {_kind(v)}")
                 else:
                     rd.problem(pnode, "system.phases", "expected phase name: [species, ...]"
                                + (" or a list of phase names" if source == "mechanism" else ""))
@@ -420,7 +465,7 @@ def load_case(path: str | Path) -> Case:
                 if isinstance(e, str) and e.strip():
                     eqs.append((e, f"reactions[{i}]"))
                 else:
-                    rd.problem(n, f"reactions[{i}]", f"expected an equation such as 'CO + H2O <=> CO2 + H2', got {e!r}")
+                    rd.problem(n, f"reactions[{i}]", f"expected an equation such as 'CO + H2O <=> CO2 + H2', got {_kind(e)}")
             if len(eqs) > settings.MAX_CASE_REACTIONS:
                 rd.problem(rnode, "reactions", f"{len(eqs)} reactions is more than the limit of {settings.MAX_CASE_REACTIONS}")
             reactions = tuple(eqs)
@@ -438,12 +483,12 @@ def load_case(path: str | Path) -> Case:
                 kp = f"feed.{sp}"
                 v = value_of(vn, kp)
                 try:
-                    amount = parse_quantity(v, "amount")
+                    amount = parse_amount(v)
                 except ValueError as exc:
                     rd.problem(vn, kp, str(exc))
                     continue
                 if amount < 0:
-                    rd.problem(vn, kp, f"feed amount must not be negative, got {v!r}")
+                    rd.problem(vn, kp, f"feed amount must not be negative, got {_kind(v)}")
                     continue
                 items.append((sp, amount))
             if fm and items and all(a == 0 for _, a in items):
@@ -454,14 +499,17 @@ def load_case(path: str | Path) -> Case:
     coexisting = None
     cnode = get(top, "coexisting")
     if cnode is not None:
-        cl = want_list(cnode, "coexisting")
+        cl = rd.plain(cnode, "coexisting", names=True)
+        if not isinstance(cl, list):
+            rd.problem(cnode, "coexisting", f"expected a list of phase names, got {_kind(cl)}")
+            cl = None
         if cl is not None:
             names = []
             for i, (n, v) in enumerate(cl):
                 if isinstance(v, str):
                     names.append(v)
                 else:
-                    rd.problem(n, f"coexisting[{i}]", f"expected a phase name, got {v!r}")
+                    rd.problem(n, f"coexisting[{i}]", f"expected a phase name, got {_kind(v)}")
             if not names and not cl:
                 rd.problem(cnode, "coexisting", "at least one phase must be assumed present")
             coexisting = tuple(names)
@@ -576,7 +624,7 @@ def load_case(path: str | Path) -> Case:
                 v = value_of(vn, kp)
                 if key in ("independent-reactions", "degrees-of-freedom", "components"):
                     if isinstance(v, bool) or not isinstance(v, int):
-                        rd.problem(vn, kp, f"expected a whole number, got {v!r}")
+                        rd.problem(vn, kp, f"expected a whole number, got {_kind(v)}")
                         continue
                 elif key == "phases-present":
                     if not isinstance(v, list) or not all(isinstance(p, str) for _, p in v):
@@ -585,7 +633,7 @@ def load_case(path: str | Path) -> Case:
                     v = tuple(sorted(p for _, p in v))
                 elif key == "verdict":
                     if v not in VERDICTS:
-                        rd.problem(vn, kp, f"expected one of {', '.join(VERDICTS)}, got {v!r}")
+                        rd.problem(vn, kp, f"expected one of {', '.join(VERDICTS)}, got {_kind(v)}")
                         continue
                 else:
                     continue
@@ -614,11 +662,13 @@ def _cantera_data_file(name: str) -> Path | None:
 
 
 def _kind(v) -> str:
+    """How a value is shown in a message: never the YAML structure itself."""
     if isinstance(v, _Mapping):
         return "a mapping"
     if isinstance(v, list):
-        return "a list"
-    return repr(v)
+        return "a list" if v else "an empty list"
+    text = repr(v)
+    return text if len(text) <= 80 else text[:77] + "..."
 
 
 def _ratio(rd, node, kp, value_of, want_str, want_fraction, want_mapping, check_keys) -> RatioSpec | None:
@@ -656,6 +706,18 @@ def build_system(case: Case):
             return from_packaged(dict(spec.phases))
         names = [p for p, _ in spec.phases] or None
         subsets = {p: s for p, s in spec.phases if s is not None}
+        if names:
+            from .system import mechanism_phase_names, unknown_name_message
+            available = mechanism_phase_names(spec.mechanism)
+            listed_as_mapping = any(s is not None for _, s in spec.phases) or case.line("system.phases[0]") is None
+            problems = []
+            for i, n in enumerate(names):
+                if n not in available:
+                    kp = f"system.phases.{n}" if listed_as_mapping else f"system.phases[{i}]"
+                    problems.append(Problem(str(case.path), unknown_name_message(
+                        "phase", n, available, Path(spec.mechanism).name), kp, case.line(kp)))
+            if problems:
+                raise CaseError(problems)
         return from_mechanism(spec.mechanism, names, subsets or None, with_reactions=case.reactions == "from-mechanism")
     except InputError as exc:
         # re-point each problem at the case file line where the offending key sits

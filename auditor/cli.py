@@ -23,6 +23,13 @@ def _parser() -> argparse.ArgumentParser:
         prog="auditor",
         description="Audit the setup of a chemical-equilibrium problem: balances, independent "
                     "reactions, phase rule, specifications, and a confirming Gibbs minimisation.",
+        epilog="examples:\n  auditor check                      audit the packaged demo case\n"
+               "  auditor new my_case.yaml           write a commented starter case\n"
+               "  auditor check my_case.yaml --report audit.html\n"
+               "  auditor reactions gri30.yaml       stoichiometry of a mechanism\n"
+               "  auditor species CaCO3              find species names\n"
+               "  auditor sweep my_case.yaml --vary temperature=600:1400:25\n"
+               "run 'auditor COMMAND --help' for each command's options.",
         formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("--version", action="version", version=f"auditor {__version__}")
     p.add_argument("--debug", action="store_true", help="show a traceback on errors")
@@ -121,9 +128,11 @@ def _cmd_check(args) -> int:
         write_atomic(args.report, render_report(results[0], Path(args.report).suffix.lower()))
         if not args.quiet:
             print(f"report written to {args.report}", file=sys.stderr)
-    if args.json:
+    if args.json and results:
         docs = [check_document(r) for r in results]
-        print(json.dumps(docs[0] if len(paths) == 1 and docs else docs, indent=1))
+        print(json.dumps(docs[0] if len(paths) == 1 else docs, indent=1))
+    elif args.report and results and not args.quiet:
+        print(summary_line(results[0]))
     elif len(paths) == 1 and results and not args.quiet:
         sys.stdout.write(colourise(audit_text(results[0], explain=args.explain)))
     elif not args.quiet or len(paths) > 1:
@@ -232,11 +241,15 @@ def _cmd_sweep(args) -> int:
     elif journal.exists() and not args.force:
         raise InputError.single(journal, "an unfinished sweep left this journal; pass --resume to continue it "
                                 "or --force to start again")
+    total = len(grid(case, axes))                        # checks the axes before any file is touched
+    executor = make_executor(args.jobs, args.scheduler)  # checks --scheduler likewise
     # rewrite the journal with only whole lines, so new results never join a fragment
-    write_atomic(journal, "\n".join([header] + [r.to_json() for r in done]) + "\n")
-    total = len(grid(case, axes))
+    try:
+        write_atomic(journal, "\n".join([header] + [r.to_json() for r in done]) + "\n")
+    except BaseException:
+        executor.close()
+        raise
     counter = [len(done)]
-    executor = make_executor(args.jobs, args.scheduler)
     try:
         with open(journal, "a", encoding="utf-8") as jf:
             def on_result(r):

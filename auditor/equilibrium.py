@@ -119,8 +119,8 @@ class EquilibriumCheck:
 
     def summary_lines(self) -> list[str]:
         if not self.solved:
-            return [f"Gibbs minimisation: {f.message}" for f in self.findings if f.topic == "equilibrium"][:3] \
-                or ["Gibbs minimisation: not solved"]
+            msgs = [f.message for f in self.findings if f.topic == "equilibrium"][:3]
+            return msgs or ["Gibbs minimisation: not solved"]
         out = [f"Gibbs minimisation ({self.solver}) at T = {self.temperature_K:.2f} K, P = {self.pressure_Pa:.6g} Pa: "
                + ("CONFIRMED" if self.confirmed else "NOT CONFIRMED")]
         for p in self.phases:
@@ -442,7 +442,7 @@ def _absent_driving_forces(system, model_g, A, lam, free, phase_present, phase_o
 def _feed_vector(case: Case, system: ChemicalSystem) -> np.ndarray:
     n0 = np.zeros(system.n_species)
     for name, amount in case.feed or ():
-        n0[system.find(name)[0]] += amount
+        n0[system.find(name)[0]] += float(amount)
     return n0
 
 

@@ -81,7 +81,7 @@ class PhaseRuleCount:
         for rel in self.relations:
             lines.append(f"    {rel.origin}: {rel.text}")
         for rel in self.double_counted:
-            lines.append(f"    declared but already implied (counted once): {rel.text}")
+            lines.append(f"    declared but already {rel.origin} (counted once): {rel.text}")
         lines.append(f"C = N - m - r = {self.n_species} - {self.independent_reactions} - {self.restrictions} = {self.components} components")
         lines.append(f"F = 2 + C - pi = 2 + {self.components} - {self.n_phases} = {self.degrees_of_freedom} "
                      "intensive variables may be fixed independently")
@@ -103,9 +103,21 @@ def relation_text(phase: str, coeffs: dict[int, Fraction | int], labels: Sequenc
     return f"in phase {phase}: {text} = {rhs}"
 
 
-def _exact_amount(x: float) -> Fraction:
-    # the decimal the user wrote (repr is the shortest round-tripping decimal)
-    return Fraction(repr(float(x)))
+def _exact_amount(x) -> Fraction:
+    # feed amounts are exact already; a float is taken as the decimal it prints as
+    return x if isinstance(x, Fraction) else Fraction(repr(float(x)))
+
+
+def _count_declared(rel: Relation, u, counted, feed_only, relations, double) -> int:
+    """Count a declared relation once if it is new; otherwise record what already implies it."""
+    if counted.add(u) is None:
+        relations.append(rel)
+        return 1
+    by_feed = not feed_only.reduce(u)[0]
+    double.append(Relation(rel.phase, rel.coefficients,
+                           "implied by the feed" if by_feed else "implied by the other restrictions",
+                           rel.text, rel.key_path))
+    return 0
 
 
 def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
@@ -143,6 +155,8 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
             declared_by_phase.setdefault(rr.phase, []).append(({i_num: 1, i_den: -val}, r.key_path,
                                                                f"x({labels[i_num]}) / x({labels[i_den]}) = {rr.value:g}"))
 
+    counted = exact.RowEchelon(track=False)     # every relation counted so far
+    feed_only = exact.RowEchelon(track=False)   # those the feed (and electroneutrality) imply
     for phase in coexisting:
         idx = [k for k in system.phase_indices(phase)]
         outside = [k for k in present if k not in set(idx)]
@@ -170,31 +184,37 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
             z = exact.primitive({k: c for k, c in charges.items()})
             found.append((z, "electroneutrality", relation_text(phase, z, labels), ""))
         # independent feed/electroneutrality relations of this phase
-        ech = exact.RowEchelon(track=False)
         for u, origin, text, kp in found:
-            if ech.add(u) is None:
+            feed_only.add(u)
+            if counted.add(u) is None:
                 relations.append(Relation(phase, tuple(sorted(u.items())), origin, text, kp))
                 r_feed += 1
         for u, kp, text in declared_by_phase.get(phase, []):
             rel = Relation(phase, tuple(sorted(u.items())), "declared", f"in phase {phase}: {text}", kp)
-            if ech.add(u) is None:
-                relations.append(rel)
-                r_declared += 1
-            else:
-                double.append(rel)
-    # relations that tie phases together
+            r_declared += _count_declared(rel, u, counted, feed_only, relations, double)
+    # relations that tie phases together; both normalisations make x(a) - x(c) summed over all
+    # species zero already, so that combination is implied and not counted
     for r in case.restrictions:
         if r.kind == "same-composition" and all(p in coexisting for p in r.phases):
             first = r.phases[0]
-            n_rel = 0
             for other in r.phases[1:]:
                 pairs = matching_species(system, first, other)
-                for a, c in pairs[:-1]:   # the last follows from both normalisations
-                    relations.append(Relation("across phases", ((a, 1), (c, -1)), "declared",
-                                              f"x({labels[a]}) = x({labels[c]}) (same composition of {first} and {other})",
-                                              r.key_path))
-                    n_rel += 1
-            r_declared += n_rel
+                implied = {}
+                for a, c in pairs:
+                    implied[a], implied[c] = 1, -1
+                counted.add(implied)
+                feed_only.add(implied)
+                new = 0
+                for a, c in pairs:
+                    if counted.add({a: 1, c: -1}) is None:
+                        relations.append(Relation("across phases", ((a, 1), (c, -1)), "declared",
+                                                  f"x({labels[a]}) = x({labels[c]}) (same composition of {first} "
+                                                  f"and {other})", r.key_path))
+                        new += 1
+                r_declared += new
+                if not new:   # the whole declaration repeats what is already counted
+                    double.append(Relation("across phases", (), "implied by the other restrictions",
+                                           f"same composition of {first} and {other}", r.key_path))
     return PhaseRuleCount(
         coexisting=tuple(coexisting), present_species=present, n_species=len(present),
         n_phases=len(coexisting), independent_reactions=m, reactions_present=reactions_present,

@@ -129,13 +129,13 @@ def audit(case: Case, system: ChemicalSystem, count: PhaseRuleCount) -> Specific
         elif n_int + n_ext < 2:
             status = "under-specified"
             need = 2 - n_int - n_ext
-            reasons.append(f"{n_int + n_ext} specifications are fewer than Duhem's 2")
+            reasons.append(f"{n_int + n_ext} specification{'s are' if n_int + n_ext != 1 else ' is'} fewer than Duhem's 2")
             room = F - n_int
             hint = []
             if room > 0:
                 hint.append(f"an intensive variable such as {' or '.join(free[:3]) or 'temperature or pressure'}")
             hint.append("an extensive one: a phase fraction, or an adiabatic enthalpy balance")
-            suggestion = f"fix {need} more variable(s): " + ", or ".join(hint)
+            suggestion = f"fix {need} more variable{'s' if need > 1 else ''}: " + ", or ".join(hint)
         else:
             status = "well-posed"
             reasons.append("the counts satisfy both rules and no specification conflicts in the structure")
@@ -163,6 +163,11 @@ def audit(case: Case, system: ChemicalSystem, count: PhaseRuleCount) -> Specific
             suggestion = ""
     if F < 0:
         reasons.append(f"F = {F} < 0: the assumed phases cannot coexist")
+        status = "over-specified"
+        conflicting = ()
+        suggestion = (f"the {count.n_phases} phases assumed to coexist ({', '.join(count.coexisting)}) cannot all "
+                      f"be present at equilibrium: assume at most {count.n_phases + F} of them (remove {-F} from "
+                      "'coexisting'), or check the reactions and restrictions")
     return SpecificationAudit(
         intensive=tuple(intensive), extensive=tuple(extensive), variables=tuple(variables),
         equations=tuple(eqs), decomposition=dm, free=free, conflicting=conflicting, status=status,

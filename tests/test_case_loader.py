@@ -103,7 +103,7 @@ ROWS = {
     "phases-not-mapping": Row("system:\n  source: packaged\n  phases: [gas]\n", "system.phases", 3,
                               "expected phase name: [species, ...]"),
     "empty-species-list": Row("system:\n  source: packaged\n  phases:\n    gas: []\n", "system.phases.gas", 4,
-                              "expected a list of species names, got []"),
+                              "expected a list of species names, got an empty list"),
     "non-string-species": Row("system:\n  source: packaged\n  phases:\n    gas: [1, CH4]\n",
                               "system.phases.gas[0]", 4, "expected a species name, got 1"),
     "species-twice": Row("system:\n  source: packaged\n  phases:\n    gas: [CH4, H2O, CH4]\n",
@@ -291,7 +291,7 @@ def test_missing_file(tmp_path):
 def test_directory_instead_of_file(tmp_path):
     with pytest.raises(CaseError) as info:
         load_case(tmp_path)
-    assert str(info.value) == f"{tmp_path}: cannot read case file: Is a directory"          # strerror of EISDIR
+    assert str(info.value) == f"{tmp_path}: is a directory, not a case file"          # strerror of EISDIR
 
 
 YAML_SYNTAX = {
@@ -387,8 +387,6 @@ def test_mechanism_unknown_species_points_at_the_case(tmp_path, h2o2):
     assert "unknown species 'XX' in phase 'ohmech'" in problem.message
 
 
-@pytest.mark.xfail(reason="BUG: an unknown mechanism phase is reported against the mechanism file with key path "
-                          "'phases' and no line; the case file, its key path and line are lost", strict=True)
 def test_mechanism_unknown_phase_points_at_the_case(tmp_path, h2o2):
     path = write(tmp_path, "system:\n  mechanism: h2o2.yaml\n  phases: [gaz]\n")
     with pytest.raises(CaseError) as info:
@@ -408,8 +406,6 @@ def test_mechanism_phase_list_item_not_text(tmp_path, h2o2):
 
 # ------------------------------------------------------------------ strictness gaps
 
-@pytest.mark.xfail(reason="BUG: a key repeated in one mapping is silently accepted and the last value wins "
-                          "(a second 'feed:' block drops the first)", strict=True)
 def test_duplicate_key_is_an_error(tmp_path):
     path = write(tmp_path, SYS + "feed: {CH4: 1, H2O: 3}\nfeed: {CH4: 5}\n")
     with pytest.raises(CaseError) as info:
@@ -425,8 +421,6 @@ LEAKS = {
 }
 
 
-@pytest.mark.xfail(reason="BUG: messages show repr() of internal YAML node objects (ScalarNode(...)) for a "
-                          "mapping or list where a scalar is expected", strict=True)
 @pytest.mark.parametrize("text", list(LEAKS.values()), ids=list(LEAKS))
 def test_messages_do_not_leak_yaml_nodes(tmp_path, text):
     path = write(tmp_path, text)
@@ -491,13 +485,11 @@ def test_species_named_NO_survives_yaml_boolean_trap(tmp_path):
                            "feed: {N2: 1, O2: 1, NO: 0.1}\nspecified:\n  mole-fractions: {gas: {NO: 0.01}}\n")
     case, system = load_and_bind(path)
     assert case.system.phases == (("gas", ("N2", "O2", "NO", "NO2")),)
-    assert dict(case.feed) == {"N2": 1.0, "O2": 1.0, "NO": 0.1}
+    assert {k: float(v) for k, v in case.feed} == {"N2": 1.0, "O2": 1.0, "NO": 0.1}
     assert case.specified.mole_fractions[0].species == "NO"
     assert "NO" in system.labels
 
 
-@pytest.mark.xfail(reason="BUG: a ratio's numerator/denominator NO is read as YAML 1.1 boolean False "
-                          "('expected a species name, got False')", strict=True)
 @pytest.mark.parametrize("where", ["specified:\n  ratios:\n    - ", "restrictions:\n  - ratio: "])
 def test_species_named_NO_in_a_ratio(tmp_path, where):
     path = write(tmp_path, "system:\n  source: packaged\n  phases:\n    gas: [N2, O2, NO, NO2]\n"
@@ -556,8 +548,6 @@ def test_alias_bomb_refused_quickly(tmp_path, text):
     assert str(path) in str(info.value)
 
 
-@pytest.mark.xfail(reason="BUG: an alias bomb inside a mapping where a text is expected is expanded by repr() "
-                          "of the YAML node tree while composing the error message: exponential time", strict=True)
 def test_alias_bomb_behind_a_mapping_refused_quickly(tmp_path):
     path = write(tmp_path, SYS + "title: &t\n  " + "\n  ".join(_bomb()) + "\n")
     start = time.perf_counter()
@@ -576,12 +566,11 @@ def test_file_larger_than_limit(tmp_path):
     size = path.stat().st_size
     with pytest.raises(LimitError) as info:
         load_case(path)
-    assert str(info.value) == (f"{path}: case file is {size} bytes, more than the limit of "
-                               f"{settings.MAX_CASE_FILE_BYTES}; refused")
+    assert size > settings.MAX_CASE_FILE_BYTES
+    assert str(info.value) == (f"{path}: case file is larger than the limit of "
+                               f"{settings.MAX_CASE_FILE_BYTES} bytes; refused")
 
 
-@pytest.mark.xfail(reason="BUG: the size limit is checked with stat() only; a FIFO or device (size 0) is read "
-                          "to the end whatever its length", strict=True)
 def test_size_limit_holds_for_a_fifo(tmp_path):
     fifo = tmp_path / "case.yaml"
     os.mkfifo(fifo)
@@ -607,8 +596,6 @@ def test_nesting_deeper_than_limit(tmp_path):
     assert info.value.problems[0].line == 5                  # by hand
 
 
-@pytest.mark.xfail(reason="BUG: very deep nesting (thousands of levels) overflows the recursive YAML composer: "
-                          "RecursionError instead of LimitError (CLI: internal error, exit 3)", strict=True)
 def test_very_deep_nesting_is_a_limit_error(tmp_path):
     depth = 3000
     path = write(tmp_path, SYS + "title: " + "{a: " * depth + "1" + "}" * depth + "\n")

@@ -412,3 +412,36 @@ def test_small_integer_basis_makes_vectors_smaller():
     basis_found = exact.small_integer_basis([{0: 1, 1: 1, 2: 1}, {0: 1, 1: 1}])
     assert {0: 1, 1: 1} in basis_found
     assert {2: 1} in basis_found
+
+
+# ------------------------------------------------------------------ eliminate_columns
+
+@st.composite
+def rows_and_columns(draw):
+    vectors, n = draw(vector_sets())
+    cols = sorted(draw(st.sets(st.integers(0, n - 1), max_size=n)))
+    return vectors, n, cols
+
+
+@QUICK
+@given(rows_and_columns())
+def test_eliminate_columns_spans_the_subspace_zero_on_those_columns(data):
+    vectors, n, cols = data
+    out_found = exact.eliminate_columns(vectors, cols)
+    for v in out_found:
+        assert all(v.get(c, 0) == 0 for c in cols)
+    r = sym_rank(densify(vectors, n), n)
+    # theorem: dim(span(rows) ∩ {v_c = 0, c in cols}) = rank(rows) - rank(rows restricted to cols)
+    projected = [[Fraction(v.get(c, 0)) for c in cols] for v in vectors]
+    expected_dim = r - (sym_rank(projected, len(cols)) if cols else 0)
+    out = densify(out_found, n)
+    assert len(out_found) == expected_dim
+    assert sym_rank(out, n) == expected_dim                           # independent
+    assert sym_rank(densify(vectors, n) + out, n) == r                # inside span(rows)
+
+
+def test_eliminate_columns_table():
+    # SMR and WGS over (CH4, H2O, CO, CO2, H2): the combination free of CO is their sum,
+    # CH4 + 2 H2O <=> CO2 + 4 H2 (by hand)
+    out_found = exact.eliminate_columns([{0: -1, 1: -1, 2: 1, 4: 3}, {1: -1, 2: -1, 3: 1, 4: 1}], [2])
+    assert [exact.primitive(v) for v in out_found] in ([{0: -1, 1: -2, 3: 1, 4: 4}], [{0: 1, 1: 2, 3: -1, 4: -4}])

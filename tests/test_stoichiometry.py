@@ -118,17 +118,7 @@ MECHANISM_FILES = sorted({p.resolve() for d in _data_directories() for p in d.gl
 
 # Mechanisms that cantera builds but the auditor refuses: real bugs in auditor.system,
 # reported to the lead engineer.  strict=True: the marker must go when the bug is fixed.
-KNOWN_BUGS = {
-    "lithium_ion_battery.yaml": (
-        "BUG in auditor.system._mechanism_reactions: kinetics species are matched to "
-        "phase-species by label.split('[')[0], which breaks species whose own names contain "
-        "'[' (Li[anode], C3H4O3[elyt]); error 'cannot map the kinetics species of phase "
-        "'edge_anode_electrolyte' to its phases'"),
-    "oxygen-plasma-itikawa.yaml": (
-        "BUG in auditor.system._load_phase: ct.Solution is built with the file's transport "
-        "model, which the audit never uses; cantera fails on missing transport data for 'e' "
-        "although ct.Solution(path, name, transport_model=None) loads the phase and its 12 reactions"),
-}
+KNOWN_BUGS: dict[str, str] = {}   # mechanism file -> reason, for bugs not yet fixed
 
 
 def _param(path: Path):
@@ -173,7 +163,7 @@ def mech(request) -> Loaded:
         reason = _cantera_refuses(path)
         if reason:
             pytest.skip(reason)
-        if "is not a simple fraction" in str(exc) and path.name not in KNOWN_BUGS:
+        if "element amount" in str(exc) and path.name not in KNOWN_BUGS:
             # e.g. YZA.yaml: Zr 0.5716, O 2.3069, ...; design §2 makes this an input error
             pytest.skip(f"non-rational composition, an input error by design §2: {exc}")
         raise
@@ -609,11 +599,8 @@ def _isomer_system() -> ChemicalSystem:
                           ("C", "H"), ((4, 4), (8, 8)))
 
 
-@pytest.mark.xfail(strict=True, raises=EquationError, reason=(
-    "BUG in auditor.stoichiometry.parse_equation: a species name that starts with a digit "
-    "('1-C4H8') is read as coefficient 1 of species '-C4H8'; the whole term should be tried as a "
-    "species name before splitting off a coefficient"))
 def test_parse_species_name_starting_with_a_digit():
+    # found by this test: '1-C4H8' was read as 1 x '-C4H8' (fixed)
     s = _isomer_system()
     r = stoichiometry.parse_equation("1-C4H8 <=> 2-C4H8", s)
     assert dict(r.stoich) == {0: -1, 1: 1}  # by hand: isomerisation
@@ -621,7 +608,7 @@ def test_parse_species_name_starting_with_a_digit():
 
 def test_parse_coefficient_before_a_digit_name_still_works_with_a_space():
     s = _isomer_system()
-    # the workaround while the bug above stands: an explicit coefficient before the name
+    # an explicit coefficient before a name that starts with a digit
     r = stoichiometry.parse_equation("2 2-C4H8 <=> 1 2-C4H8 + 1 1-C4H8", s)
     assert dict(r.stoich) == {0: 1, 1: -1}  # by hand
 
@@ -633,13 +620,11 @@ def test_unknown_species_error_from_packaged_lists_closest_names():
                                "nasa_gas.yaml or nasa_condensed.yaml; closest names: HCL, HOCL, CHCL, CL, CHCL3")
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "BUG in auditor.system.from_packaged: a species listed twice in one phase is accepted as two "
-    "phase-species with the same label 'H2[gas]'; N grows by one, the derived set gains "
-    "'H2[gas] <=> H2[gas]' and the count of independent reactions is 2 instead of 1"))
 def test_species_listed_twice_in_a_phase_is_an_input_error():
-    with pytest.raises(MechanismError, match="H2"):
+    # found by this test: accepted as two phase-species 'H2[gas]', N one too many (fixed)
+    with pytest.raises(MechanismError) as info:
         system.from_packaged({"gas": ["H2", "H2", "O2", "H2O"]})
+    assert str(info.value) == "packaged databases: system.phases.gas: phase 'gas' lists H2 more than once"
 
 
 def test_labels_are_unique_for_distinct_phases():

@@ -19,10 +19,10 @@ def check_target(path: str | Path, inputs: Iterable[str | Path], force: bool) ->
                 raise InputError(Problem(str(target), "refusing to write the report over an input file"))
         except OSError:
             continue
+    if target.is_dir():
+        raise InputError(Problem(str(target), "is a directory, not a file"))
     if target.exists() and not force:
         raise InputError(Problem(str(target), "the file exists; pass --force to overwrite it"))
-    if target.exists() and target.is_dir():
-        raise InputError(Problem(str(target), "is a directory, not a file"))
     return target
 
 

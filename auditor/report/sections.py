@@ -36,6 +36,12 @@ def _para(text) -> Block:
     return Block("paragraph", text=str(text))
 
 
+def _value(v) -> str:
+    if isinstance(v, (list, tuple)):
+        return ", ".join(map(str, v)) or "(none)"
+    return "not computed" if v is None else str(v)
+
+
 def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str, list[Block]]]]:
     doc = doc or check_document(r, with_context=True)
     sec: list[tuple[str, list[Block]]] = []
@@ -117,8 +123,9 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
             if p["moles"] > 0 and len(p["mole_fractions"]) > 1:
                 eblocks.append(Block("svg", text=svg.composition_bars(p["name"], list(p["mole_fractions"].items()))))
     sec.append(("Equilibrium and certificate", eblocks))
-    sec.append(("Claims", [_table(("claim", "claimed", "found", "held"),
-                                  [(c["claim"], c["claimed"], c["found"], c["held"]) for c in doc["claims"]])
+    sec.append(("Claims", [_table(("claim", "claimed", "found", "result"),
+                                  [(c["claim"], _value(c["claimed"]), _value(c["found"]),
+                                    {True: "held", False: "refuted", None: "not checked"}[c["held"]]) for c in doc["claims"]])
                            if doc["claims"] else _para("The case makes no claims.")]))
     assumed = []
     if eq and eq.get("assumed_densities"):

@@ -25,8 +25,10 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
     out += [f"  {name:<{w}}  {val}" for name, val in rows]
     if explain:
         out += ["", "How the count was made:"] + [f"  {line}" for line in pr.explanation()]
-    out += ["", f"Reactions: rank {a.rank} of {len(a.reactions)} listed; "
-            + ("complete" if a.complete else "incomplete" if not a.unbalanced else "unbalanced reactions present")]
+    out += ["", f"Reactions: rank {a.rank} of the {len(a.reactions)} listed over all phases; "
+            + ("complete" if a.complete else "incomplete" if not a.unbalanced else "unbalanced reactions present")
+            + (f"; {pr.independent_reactions} among the species of the coexisting phases (m)"
+               if pr.independent_reactions != a.rank else "")]
     shown = pr.reactions_present[:12]
     if pr.reactions_present:
         out.append("Independent reactions among the species of the coexisting phases:")
@@ -49,7 +51,7 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
     if sp.suggestion:
         out += _wrap("suggested fix: " + sp.suggestion)
     if r.equilibrium is not None:
-        out += [""] + r.equilibrium.summary_lines()
+        out += [""] + [l for line in r.equilibrium.summary_lines() for l in _wrap(line, "")]
     if r.claims:
         out += ["", "Claims:"]
         for c in r.claims:
