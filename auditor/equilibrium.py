@@ -302,7 +302,9 @@ class _Solver:
         self.solution = np.array([len(p.species) > 1 for p in system.phases])
         self.calls = 0
         self.log: list[str] = []      # what cantera's solver printed
+        self._mixture = None
         self.directions = _direction_matrix([dict(r.stoich) for r in analysis.derived_basis], system.n_species)
+        self.usable_species = np.concatenate([[ok] * ph.n_species for ph, ok in zip(model.phases, model.usable)])
 
     def _ours(self, T: float, P: float) -> _Solution:
         from .minimiser import minimise_gibbs
@@ -318,30 +320,22 @@ class _Solver:
         return _Solution(n, T, P, "element-potential minimiser (auditor.minimiser)", bool(res.converged), res.message)
 
     def _cantera(self, T: float, P: float, start: np.ndarray, solver: str = "vcs") -> _Solution:
-        ct = self.model.ct
         m = self.model
-        items, off = [], 0
+        usable_mask = self.usable_species
+        if self._mixture is None:
+            # one Mixture per case, reused for every state (building one costs more than a solve)
+            self._mixture = m.ct.Mixture([(ph, 0.0) for ph, ok in zip(m.phases, m.usable) if ok])
+            self._segments = [(off, off + ph.n_species) for off, ph, ok in
+                              zip(np.cumsum([0] + [p.n_species for p in m.phases[:-1]]), m.phases, m.usable) if ok]
         start = start.copy()
-        for ph, ok in zip(m.phases, m.usable):
-            k = ph.n_species
-            if ok:
-                items.append((ph, 0.0))
-            off += k
-        usable_mask = np.concatenate([[ok] * ph.n_species for ph, ok in zip(m.phases, m.usable)])
-        mask = usable_mask & self.candidate
-        total = max(start[mask].sum(), 1e-300)
+        total = max(start[usable_mask & self.candidate].sum(), 1e-300)
         # a phase that may appear needs a trace seed: zero-seeded phases break the solver
-        off = 0
-        for ph, ok in zip(m.phases, m.usable):
-            k = ph.n_species
-            if ok:
-                seg = start[off:off + k]
-                cand = self.candidate[off:off + k]
-                if seg[cand].sum() <= 0 and cand.any():
-                    seg[cand] = 1e-12 * total / cand.sum()
-                start[off:off + k] = seg
-            off += k
-        mix = ct.Mixture(items)
+        for lo, hi in self._segments:
+            seg = start[lo:hi]
+            cand = self.candidate[lo:hi]
+            if seg[cand].sum() <= 0 and cand.any():
+                seg[cand] = 1e-12 * total / cand.sum()
+        mix = self._mixture
         mix.T = T
         mix.P = P
         mix.species_moles = start[usable_mask]
@@ -384,17 +378,16 @@ def _direction_matrix(vectors, n_species: int) -> np.ndarray:
 
 
 def _fit_potentials(A: np.ndarray, mu: np.ndarray, present: np.ndarray):
-    """Least-squares element potentials over present species; residual and the free directions."""
+    """Least-squares element potentials over present species (one SVD), the largest residual,
+    and the directions that leave every present species' potential unchanged."""
     Ap = A[:, present].T       # species x elements
     if Ap.size == 0:
         return np.zeros(A.shape[0]), 0.0, np.eye(A.shape[0])
-    lam, *_ = np.linalg.lstsq(Ap, mu[present], rcond=None)
-    resid = float(np.max(np.abs(Ap @ lam - mu[present]))) if present.any() else 0.0
-    # directions d with Ap d = 0 leave present potentials unchanged
     u, s, vt = np.linalg.svd(Ap, full_matrices=True)
-    rank = int((s > 1e-10 * (s[0] if s.size else 1)).sum())
-    free = vt[rank:].T
-    return lam, resid, free
+    rank = int((s > 1e-10 * s[0]).sum()) if s.size else 0
+    lam = vt[:rank].T @ ((u[:, :rank].T @ mu[present]) / s[:rank])
+    resid = float(np.max(np.abs(Ap @ lam - mu[present])))
+    return lam, resid, vt[rank:].T
 
 
 def _absent_driving_forces(system, model_g, A, lam, free, phase_present, phase_of, solution, usable_species):
@@ -599,25 +592,26 @@ def _on_transition(solver, resid, x, T, P):
 def _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0) -> EquilibriumCheck:
     n = np.where(sol.n > 0, sol.n, 0.0)
     T, P = sol.T, sol.P
-    totals = _phase_totals(system, n)
-    grand = max(sum(totals.values()), 1e-300)
-    phase_present = np.array([totals[p.name] / grand > settings.PHASE_PRESENCE_FRACTION for p in system.phases])
-    present_names = tuple(p.name for p, pr in zip(system.phases, phase_present) if pr)
     phase_of = solver.phase_of
-    usable_species = np.concatenate([[ok] * ph.n_species for ph, ok in zip(model.phases, model.usable)])
+    n_phases = len(system.phases)
+    totals_arr = np.bincount(phase_of, weights=n, minlength=n_phases)
+    totals = {p.name: float(t) for p, t in zip(system.phases, totals_arr)}
+    phase_present = totals_arr / max(totals_arr.sum(), 1e-300) > settings.PHASE_PRESENCE_FRACTION
+    present_names = tuple(p.name for p, pr in zip(system.phases, phase_present) if pr)
+    usable_species = solver.usable_species
 
     # balance of every conserved quantity (elements, charge, extra frozen quantities)
-    b = solver.W @ solver.n0
-    bal = float(np.max(np.abs(solver.W @ n - b)) / max(np.max(np.abs(b)), 1e-300)) if b.size else 0.0
+    W = solver.W
+    b = W @ solver.n0
+    bal = float(np.max(np.abs(W @ n - b)) / max(np.max(np.abs(b)), 1e-300)) if b.size else 0.0
 
     mu = model.mu_RT(T, P, n)
-    present_species = np.array([phase_present[phase_of[k]] and n[k] > 0 for k in range(system.n_species)])
-    W = solver.W
+    present_species = phase_present[phase_of] & (n > 0)
     lam, resid, free = _fit_potentials(W, mu, present_species)
 
     # affinities of the independent reactions among present species
-    present_idx = [k for k in range(system.n_species) if present_species[k]]
-    basis = _basis_cached(analysis.reactions, system.n_species, tuple(present_idx))
+    present_idx = tuple(int(k) for k in np.flatnonzero(present_species))
+    basis = _basis_cached(analysis.reactions, system.n_species, present_idx)
     affinities = [abs(sum(float(c) * mu[k] for k, c in v.items())) for v in basis]
     max_aff = max(affinities) if affinities else 0.0
 
@@ -625,32 +619,32 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     drive = _absent_driving_forces(system, g, W, lam, free, phase_present, phase_of, solver.solution, usable_species)
     drive_named = tuple((system.phases[p].name, d) for p, d in sorted(drive.items()))
 
-    # uniqueness: restart from different compositions with the same conserved quantities
+    # uniqueness: restart cantera from different compositions with the same conserved
+    # quantities.  The element-potential minimiser solves a convex problem (ideal phases)
+    # whose minimum is unique, so it needs no restart.
     starts, unique = 1, True
-    x_ref = _mole_fractions(system, n)
+    x_ref = _fractions_in_phase(n, phase_of, totals_arr)
     rng = np.random.default_rng(12345)
-    if analysis.derived_basis and (case.specified.temperature_K is not None or True):
-        V = solver.directions if analysis.complete else _direction_matrix([dict(v) for v in basis], system.n_species)
+    if sol.solver.startswith("cantera") and solver.directions.shape[0]:
         for trial in range(2):
-            start = _perturbed_start(n if trial == 0 else solver.n0, V, rng)
-            if start is None:
-                continue
-            other = solver.solve(T, P, start) if analysis.complete else solver.solve(T, P)
+            start = _perturbed_start(n if trial == 0 else solver.n0, solver.directions, rng)
+            other = solver.solve(T, P, start)
             starts += 1
             if not other.converged:
                 unique = False
                 continue
-            x_other = _mole_fractions(system, np.where(other.n > 0, other.n, 0.0))
-            tot_o = _phase_totals(system, other.n)
-            pres_o = tuple(p.name for p in system.phases if tot_o[p.name] / max(sum(tot_o.values()), 1e-300) > settings.PHASE_PRESENCE_FRACTION)
+            n_o = np.where(other.n > 0, other.n, 0.0)
+            tot_o = np.bincount(phase_of, weights=n_o, minlength=n_phases)
+            pres_o = tot_o / max(tot_o.sum(), 1e-300) > settings.PHASE_PRESENCE_FRACTION
+            x_other = _fractions_in_phase(n_o, phase_of, tot_o)
             if sol.sides is not None:
                 # on a transition a T,P restart lands on one side: it must agree on every phase it
                 # finds and find no other (the extensive specification sets the split)
-                found = [k for k in range(system.n_species) if system.species[k].phase in pres_o]
-                if not set(pres_o) <= set(present_names) or (
-                        found and np.max(np.abs(x_other[found] - x_ref[found])) > settings.UNIQUENESS_TOLERANCE):
+                found = pres_o[phase_of]
+                if (pres_o & ~phase_present).any() or (
+                        found.any() and np.max(np.abs(x_other[found] - x_ref[found])) > settings.UNIQUENESS_TOLERANCE):
                     unique = False
-            elif pres_o != present_names or np.max(np.abs(x_other - x_ref)) > settings.UNIQUENESS_TOLERANCE:
+            elif (pres_o != phase_present).any() or np.max(np.abs(x_other - x_ref)) > settings.UNIQUENESS_TOLERANCE:
                 unique = False
 
     # ln K additivity of dependent reactions
@@ -737,6 +731,11 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
         assumed_densities=tuple(model.assumed), findings=tuple(findings), confirmed=ok,
         seconds=time.perf_counter() - t0,
         element_potentials=tuple((c.name if c.is_element else f"q{i}", float(l)) for i, (c, l) in enumerate(zip(analysis.conserved, lam))))
+
+
+def _fractions_in_phase(n: np.ndarray, phase_of: np.ndarray, totals: np.ndarray) -> np.ndarray:
+    tot = totals[phase_of]
+    return np.divide(n, tot, out=np.zeros_like(n), where=tot > 0)
 
 
 def _mole_fractions(system: ChemicalSystem, n: np.ndarray) -> np.ndarray:

@@ -116,6 +116,8 @@ WORDS = list(dict.fromkeys([*TOP_KEYS, *SYSTEM_KEYS, *SPECIFIED_KEYS, *RATIO_KEY
                             *SPECIES, "packaged", "complete", "from-mechanism", "all", "ratio", "same-composition",
                             "feed-temperature", "mole-fractions"]))
 HUGE = [10 ** 309, -(10 ** 309), 2 ** 1100]
+HOSTILE_PATHS = ["mech.yaml", "mech\x00.yaml", "x" * 300, "../" * 40, "/dev/zero", "/dev/null", "/proc/self/status",
+                 "/", ".", "~/m.yaml", "C:\\m.yaml", "\u00e9.yaml", " "]
 
 scalars = st.one_of(st.none(), st.booleans(), st.integers(-10, 10), st.integers(), st.sampled_from(HUGE),
                     st.floats(), st.sampled_from(WORDS), st.sampled_from(QUANTITIES), st.text(max_size=10))
@@ -138,14 +140,14 @@ quantity = either(st.sampled_from(QUANTITIES), st.floats(), st.integers())
 ratio = st.fixed_dictionaries({"phase": either(st.sampled_from(PHASES)), "numerator": either(st.sampled_from(GAS)),
                                "denominator": either(st.sampled_from(GAS)),
                                "value": either(st.floats(min_value=-1, max_value=10))})
+phase_lists = either(st.fixed_dictionaries(
+    {"gas": either(st.lists(st.sampled_from(GAS), min_size=1, max_size=6, unique=True))},
+    optional={"graphite": either(st.just(["C(gr)"])), "liquid": either(st.just(["H2O(L)"]))}))
+packaged_system = st.fixed_dictionaries({"source": either(st.just("packaged")), "phases": phase_lists})
+mechanism_system = st.fixed_dictionaries({"mechanism": either(st.text(max_size=12), st.sampled_from(HOSTILE_PATHS))},
+                                         optional={"phases": phase_lists, "source": scalars})
 case_like = st.fixed_dictionaries(
-    {"system": either(st.fixed_dictionaries(
-        {"source": either(st.just("packaged")),
-         "phases": either(st.fixed_dictionaries(
-             {"gas": either(st.lists(st.sampled_from(GAS), min_size=1, max_size=6, unique=True))},
-             optional={"graphite": either(st.just(["C(gr)"])),
-                       "liquid": either(st.just(["H2O(L)"]))}))},
-        optional={"mechanism": either(st.text(max_size=12))}))},
+    {"system": either(packaged_system, packaged_system, mechanism_system)},
     optional={
         "title": scalars,
         "reactions": either(st.sampled_from(["complete", "from-mechanism"]), st.lists(equations, max_size=3)),
@@ -328,12 +330,19 @@ EQ_TOKENS = ["CH4", "H2O", "CO", "CO2", "H2", "O2", "H", "OH", "C(gr)", "H2O(L)"
              "1e3 ", "-1 ", "3/0 ", "(", ")"]
 
 
+SYSTEM_SPECIES = ["CH4", "H2O", "CO", "CO2", "H2", "O2", "H", "OH", "C(gr)", "H2O(L)"]
+system_equations = st.builds(
+    lambda l, a, r: " + ".join(l) + a + " + ".join(r),
+    st.lists(st.builds(str.__add__, coefficients, st.sampled_from(SYSTEM_SPECIES)), min_size=1, max_size=3), arrows,
+    st.lists(st.builds(str.__add__, coefficients, st.sampled_from(SYSTEM_SPECIES)), min_size=1, max_size=3))
+
+
 def test_parse_equation_random_text(small_system):
     tally = Counter()
     n_species = small_system.n_species
 
     @fuzz(700)
-    @given(text=st.one_of(st.text(max_size=40), equations,
+    @given(text=st.one_of(st.text(max_size=40), equations, system_equations, system_equations,
                           st.lists(st.one_of(st.sampled_from(EQ_TOKENS), st.text(max_size=3)), max_size=12)
                           .map("".join)))
     def prop(text):

@@ -195,6 +195,68 @@ def test_negative_F_suggestion_points_at_phases(tmp_path, extra):
     assert "phase" in suggestion_found
 
 
+def test_negative_F_suggestion_names_how_many_phases_may_coexist(tmp_path):
+    result = audit_text(tmp_path, SULFUR)
+    # theorem: one component, so at most C + 2 = 3 of the 4 phases can coexist
+    assert "assume at most 3 of them" in result.specification.suggestion
+    assert result.verdict == "inconsistent"
+
+
+@pytest.mark.xfail(reason="BUG: a phase listed twice in 'coexisting' is counted twice (pi = 2 for one gas phase, "
+                          "F = 3 instead of 4)", strict=True)
+def test_phase_listed_twice_in_coexisting(tmp_path):
+    from auditor.errors import CaseError
+    try:
+        result = audit_text(tmp_path, GAS5 + "coexisting: [gas, gas]\n")
+    except CaseError as exc:                       # rejecting the repeat is as good as ignoring it
+        assert any(p.key_path == "coexisting[1]" for p in exc.problems)
+        return
+    assert (result.phase_rule.n_phases, result.phase_rule.degrees_of_freedom) == (1, 4)   # SVNA (d), from memory
+
+
+ABSENT_PHASE_SPECS = {
+    # a specification on the liquid while 'coexisting' assumes only the vapour
+    "mole-fraction": "  mole-fractions: {liquid: {C6H6(L): 0.5}}\n",
+    "ratio": "  ratios: [{phase: liquid, numerator: C6H6(L), denominator: C7H8(L), value: 2}]\n",
+    "phase-fraction": "  phase-fractions: {liquid: 0.4}\n",
+}
+
+
+@pytest.mark.xfail(reason="BUG: a specification on a phase that 'coexisting' assumes absent is counted toward "
+                          "Duhem's two, so T plus that specification is called well-posed", strict=True)
+@pytest.mark.parametrize("spec", list(ABSENT_PHASE_SPECS.values()), ids=list(ABSENT_PHASE_SPECS))
+def test_specification_on_an_absent_phase_is_not_well_posed(tmp_path, spec):
+    from auditor.errors import CaseError
+    text = BINARY + "feed: {C6H6: 0.6, C7H8: 0.4}\ncoexisting: [vapour]\nspecified:\n  temperature: 373.15 K\n" + spec
+    try:
+        result = audit_text(tmp_path, text)
+    except CaseError as exc:                       # an input error naming it is fine too
+        assert "liquid" in str(exc)
+        return
+    # theorem: only the temperature constrains the assumed (vapour-only) state; Duhem needs 2
+    assert result.verdict != "well-posed"
+    assert any("liquid" in f.message for f in result.findings if f.severity == "error")
+
+
+@pytest.mark.xfail(reason="BUG: a feed with net charge (Ar+ alone) is accepted; electroneutrality and the feed then "
+                          "give r = 2 and F = 1 for a single phase, against Duhem, with no finding", strict=True)
+def test_net_charged_feed_is_flagged(tmp_path):
+    from auditor.errors import CaseError
+    try:
+        result = audit_text(tmp_path, PLASMA + "feed: {Ar+: 1}\n")
+    except CaseError as exc:
+        assert "charge" in str(exc)
+        return
+    # theorem: an electrically neutral phase cannot be made from a charged feed
+    assert result.verdict == "inconsistent"
+    assert any("charge" in f.message for f in result.findings if f.severity == "error")
+
+
+def test_neutral_ionised_feed_has_F_two(tmp_path):
+    result = audit_text(tmp_path, PLASMA + "feed: {Ar+: 1, Electron: 1}\n")
+    assert (result.phase_rule.restrictions, result.phase_rule.degrees_of_freedom) == (1, 2)   # theorem (Duhem)
+
+
 def test_claims_held_and_refuted_with_both_values(tmp_path):
     text = NH4CL + "feed: {NH4CL(a): 1}\nclaims:\n  degrees-of-freedom: 2\n  components: 1\n" \
                    "  independent-reactions: 1\n  verdict: under-specified\n"
