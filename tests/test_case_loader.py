@@ -291,7 +291,7 @@ def test_missing_file(tmp_path):
 def test_directory_instead_of_file(tmp_path):
     with pytest.raises(CaseError) as info:
         load_case(tmp_path)
-    assert str(info.value) == f"{tmp_path}: is a directory, not a case file"          # strerror of EISDIR
+    assert str(info.value) == f"{tmp_path}: is a directory, not a case file"          # the loader's own message
 
 
 YAML_SYNTAX = {

@@ -138,7 +138,7 @@ def test_interrupted_sweep_resumes(tmp_path):
     finally:
         executors.make_executor = original
     journal = tmp_path / "part.partial.jsonl"
-    assert len(journal.read_text().splitlines()) == 4          # two blocks of two points finished
+    assert len(journal.read_text().splitlines()) == 1 + 4      # header, then two blocks of two points
     assert not (tmp_path / "part.csv").exists()                # no partial output
     status, resumed = _run_cli(tmp_path, "part", "--resume", "--jobs", "1")
     assert resumed == full

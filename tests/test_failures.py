@@ -126,7 +126,7 @@ def case_row(name: str, text: str | bytes, message: str, needle: str | None = No
 
 def _missing(tmp):
     p = tmp / "nothere.yaml"
-    return ["check", p], rf"^auditor: error: {E(p)}: cannot read case file: No such file or directory"
+    return ["check", p], rf"^auditor: error: {E(p)}: .*(No such file or directory|not found)"
 
 
 def _directory(tmp):
@@ -169,6 +169,7 @@ def known(build, **marks):
     """Attach xfail marks for known bugs to a row, per test ('message' or 'one_line')."""
     build.known_bugs = marks
     return build
+
 
 CHECK_FAILURES = {
     "missing file": _missing,

@@ -132,8 +132,9 @@ equations = st.builds(lambda l, a, r: " + ".join(l) + a + " + ".join(r),
 
 
 def either(plausible, *more):
-    """Mostly a plausible value, sometimes a random structure."""
-    return st.one_of(plausible, plausible, plausible, *more, trees)
+    """Mostly (6 in 8) a plausible value, else one of ``more`` or a random structure."""
+    options = [plausible] * 6 + list(more or [plausible]) + [trees]
+    return st.integers(0, len(options) - 1).flatmap(options.__getitem__)
 
 
 quantity = either(st.sampled_from(QUANTITIES), st.floats(), st.integers())
@@ -144,10 +145,10 @@ phase_lists = either(st.fixed_dictionaries(
     {"gas": either(st.lists(st.sampled_from(GAS), min_size=1, max_size=6, unique=True))},
     optional={"graphite": either(st.just(["C(gr)"])), "liquid": either(st.just(["H2O(L)"]))}))
 packaged_system = st.fixed_dictionaries({"source": either(st.just("packaged")), "phases": phase_lists})
-mechanism_system = st.fixed_dictionaries({"mechanism": either(st.text(max_size=12), st.sampled_from(HOSTILE_PATHS))},
+mechanism_system = st.fixed_dictionaries({"mechanism": st.one_of(st.text(max_size=12), st.sampled_from(HOSTILE_PATHS), trees)},
                                          optional={"phases": phase_lists, "source": scalars})
 case_like = st.fixed_dictionaries(
-    {"system": either(packaged_system, packaged_system, mechanism_system)},
+    {"system": either(packaged_system, mechanism_system, mechanism_system)},
     optional={
         "title": scalars,
         "reactions": either(st.sampled_from(["complete", "from-mechanism"]), st.lists(equations, max_size=3)),
