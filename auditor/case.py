@@ -133,14 +133,17 @@ def parse_quantity(value: Any, kind: str) -> float:
     if isinstance(value, bool) or value is None:
         raise ValueError(f"expected a {kind} such as {_example(kind)}, got {value!r}")
     if isinstance(value, (int, float)):
-        number, unit = float(value), default
+        try:
+            number, unit = float(value), default
+        except OverflowError:
+            raise ValueError(f"{kind} {value!r} is too large a number") from None
     elif isinstance(value, str):
         m = _NUMBER_UNIT.match(value)
         if not m:
             raise ValueError(f"expected a {kind} such as {_example(kind)}, got {value!r}")
         number, unit = float(m.group(1)), (m.group(2) or default)
     else:
-        raise ValueError(f"expected a {kind} such as {_example(kind)}, got {type(value).__name__}")
+        raise ValueError(f"expected a {kind} such as {_example(kind)}, got {_kind(value)}")
     if not math.isfinite(number):
         raise ValueError(f"{kind} must be a finite number, got {value!r}")
     ureg = _units()
@@ -148,7 +151,10 @@ def parse_quantity(value: Any, kind: str) -> float:
         q = ureg.Quantity(number, unit)
         if not q.check(dim):
             raise ValueError(f"unit {unit!r} is not a unit of {kind} (expected e.g. {_example(kind)})")
-        return float(q.to(si).magnitude)
+        result = float(q.to(si).magnitude)
+        if not math.isfinite(result):
+            raise ValueError(f"{kind} {value!r} is too large: it overflows when converted to {si}")
+        return result
     except ValueError:
         raise
     except Exception as exc:  # pint's own errors: undefined unit, syntax
@@ -290,6 +296,8 @@ def _load_nodes(path: Path):
         raise LimitError(Problem(str(path), f"case file nests deeper than {settings.MAX_YAML_DEPTH} levels; "
                                  "refused")) from None
     docs = [d for d in docs if d is not None]
+    if not docs:
+        raise CaseError(Problem(str(path), "case file is empty (only comments); start from 'auditor new PATH'"))
     if len(docs) != 1:
         raise CaseError(Problem(str(path), f"expected one YAML document, found {len(docs)}"))
     _check_budget(docs[0], str(path))
@@ -347,8 +355,12 @@ def load_case(path: str | Path) -> Case:
 
     def want_fraction(node, kp, what: str) -> float | None:
         v = value_of(node, kp)
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
-            rd.problem(node, kp, f"expected {what} as a number, got {_kind(v)}")
+        try:
+            ok = not isinstance(v, bool) and isinstance(v, (int, float)) and math.isfinite(float(v))
+        except OverflowError:
+            ok = False
+        if not ok:
+            rd.problem(node, kp, f"expected {what} as a finite number, got {_kind(v)}")
             return None
         return float(v)
 
@@ -386,12 +398,16 @@ def load_case(path: str | Path) -> Case:
             if "mechanism" in sm:
                 m = want_str(get(sm, "mechanism"), "system.mechanism", "a mechanism file path")
                 if m:
-                    mech = (path.parent / m).resolve()
-                    if not mech.is_file():
-                        mech = _cantera_data_file(m) or mech
-                    if not mech.is_file():
-                        rd.problem(get(sm, "mechanism"), "system.mechanism", f"mechanism file {m!r} not found "
-                                   f"(looked for {(path.parent / m).resolve()} and among cantera's data files)")
+                    try:
+                        mech = (path.parent / m).resolve()
+                        if not mech.is_file():
+                            mech = _cantera_data_file(m) or mech
+                        found = mech.is_file()
+                    except (ValueError, OSError):   # a NUL byte, a name too long for the system
+                        mech, found = None, False
+                    if not found:
+                        rd.problem(get(sm, "mechanism"), "system.mechanism", f"mechanism file {_kind(m)} not found "
+                                   "(looked beside the case file and among cantera's data files)")
                     source = "mechanism"
                 if "source" in sm:
                     rd.problem(get(sm, "source"), "system.source", "give either 'source: packaged' or 'mechanism:', not both")
@@ -506,7 +522,9 @@ def load_case(path: str | Path) -> Case:
         if cl is not None:
             names = []
             for i, (n, v) in enumerate(cl):
-                if isinstance(v, str):
+                if isinstance(v, str) and v in names:
+                    rd.problem(n, f"coexisting[{i}]", f"phase {v!r} is listed twice; keep one")
+                elif isinstance(v, str):
                     names.append(v)
                 else:
                     rd.problem(n, f"coexisting[{i}]", f"expected a phase name, got {_kind(v)}")
@@ -720,13 +738,18 @@ def build_system(case: Case):
                 raise CaseError(problems)
         return from_mechanism(spec.mechanism, names, subsets or None, with_reactions=case.reactions == "from-mechanism")
     except InputError as exc:
-        # re-point each problem at the case file line where the offending key sits
+        # problems with the case's own keys point at the case file; problems inside a
+        # mechanism file keep that file and its line
         problems = []
         for p in exc.problems:
-            line = case.line(p.key_path) if p.key_path else case.line("system")
-            file = str(case.path) if spec.source == "packaged" or p.key_path.startswith("system") else p.file
-            msg = p.message if file == p.file else (p.message if spec.source == "packaged" else f"{p.file}: {p.message}")
-            problems.append(Problem(file, msg, p.key_path or "system", line))
+            if spec.source == "packaged" or p.key_path.startswith("system"):
+                problems.append(Problem(str(case.path), p.message, p.key_path or "system",
+                                        case.line(p.key_path) or case.line("system")))
+            elif "mechanism file not found" in p.message or "cannot read mechanism file" in p.message:
+                problems.append(Problem(str(case.path), f"{p.message}: {p.file}", "system.mechanism",
+                                        case.line("system.mechanism")))
+            else:
+                problems.append(p)
         raise CaseError(problems) from None
 
 
@@ -787,6 +810,25 @@ def check_names(case: Case, system) -> None:
         if key == "phases-present":
             for ph in v:
                 phase_ok(ph, "claims.phases-present")
+    assumed = set(case.coexisting or phases)
+    for kp, ph in ([(m.key_path, m.phase) for m in s.mole_fractions]
+                   + [(f"{r.key_path}.phase", r.phase) for r in s.ratios]
+                   + [(p.key_path, p.phase) for p in s.phase_fractions]
+                   + [(f"{r.ratio.key_path}.phase", r.ratio.phase) for r in case.restrictions if r.ratio]):
+        if ph in phases and ph not in assumed:
+            problems.append(Problem(file, f"this concerns phase {ph!r}, which 'coexisting' assumes absent "
+                                    f"(coexisting: {', '.join(sorted(assumed))})", kp, case.line(kp)))
+    for r in case.restrictions:
+        if r.kind == "same-composition" and any(ph in phases and ph not in assumed for ph in r.phases):
+            kp = f"{r.key_path}.same-composition"
+            problems.append(Problem(file, "same-composition names a phase that 'coexisting' assumes absent "
+                                    f"(coexisting: {', '.join(sorted(assumed))})", kp, case.line(kp)))
+    if case.feed and not problems:
+        q = sum((system.species[system.find(sp)[0]].charge * Fraction(a) for sp, a in case.feed), Fraction(0))
+        if q != 0:
+            problems.append(Problem(file, f"the feed carries a net charge of {float(q):g} mol of elementary charge; "
+                                    "every phase is electrically neutral: add counter-ions or electrons",
+                                    "feed", case.line("feed")))
     if problems:
         raise CaseError(problems)
 

@@ -109,7 +109,9 @@ class EquilibriumCheck:
             "solver": self.solver,
             "starts": self.starts,
             "potential_residual_RT": self.potential_residual_RT,
-            "absent_phase_driving_force_RT": dict(self.absent_phase_driving_force),
+            # null: the phase can never form (it needs an element the feed lacks)
+            "absent_phase_driving_force_RT": {k: (v if math.isfinite(v) else None)
+                                              for k, v in self.absent_phase_driving_force},
             "lnK_additivity_error": self.lnK_additivity_error,
             "jacobian_rcond": self.jacobian_rcond,
             "element_potentials_RT": dict(self.element_potentials),
@@ -128,7 +130,8 @@ class EquilibriumCheck:
                 continue
             major = sorted(p.mole_fractions, key=lambda kv: -kv[1])[:8]
             out.append(f"  {p.name}: {p.moles:.6g} mol; " + ", ".join(f"{k} {v:.4g}" for k, v in major))
-        absent = ", ".join(f"{n} {d:+.3g}" for n, d in self.absent_phase_driving_force)
+        absent = ", ".join(f"{n} {d:+.3g}" if math.isfinite(d) else f"{n} cannot form (needs an element the feed lacks)"
+                           for n, d in self.absent_phase_driving_force)
         out.append(f"  certificate: balance error {self.element_balance_error:.2e}, max affinity "
                    f"{_fmt(self.max_affinity_RT)} RT, potential residual {_fmt(self.potential_residual_RT)} RT, "
                    f"unique {self.unique} ({self.starts} starts)")
@@ -303,6 +306,7 @@ class _Solver:
         self.calls = 0
         self.log: list[str] = []      # what cantera's solver printed
         self._mixture = None
+        self._in_mixture = None
         self.directions = _direction_matrix([dict(r.stoich) for r in analysis.derived_basis], system.n_species)
         self.usable_species = np.concatenate([[ok] * ph.n_species for ph, ok in zip(model.phases, model.usable)])
 
@@ -323,10 +327,14 @@ class _Solver:
         m = self.model
         usable_mask = self.usable_species
         if self._mixture is None:
-            # one Mixture per case, reused for every state (building one costs more than a solve)
-            self._mixture = m.ct.Mixture([(ph, 0.0) for ph, ok in zip(m.phases, m.usable) if ok])
-            self._segments = [(off, off + ph.n_species) for off, ph, ok in
-                              zip(np.cumsum([0] + [p.n_species for p in m.phases[:-1]]), m.phases, m.usable) if ok]
+            # one Mixture per case, reused for every state (building one costs more than a solve);
+            # a phase none of whose species can form stays out of it
+            offsets = np.cumsum([0] + [p.n_species for p in m.phases])
+            keep = [ok and bool(self.candidate[lo:hi].any()) for ok, lo, hi in zip(m.usable, offsets[:-1], offsets[1:])]
+            self._mixture = m.ct.Mixture([(ph, 0.0) for ph, k in zip(m.phases, keep) if k])
+            self._segments = [(lo, hi) for k, lo, hi in zip(keep, offsets[:-1], offsets[1:]) if k]
+            self._in_mixture = np.concatenate([[k] * ph.n_species for ph, k in zip(m.phases, keep)])
+        usable_mask = self._in_mixture
         start = start.copy()
         total = max(start[usable_mask & self.candidate].sum(), 1e-300)
         # a phase that may appear needs a trace seed: zero-seeded phases break the solver
@@ -390,7 +398,8 @@ def _fit_potentials(A: np.ndarray, mu: np.ndarray, present: np.ndarray):
     return lam, resid, vt[rank:].T
 
 
-def _absent_driving_forces(system, model_g, A, lam, free, phase_present, phase_of, solution, usable_species):
+def _absent_driving_forces(system, model_g, A, lam, free, phase_present, phase_of, solution, usable_species,
+                           candidate):
     """Minimum over absent phases of the driving force to form them, maximised over the free
     element-potential directions (a valid certificate needs only one such lambda)."""
     absent = [p for p in range(len(system.phases)) if not phase_present[p]]
@@ -398,6 +407,11 @@ def _absent_driving_forces(system, model_g, A, lam, free, phase_present, phase_o
         return {}
     groups = {p: np.flatnonzero((phase_of == p) & usable_species) for p in absent}
     groups = {p: g for p, g in groups.items() if g.size}
+    # a phase made only of species holding an element the feed lacks can never form
+    never = {p: math.inf for p, g in groups.items() if not candidate[g].any()}
+    groups = {p: g[candidate[g]] for p, g in groups.items() if p not in never}
+    if not groups:
+        return never
 
     def forces(z):
         lz = lam + (free @ z if free.shape[1] else 0.0)
@@ -413,7 +427,7 @@ def _absent_driving_forces(system, model_g, A, lam, free, phase_present, phase_o
 
     base = forces(np.zeros(free.shape[1]))
     if free.shape[1] == 0 or not base or min(base.values()) >= 0:
-        return base
+        return {**base, **never}
     # maximise the worst driving force over the free directions (concave: a smooth solve suffices)
     from scipy.optimize import minimize
     k = free.shape[1]
@@ -429,7 +443,7 @@ def _absent_driving_forces(system, model_g, A, lam, free, phase_present, phase_o
         if -best.fun > 1e3:
             break
     better = forces(best.x)
-    return better if min(better.values()) > min(base.values()) else base
+    return {**(better if min(better.values()) > min(base.values()) else base), **never}
 
 
 def _feed_vector(case: Case, system: ChemicalSystem) -> np.ndarray:
@@ -465,7 +479,14 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
     if not any(model.usable):
         return not_solved("no phase of this system can enter a Gibbs minimisation", assumed=model.assumed)
     n0 = _feed_vector(case, system)
+    # a species holding an element the feed lacks can never form (and a pure phase of one makes
+    # cantera's vcs solver fail); only element rows count here, the charge row has both signs
     candidate = np.ones(system.n_species, dtype=bool)
+    for e, row in zip(system.elements, system.formula_matrix):
+        if e != "charge":
+            row_f = np.array([float(x) for x in row])
+            if row_f @ n0 == 0:
+                candidate &= row_f == 0
     solver = _Solver(model, system, analysis, n0, candidate)
     s = case.specified
 
@@ -616,7 +637,8 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     max_aff = max(affinities) if affinities else 0.0
 
     g = model.g_RT(T, P)
-    drive = _absent_driving_forces(system, g, W, lam, free, phase_present, phase_of, solver.solution, usable_species)
+    drive = _absent_driving_forces(system, g, W, lam, free, phase_present, phase_of, solver.solution, usable_species,
+                                   solver.candidate)
     drive_named = tuple((system.phases[p].name, d) for p, d in sorted(drive.items()))
 
     # uniqueness: restart cantera from different compositions with the same conserved

@@ -60,7 +60,7 @@ class EquationError(InputError):
     """A reaction equation does not parse or names unknown species."""
 
 
-class LimitError(InputError):
+class LimitError(CaseError):
     """An input exceeds a named safety limit."""
 
 

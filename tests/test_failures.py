@@ -159,7 +159,8 @@ def _reactions(mech_text: str | None, extra: list[str], message):
 
 BUG_MECHANISM_LINES = pytest.mark.xfail(
     strict=True, reason="BUG: case.build_system re-points every problem inside a mechanism file to "
-    "case.line(key path) of the *case*: the mechanism's own line is dropped (or replaced by the case's line)")
+    "case.line(key path) of the *case* but keeps the mechanism's file name: the mechanism's own line is dropped "
+    "or replaced by the case's line, and the case file is not named")
 BUG_COMMENT_ONLY = pytest.mark.xfail(
     strict=True, reason="BUG: a case file holding only comments gets 'expected one YAML document, found 0' "
     "instead of the 'case file is empty; start from auditor new PATH' message (case._load_nodes)")
@@ -272,6 +273,10 @@ CHECK_FAILURES = {
         "badmech", MALFORMED_MECHANISM, lambda p, m, t: rf"{E(m)}\S*: phases: malformed 'phases:' section"),
     "malformed mechanism file, its line kept": known(_mechanism_case(
         "badmech", MALFORMED_MECHANISM, lambda p, m, t: rf"{E(m)}:2: phases: malformed 'phases:' section"),
+        message=BUG_MECHANISM_LINES),
+    "mechanism that is not a Cantera file": known(_mechanism_case(
+        "notmech", "just: some yaml\n", lambda p, m, t: rf"^auditor: error: {E(p)}:{line_of(t, 'mechanism:')}:.*"
+                                                       rf"{m.name}.*no top-level 'phases:' section"),
         message=BUG_MECHANISM_LINES),
     "mechanism phase cantera cannot build": _mechanism_case(
         "cantera", UNBUILDABLE_MECHANISM,

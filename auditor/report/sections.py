@@ -118,7 +118,8 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
             ("unique from several starting estimates", f"{eq['unique']} ({eq['starts']} starts)"),
             ("ln K additivity error", "n/a" if eq["lnK_additivity_error"] is None else f"{eq['lnK_additivity_error']:.3e}"),
             ("Jacobian smallest/largest singular value", "n/a" if eq["jacobian_rcond"] is None else f"{eq['jacobian_rcond']:.3e}")]
-            + [(f"driving force to form absent {k} (RT)", f"{v:+.4g}") for k, v in eq["absent_phase_driving_force_RT"].items()]))
+            + [(f"driving force to form absent {k} (RT)", "cannot form (needs an element the feed lacks)" if v is None
+                else f"{v:+.4g}") for k, v in eq["absent_phase_driving_force_RT"].items()]))
         for p in eq["phases"]:
             if p["moles"] > 0 and len(p["mole_fractions"]) > 1:
                 eblocks.append(Block("svg", text=svg.composition_bars(p["name"], list(p["mole_fractions"].items()))))
