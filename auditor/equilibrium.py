@@ -307,6 +307,7 @@ class _Solver:
         self.log: list[str] = []      # what cantera's solver printed
         self._mixture = None
         self._in_mixture = None
+        self.deadline = time.perf_counter() + settings.MINIMISATION_WALL_SECONDS
         self.directions = _direction_matrix([dict(r.stoich) for r in analysis.derived_basis], system.n_species)
         self.usable_species = np.concatenate([[ok] * ph.n_species for ph, ok in zip(model.phases, model.usable)])
 
@@ -364,6 +365,10 @@ class _Solver:
         return _Solution(n, T, P, f"cantera {solver}", converged, msg)
 
     def solve(self, T: float, P: float, start: np.ndarray | None = None) -> _Solution:
+        # the wall-clock bound is checked between solves (a running cantera call cannot be stopped)
+        if time.perf_counter() > self.deadline:
+            raise _SpecError(f"the minimisation exceeded its wall-clock bound of "
+                             f"{settings.MINIMISATION_WALL_SECONDS:g} s (settings.MINIMISATION_WALL_SECONDS)")
         self.calls += 1
         if not self.complete or not all(self.model.usable):
             return self._ours(T, P)
@@ -500,7 +505,10 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
     if sol is None or not sol.converged:
         return not_solved("the minimisation did not converge" + (f": {sol.message}" if sol and sol.message else ""),
                           assumed=model.assumed)
-    return _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0)
+    try:
+        return _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0)
+    except _SpecError as exc:
+        return not_solved(str(exc), assumed=model.assumed)
 
 
 class _SpecError(Exception):

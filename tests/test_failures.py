@@ -157,13 +157,10 @@ def _reactions(mech_text: str | None, extra: list[str], message):
     return build
 
 
-BUG_MECHANISM_LINES = pytest.mark.xfail(
-    strict=True, reason="BUG: case.build_system re-points every problem inside a mechanism file to "
-    "case.line(key path) of the *case* but keeps the mechanism's file name: the mechanism's own line is dropped "
-    "or replaced by the case's line, and the case file is not named")
-BUG_COMMENT_ONLY = pytest.mark.xfail(
-    strict=True, reason="BUG: a case file holding only comments gets 'expected one YAML document, found 0' "
-    "instead of the 'case file is empty; start from auditor new PATH' message (case._load_nodes)")
+BUG_SCALAR_CONSTRUCTION = pytest.mark.xfail(
+    strict=True, reason="BUG: a scalar PyYAML cannot construct (an impossible date, an unknown or python tag, "
+    "'!!float abc', an integer of more than 4300 digits) escapes case._Reader.plain as ValueError/ConstructorError: "
+    "exit 3 'internal error', for tags a multi-line message")
 
 
 def known(build, **marks):
@@ -178,8 +175,7 @@ CHECK_FAILURES = {
     "YAML syntax error": case_row("syntax", demo_with("coexisting: [gas]", "- coexisting"),
                                   r"YAML syntax error: expected <block end>, but found '-'", "- coexisting"),
     "empty file": case_row("empty", "  \n\n \n", r"case file is empty"),
-    "comment-only file": known(case_row("comments", "# title: to do\n# system: to do\n", r"case file is empty"),
-                               message=BUG_COMMENT_ONLY),
+    "comment-only file": case_row("comments", "# title: to do\n# system: to do\n", r"case file is empty"),
     "binary file": case_row("binary", b"\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR", r"this is a binary file"),
     "latin-1 bytes": case_row("latin1", demo_with("design point A", "caf\u00e9 A").encode("latin-1"),
                               r"case file is not UTF-8 text \(byte \d+\): save it as UTF-8"),
@@ -187,6 +183,18 @@ CHECK_FAILURES = {
                               r"a case file is a mapping of keys such as title", "just a sentence",
                               column=False),
     "two documents": case_row("twodocs", DEMO + "\n---\n" + DEMO, r"expected one YAML document, found 2"),
+    "impossible date": known(case_row("date", demo_with("title: Kestrel", "title: 2024-02-30\n#"), r"title: .+",
+                                      "2024-02-30"), message=BUG_SCALAR_CONSTRUCTION, one_line=BUG_SCALAR_CONSTRUCTION),
+    "python object tag": known(case_row("pytag", demo_with("title: Kestrel", "title: !!python/object:os.system x\n#"),
+                                        r"title: .+", "!!python"),
+                               message=BUG_SCALAR_CONSTRUCTION, one_line=BUG_SCALAR_CONSTRUCTION),
+    "unknown tag": known(case_row("tag", demo_with("CH4: 1.0,", "CH4: !custom 1,"), r"feed\.CH4: .+", "!custom"),
+                         message=BUG_SCALAR_CONSTRUCTION, one_line=BUG_SCALAR_CONSTRUCTION),
+    "'!!float abc'": known(case_row("float", demo_with("CH4: 1.0,", "CH4: !!float abc,"), r"feed\.CH4: .+", "abc"),
+                           message=BUG_SCALAR_CONSTRUCTION, one_line=BUG_SCALAR_CONSTRUCTION),
+    "integer of 5000 digits": known(case_row("digits", demo_with("CH4: 1.0,", "CH4: 1" + "0" * 5000 + ","),
+                                             r"feed\.CH4: .+", "CH4: 1000"),
+                                    message=BUG_SCALAR_CONSTRUCTION, one_line=BUG_SCALAR_CONSTRUCTION),
     "unknown key": case_row("unknown", demo_with("reactions: complete", "reactons: complete"),
                             r"reactons: unknown key 'reactons'; did you mean 'reactions'\?", "reactons"),
     "unknown nested key": case_row("unknown2", demo_with("pressure: 25 bar", "presure: 25 bar"),
@@ -271,16 +279,13 @@ CHECK_FAILURES = {
                                         rf"mechanism file '{m.name}' not found"),
     "malformed mechanism file": _mechanism_case(
         "badmech", MALFORMED_MECHANISM, lambda p, m, t: rf"{E(m)}\S*: phases: malformed 'phases:' section"),
-    "malformed mechanism file, its line kept": known(_mechanism_case(
+    "malformed mechanism file, its line kept": _mechanism_case(
         "badmech", MALFORMED_MECHANISM, lambda p, m, t: rf"{E(m)}:2: phases: malformed 'phases:' section"),
-        message=BUG_MECHANISM_LINES),
-    "mechanism that is not a Cantera file": known(_mechanism_case(
-        "notmech", "just: some yaml\n", lambda p, m, t: rf"^auditor: error: {E(p)}:{line_of(t, 'mechanism:')}:.*"
-                                                       rf"{m.name}.*no top-level 'phases:' section"),
-        message=BUG_MECHANISM_LINES),
+    "mechanism that is not a Cantera file": _mechanism_case(
+        "notmech", "just: some yaml\n", lambda p, m, t: rf"{E(m)}: no top-level 'phases:' section"),
     "mechanism phase cantera cannot build": _mechanism_case(
         "cantera", UNBUILDABLE_MECHANISM,
-        lambda p, m, t: rf"^auditor: error: {E(m)}: phases\[gas\]: cantera cannot build phase 'gas': .*"
+        lambda p, m, t: rf"{E(m)}: phases\[gas\]: cantera cannot build phase 'gas': .*"
                         r"Could not find a species named 'XYZ'"),
     "unknown species in a mechanism phase": _mechanism_case(
         "mechsp", GOOD_MECHANISM, lambda p, m, t: rf"^auditor: error: {E(p)}:{line_of(t, 'XYZ')}: "
@@ -359,6 +364,16 @@ def test_every_problem_in_a_file_is_reported(tmp_path, capsys):
                    "reactons: unknown key"):
         assert needle in err
     assert err.count(str(p)) == 3
+
+
+@pytest.mark.xfail(strict=True, reason="BUG (minor): a title that YAML reads as a date or a number is refused "
+                   "('title: expected a title text, got datetime.date(2024, 2, 3)'); want_str keeps only YAML 1.1 "
+                   "booleans as text")
+@pytest.mark.parametrize("title", ["2024-02-03", "42", "1.5"])
+def test_title_that_looks_like_a_date_or_number(title, tmp_path):
+    from auditor.case import load_case
+    p = write(tmp_path, "dated.yaml", demo_with("title: Kestrel", f"title: {title}\n#"))
+    assert load_case(p).title == title
 
 
 # ------------------------------------------------------------------ --debug

@@ -1,0 +1,77 @@
+"""Edge cases of the confirmation stage: bounds, phases that can never form, incomplete lists."""
+from __future__ import annotations
+
+import json
+import math
+
+import pytest
+
+from auditor import settings
+from auditor.audit import audit_file
+from auditor.report.document import check_document
+
+
+def write(tmp_path, text, name="case.yaml"):
+    path = tmp_path / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+LIME_WITHOUT_CALCIUM = """\
+system:
+  source: packaged
+  phases:
+    gas: [CO2, CO, O2, N2]
+    lime: [CaO(s)]
+feed: {CO2: 1, N2: 1}
+coexisting: [gas]
+specified: {temperature: 1000 K, pressure: 1 atm}
+"""
+
+
+def test_phase_needing_an_absent_element_cannot_form(tmp_path):
+    # cantera's vcs fails on a pure phase holding an element of zero abundance; the tool keeps
+    # such a phase out of the mixture and reports that it cannot form (common practice: a
+    # phase without its elements in the feed has zero amount in every feasible state)
+    result = audit_file(write(tmp_path, LIME_WITHOUT_CALCIUM))
+    eq = result.equilibrium
+    assert result.verdict == "well-posed" and eq.confirmed
+    assert dict(eq.absent_phase_driving_force)["lime"] == math.inf
+    doc = check_document(result)
+    assert doc["equilibrium"]["absent_phase_driving_force_RT"]["lime"] is None
+    json.dumps(doc, allow_nan=False)  # strict JSON: no Infinity
+
+
+def test_wall_clock_bound_is_a_finding(tmp_path, monkeypatch):
+    monkeypatch.setattr(settings, "MINIMISATION_WALL_SECONDS", -1.0)
+    result = audit_file(write(tmp_path, LIME_WITHOUT_CALCIUM))
+    assert result.verdict == "not-confirmed"
+    assert any("wall-clock bound" in f.message for f in result.findings)
+    assert result.exit_status == 1
+
+
+INCOMPLETE_METHANOL = """\
+system:
+  source: packaged
+  phases:
+    gas: [CO, CO2, H2, H2O, CH3OH, CH4]
+reactions:
+  - CO + 2 H2 <=> CH3OH
+  - CO + H2O <=> CO2 + H2
+feed: {CO: 1.0, CO2: 0.2, H2: 3.0, CH4: 0.1}
+specified: {temperature: 523.15 K, pressure: 80 bar}
+"""
+
+
+def test_incomplete_list_holds_the_extra_conserved_quantity(tmp_path):
+    # design §2: methane cannot be formed or consumed by the listed reactions, so the
+    # minimisation must keep it at its feed amount (an unconstrained minimisation would
+    # turn most of the carbon into methane at 523 K and 80 bar)
+    result = audit_file(write(tmp_path, INCOMPLETE_METHANOL))
+    eq = result.equilibrium
+    assert not result.reactions.complete and len(result.reactions.frozen) == 1
+    assert eq.confirmed, [f.message for f in eq.findings]
+    gas = {p.name: p for p in eq.phases}["gas"]
+    x = dict(gas.mole_fractions)
+    assert x["CH4"] * gas.moles == pytest.approx(0.1, rel=1e-9)
+    assert eq.element_balance_error < 1e-9
