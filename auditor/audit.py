@@ -66,15 +66,20 @@ def _reaction_findings(a: ReactionAnalysis) -> list[Finding]:
     return out
 
 
-def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) -> AuditResult:
-    """Audit one validated case (its system may be passed in when already built)."""
+def counting_stages(case: Case, system: ChemicalSystem | None = None):
+    """The stages before the minimisation: system, reactions, analysis, phase-rule count, specification audit."""
     if system is None:
         system = case_mod.build_system(case)
     case_mod.check_names(case, system)
     reactions = case_mod.build_reactions(case, system)
     analysis = analyse(system, reactions)
     count = count_phase_rule(case, system, reactions, analysis)
-    spec = audit_specification(case, system, count)
+    return system, reactions, analysis, count, audit_specification(case, system, count)
+
+
+def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) -> AuditResult:
+    """Audit one validated case (its system may be passed in when already built)."""
+    system, reactions, analysis, count, spec = counting_stages(case, system)
     findings = _reaction_findings(analysis)
     for w in system.library_warnings:
         severity = "warning" if "discontinuity" in w.lower() or "outside" in w.lower() else "note"

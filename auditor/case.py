@@ -540,24 +540,22 @@ def load_case(path: str | Path) -> Case:
         if sm is not None:
             check_keys(sm, SPECIFIED_KEYS, "specified")
             temperature = pressure = adiabatic = None
-            if "temperature" in sm:
-                vn = get(sm, "temperature")
+            def positive(key: str, kind: str, unit: str, what: str):
+                """A temperature or pressure above zero, or None with the problem recorded."""
+                if key not in sm:
+                    return None
+                vn, kp = get(sm, key), f"specified.{key}"
                 try:
-                    temperature = parse_quantity(value_of(vn, "specified.temperature"), "temperature")
-                    if temperature <= 0:
-                        rd.problem(vn, "specified.temperature", f"temperature must be above absolute zero, got {temperature:g} K")
-                        temperature = None
+                    value = parse_quantity(value_of(vn, kp), kind)
                 except ValueError as exc:
-                    rd.problem(vn, "specified.temperature", str(exc))
-            if "pressure" in sm:
-                vn = get(sm, "pressure")
-                try:
-                    pressure = parse_quantity(value_of(vn, "specified.pressure"), "pressure")
-                    if pressure <= 0:
-                        rd.problem(vn, "specified.pressure", f"pressure must be positive, got {pressure:g} Pa")
-                        pressure = None
-                except ValueError as exc:
-                    rd.problem(vn, "specified.pressure", str(exc))
+                    rd.problem(vn, kp, str(exc))
+                    return None
+                if value <= 0:
+                    rd.problem(vn, kp, f"{what}, got {value:g} {unit}")
+                    return None
+                return value
+            temperature = positive("temperature", "temperature", "K", "temperature must be above absolute zero")
+            pressure = positive("pressure", "pressure", "Pa", "pressure must be positive")
             mfs = []
             if "mole-fractions" in sm:
                 mm = want_mapping(get(sm, "mole-fractions"), "specified.mole-fractions")

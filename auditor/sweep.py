@@ -116,22 +116,14 @@ class PointResult:
 @functools.lru_cache(maxsize=8)
 def _prepared(case_path: str, vary: tuple[str, ...]):
     """Counting stages of a case, done once per worker process."""
-    from . import case as case_mod
-    from .phase_rule import count as count_phase_rule
-    from .stoichiometry import analyse
-    from .structure import audit as audit_specification
+    from .audit import counting_stages
     case = load_case(case_path)
     # the varied variables count as specified, whatever the case file says
     spec = case.specified
     spec = replace(spec, temperature_K=spec.temperature_K if spec.temperature_K or "temperature" not in vary else 300.0,
                    pressure_Pa=spec.pressure_Pa if spec.pressure_Pa or "pressure" not in vary else 1e5)
     case = replace(case, specified=spec)
-    system = case_mod.build_system(case)
-    case_mod.check_names(case, system)
-    reactions = case_mod.build_reactions(case, system)
-    analysis = analyse(system, reactions)
-    count = count_phase_rule(case, system, reactions, analysis)
-    structure = audit_specification(case, system, count)
+    system, _, analysis, count, structure = counting_stages(case)
     return case, system, analysis, count, structure
 
 

@@ -185,7 +185,7 @@ ROWS = {
                              "specified.mole-fractions.gas.CH4", 6, "strictly between 0 and 1, got 1"),
     "mole-fraction-not-number": Row(SYS + "specified:\n  mole-fractions: {gas: {CH4: half}}\n",
                                     "specified.mole-fractions.gas.CH4", 6,
-                                    "expected a mole fraction as a number, got 'half'"),
+                                    "expected a mole fraction as a finite number, got 'half'"),
     "mole-fraction-unknown-species": Row(SYS + "specified:\n  mole-fractions: {gas: {N2: 0.1}}\n",
                                          "specified.mole-fractions.gas.N2", 6, "unknown species 'N2' in phase 'gas'"),
     "mole-fraction-unknown-phase": Row(SYS + "specified:\n  mole-fractions: {liquid: {CH4: 0.1}}\n",
