@@ -227,7 +227,13 @@ class _Reader:
             return [(v, self.plain(v, f"{key_path}[{i}]", depth + 1, names)) for i, v in enumerate(node.value)]
         if names and isinstance(node, yaml.ScalarNode) and node.style is None and node.tag.endswith(":bool"):
             return node.value  # a species called NO, not the YAML 1.1 boolean
-        return _scalar_loader().construct_object(node)
+        try:
+            return _scalar_loader().construct_object(node)
+        except (ValueError, OverflowError, yaml.YAMLError) as exc:
+            # an impossible date, an unknown or python tag, '!!float abc', an integer over 4300 digits
+            what = " ".join((getattr(exc, "problem", None) or str(exc).split(";")[0]).split())
+            raise CaseError(Problem(self.file, f"cannot read this value: {what[:200]}", key_path,
+                                    node.start_mark.line + 1, node.start_mark.column + 1)) from None
 
 
 class _Mapping(dict):
@@ -348,6 +354,10 @@ def load_case(path: str | Path) -> Case:
 
     def want_str(node, kp, what="a name") -> str | None:
         v = rd.plain(node, kp, names=True) if node is not None else None
+        if (getattr(node, "id", None) == "scalar" and node.style is None and not isinstance(v, (str, bool))
+                and v is not None):
+            v = node.value  # text that YAML 1.1 reads as a number or a date: 'title: 2024-02-03'
+
         if not isinstance(v, str) or not v.strip():
             rd.problem(node, kp, f"expected {what}, got {_kind(v)}")
             return None
@@ -671,6 +681,8 @@ def _cantera_data_file(name: str) -> Path | None:
     except ImportError:
         return None
     for d in ct.get_data_directories():
+        if not Path(d).is_absolute():
+            continue  # '.' is the current directory: a case must not depend on where it is run
         for candidate in (Path(d) / name, Path(d) / "example_data" / name):
             if candidate.is_file():
                 return candidate.resolve()

@@ -95,9 +95,6 @@ def test_mechanism_deleted_after_loading(mech_case):
     assert str(mech_case) in msg                           # the case that names it
 
 
-@pytest.mark.xfail(strict=True, reason="BUG: case._cantera_data_file searches cantera.get_data_directories(), "
-                   "which starts with '.', so a mechanism missing beside the case is silently taken from the "
-                   "current directory: the same case audits differently depending on where it is run from")
 def test_mechanism_is_never_taken_from_the_current_directory(tmp_path, monkeypatch):
     (tmp_path / "sub").mkdir()
     (tmp_path / "mech.yaml").write_text(MECHANISM, encoding="utf-8")      # in the cwd, not beside the case

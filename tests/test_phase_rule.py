@@ -202,8 +202,6 @@ def test_negative_F_suggestion_names_how_many_phases_may_coexist(tmp_path):
     assert result.verdict == "inconsistent"
 
 
-@pytest.mark.xfail(reason="BUG: a phase listed twice in 'coexisting' is counted twice (pi = 2 for one gas phase, "
-                          "F = 3 instead of 4)", strict=True)
 def test_phase_listed_twice_in_coexisting(tmp_path):
     from auditor.errors import CaseError
     try:
@@ -222,8 +220,6 @@ ABSENT_PHASE_SPECS = {
 }
 
 
-@pytest.mark.xfail(reason="BUG: a specification on a phase that 'coexisting' assumes absent is counted toward "
-                          "Duhem's two, so T plus that specification is called well-posed", strict=True)
 @pytest.mark.parametrize("spec", list(ABSENT_PHASE_SPECS.values()), ids=list(ABSENT_PHASE_SPECS))
 def test_specification_on_an_absent_phase_is_not_well_posed(tmp_path, spec):
     from auditor.errors import CaseError
@@ -238,8 +234,6 @@ def test_specification_on_an_absent_phase_is_not_well_posed(tmp_path, spec):
     assert any("liquid" in f.message for f in result.findings if f.severity == "error")
 
 
-@pytest.mark.xfail(reason="BUG: a feed with net charge (Ar+ alone) is accepted; electroneutrality and the feed then "
-                          "give r = 2 and F = 1 for a single phase, against Duhem, with no finding", strict=True)
 def test_net_charged_feed_is_flagged(tmp_path):
     from auditor.errors import CaseError
     try:
