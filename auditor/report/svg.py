@@ -79,7 +79,9 @@ def line_chart(title: str, x_label: str, xs: list[float], series: dict[str, list
            f'aria-label="{escape(title)}" font-family="sans-serif" font-size="11">',
            f'<text x="{left}" y="16" font-weight="bold">{escape(title)}</text>']
     for a, b in shade:
-        out.append(f'<rect x="{X(a):.1f}" y="{top}" width="{max(X(b) - X(a), 1):.1f}" height="{ph}" fill="#f3d0d0"/>')
+        a, b = max(a, x0), min(b, x1)   # keep the shading inside the plot
+        if b > a:
+            out.append(f'<rect x="{X(a):.1f}" y="{top}" width="{max(X(b) - X(a), 1):.1f}" height="{ph}" fill="#f3d0d0"/>')
     out.append(f'<rect x="{left}" y="{top}" width="{pw}" height="{ph}" fill="none" stroke="#333"/>')
     for k in range(5):
         xv = x0 + (x1 - x0) * k / 4
