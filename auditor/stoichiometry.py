@@ -110,7 +110,7 @@ def format_equation(stoich: Mapping[int, Fraction] | Stoich, labels: Sequence[st
     return f"{' + '.join(left) or '(nothing)'} <=> {' + '.join(right) or '(nothing)'}"
 
 
-_ARROW = re.compile(r"\s*(<=>|=>|<=|=)\s*")
+_ARROW = re.compile(r"\s*(<=>|=>|=)\s*")
 _TERM = re.compile(r"^(?:(\d+(?:\.\d*)?(?:/\d+)?|\.\d+)\s*)?(\S.*)$")
 _SEPARATOR = re.compile(r"\s+\+\s+")
 

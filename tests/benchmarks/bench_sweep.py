@@ -19,8 +19,8 @@ CASE = str(Path(__file__).resolve().parents[2] / "cases" / "reformer_design_poin
 
 
 def axes_for(points: int):
-    n_t = int(math.sqrt(points * 2))
-    n_p = max(1, points // n_t)
+    n_t = max(2, int(math.sqrt(points * 1.25)))
+    n_p = max(2, math.ceil(points / n_t))
     t = sweep.Axis("temperature", tuple(900.0 + 500.0 * i / (n_t - 1) for i in range(n_t)))
     p = sweep.Axis("pressure", tuple(1e5 * (1 + 39.0 * j / max(n_p - 1, 1)) for j in range(n_p)))
     return [t, p]
