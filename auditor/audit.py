@@ -85,6 +85,12 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
         severity = "warning" if "discontinuity" in w.lower() or "outside" in w.lower() else "note"
         findings.append(Finding(severity, "data", f"cantera: {w}"))
     F = count.degrees_of_freedom
+    for phase in count.empty_phases:
+        findings.append(Finding("error", "phase-rule", f"phase {phase} is assumed to coexist but none of its species "
+                                "can exist: the feed holds none of an element each of them needs", (phase,)))
+    if count.excluded:
+        findings.append(Finding("note", "phase-rule", f"{', '.join(count.excluded)} cannot be present (the feed lacks "
+                                "an element of each) and are left out of the count", count.excluded))
     if F < 0:
         findings.append(Finding("error", "phase-rule", f"F = {F} < 0: the phases assumed to coexist "
                                 f"({', '.join(count.coexisting)}) cannot coexist at equilibrium with these "
@@ -119,7 +125,7 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
 
     # verdict before claims
     verdict = spec.status
-    if analysis.unbalanced or F < 0:
+    if analysis.unbalanced or F < 0 or count.empty_phases:
         verdict = "inconsistent"
     elif verdict == "well-posed" and equilibrium is not None and not equilibrium.confirmed:
         verdict = "not-confirmed"

@@ -55,6 +55,8 @@ class PhaseRuleCount:
     relations: tuple[Relation, ...]           # the independent relations counted
     double_counted: tuple[Relation, ...]      # declared relations already implied
     has_feed: bool
+    excluded: tuple[str, ...] = ()            # species that need an element the feed lacks
+    empty_phases: tuple[str, ...] = ()        # assumed phases none of whose species can exist
 
     @property
     def restrictions(self) -> int:
@@ -71,7 +73,9 @@ class PhaseRuleCount:
     def explanation(self) -> list[str]:
         """The count, term by term, in words a reviewer can follow."""
         lines = [
-            f"N = {self.n_species}: phase-species in the phases assumed to coexist ({', '.join(self.coexisting)})",
+            f"N = {self.n_species}: phase-species in the phases assumed to coexist ({', '.join(self.coexisting)})"
+            + (f", leaving out {', '.join(self.excluded)} (an element of each is absent from the feed)"
+               if self.excluded else ""),
             f"pi = {self.n_phases}: phases assumed to coexist",
             f"m = {self.independent_reactions}: independent reactions among those species (rank of the reactions "
             "that involve only present species, combinations included)",
@@ -125,7 +129,21 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
     """Phase-rule count for a case over its assumed coexisting phases."""
     labels = system.labels
     coexisting = case.coexisting or tuple(p.name for p in system.phases)
-    present = tuple(k for k, s in enumerate(system.species) if s.phase in coexisting)
+    n0: dict[int, Fraction] = {}
+    for name, amount in case.feed or ():
+        k = system.find(name)[0]
+        n0[k] = n0.get(k, Fraction(0)) + _exact_amount(amount)
+    # with a feed, a species holding an element the feed lacks can never be present: it is
+    # not a phase-species of the equilibrium state (its mole fraction is identically zero)
+    excluded = []
+    if case.feed is not None:
+        for e, row in zip(system.elements, system.formula_matrix):
+            if e != "charge" and sum((row[k] * a for k, a in n0.items()), Fraction(0)) == 0:
+                excluded += [k for k, x in enumerate(row) if x != 0 and k not in excluded]
+    excluded = sorted(k for k in excluded if system.species[k].phase in coexisting)
+    present = tuple(k for k, s in enumerate(system.species) if s.phase in coexisting and k not in excluded)
+    empty = tuple(p for p in coexisting if not any(system.species[k].phase == p for k in present))
+    coexisting = tuple(p for p in coexisting if p not in empty)
     present_set = set(present)
     basis = basis_within(reactions, system.n_species, present)
     m = len(basis)
@@ -136,10 +154,6 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
     W = [dict(c.vector) for c in analysis.conserved]
     b = None
     if case.feed is not None:
-        n0: dict[int, Fraction] = {}
-        for name, amount in case.feed:
-            k = system.find(name)[0]
-            n0[k] = n0.get(k, Fraction(0)) + _exact_amount(amount)
         b = [sum((Fraction(w.get(k, 0)) * a for k, a in n0.items()), Fraction(0)) for w in W]
 
     relations: list[Relation] = []
@@ -158,7 +172,7 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
     counted = exact.RowEchelon(track=False)     # every relation counted so far
     feed_only = exact.RowEchelon(track=False)   # those the feed (and electroneutrality) imply
     for phase in coexisting:
-        idx = [k for k in system.phase_indices(phase)]
+        idx = [k for k in system.phase_indices(phase) if k in present_set]
         outside = [k for k in present if k not in set(idx)]
         found: list[tuple[dict, str, str, str]] = []   # (vector, origin, text, key path)
         if b is not None and W:
@@ -219,4 +233,4 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
         coexisting=tuple(coexisting), present_species=present, n_species=len(present),
         n_phases=len(coexisting), independent_reactions=m, reactions_present=reactions_present,
         r_feed=r_feed, r_declared=r_declared, relations=tuple(relations), double_counted=tuple(double),
-        has_feed=case.feed is not None)
+        has_feed=case.feed is not None, excluded=tuple(system.labels[k] for k in excluded), empty_phases=empty)

@@ -68,7 +68,7 @@ def build_incidence(case: Case, system: ChemicalSystem, count: PhaseRuleCount):
     eqs: list[Equation] = []
     for phase in count.coexisting:
         eqs.append(Equation(f"sum of mole fractions in {phase} = 1", "normalisation",
-                            tuple(col[k] for k in system.phase_indices(phase))))
+                            tuple(col[k] for k in system.phase_indices(phase) if k in col)))
     for r in count.reactions_present:
         touched = [0, 1] + [col[k] for k, _ in r.stoich if solution[system.species[k].phase]]
         eqs.append(Equation(f"equilibrium of {r.equation}", "equilibrium", tuple(touched)))

@@ -75,3 +75,34 @@ def test_incomplete_list_holds_the_extra_conserved_quantity(tmp_path):
     x = dict(gas.mole_fractions)
     assert x["CH4"] * gas.moles == pytest.approx(0.1, rel=1e-9)
     assert eq.element_balance_error < 1e-9
+
+
+SPECIES_WITHOUT_ITS_ELEMENT = """\
+system:
+  source: packaged
+  phases:
+    gas: [CH4, H2O, CO, CO2, H2, HCL]
+feed: {CH4: 1, H2O: 2}
+specified: {temperature: 900 K, pressure: 10 bar}
+"""
+
+
+def test_species_whose_element_is_not_fed_is_left_out_of_the_count(tmp_path):
+    # HCL needs chlorine, which the feed lacks: x(HCL) is identically zero, so HCL is not a
+    # phase-species of the equilibrium state.  Counting it would add N + 1 and a restriction
+    # x(HCL) = 0 (same F) and make the Jacobian singular; the Duhem count (F = 2 for a single
+    # phase with a known feed, theorem) must hold either way.
+    result = audit_file(write(tmp_path, SPECIES_WITHOUT_ITS_ELEMENT))
+    pr = result.phase_rule
+    assert pr.excluded == ("HCL",)
+    assert (pr.n_species, pr.independent_reactions, pr.restrictions, pr.degrees_of_freedom) == (5, 2, 2, 2)
+    assert result.verdict == "well-posed" and result.equilibrium.confirmed
+    assert result.equilibrium.jacobian_rcond > 1e-6
+
+
+def test_assumed_phase_that_cannot_exist_is_inconsistent(tmp_path):
+    text = LIME_WITHOUT_CALCIUM.replace("coexisting: [gas]", "coexisting: [gas, lime]")
+    result = audit_file(write(tmp_path, text))
+    assert result.phase_rule.empty_phases == ("lime",)
+    assert result.verdict == "inconsistent"
+    assert any("phase lime is assumed to coexist" in f.message for f in result.findings)
