@@ -665,11 +665,19 @@ def load_case(path: str | Path) -> Case:
                     continue
                 claims.append((key, v))
 
-    if rd.problems:
-        raise CaseError(rd.problems)
-    return Case(path=path, title=title, system=system_spec, reactions=reactions, feed=feed,
+    case = Case(path=path, title=title, system=system_spec, reactions=reactions, feed=feed,
                 coexisting=coexisting, specified=spec, restrictions=tuple(restrictions),
                 claims=tuple(claims), lines=dict(rd.lines))
+    if rd.problems:
+        # report the names that do not exist together with the structural problems, when the
+        # system part itself is usable
+        if system_spec is not None and not any(p.key_path.startswith("system") for p in rd.problems):
+            try:
+                check_names(case, build_system(case))
+            except InputError as exc:
+                rd.problems.extend(exc.problems)
+        raise CaseError(sorted(rd.problems, key=lambda p: (p.line or 0, p.column or 0)))
+    return case
 
 
 def _cantera_data_file(name: str) -> Path | None:
