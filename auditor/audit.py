@@ -7,6 +7,7 @@ from typing import Any
 
 from . import case as case_mod
 from .case import Case
+from .errors import InputError
 from .exact import format_fraction
 from .findings import Finding
 from .phase_rule import PhaseRuleCount, count as count_phase_rule
@@ -164,3 +165,14 @@ def _show(v) -> str:
 
 def audit_file(path: str | Path, confirm: bool = True) -> AuditResult:
     return run(case_mod.load_case(path), confirm=confirm)
+
+
+def audit_for_batch(path: str | Path, confirm: bool = True, raise_errors: bool = False):
+    """One unit of work of a multi-case run: the result, or the input error as a value (so that
+    an executor does not retry a file that is simply invalid)."""
+    try:
+        return audit_file(path, confirm=confirm)
+    except InputError as exc:
+        if raise_errors:
+            raise
+        return exc

@@ -44,6 +44,10 @@ def _parser() -> argparse.ArgumentParser:
     c.add_argument("--report", metavar="PATH", help="write the full audit; the format follows the suffix "
                    "(.html, .md, .json)")
     c.add_argument("--force", action="store_true", help="overwrite an existing report")
+    c.add_argument("--jobs", type=int, default=None, metavar="N",
+                   help="worker processes for several cases (default: all cores when more than two cases)")
+    c.add_argument("--scheduler", metavar="ADDRESS", help="audit several cases on a Dask cluster: tcp://HOST:PORT "
+                   "or local:N (needs the cluster extra)")
     c.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
     w = sub.add_parser("sweep", help="run the confirmation over a grid of temperature and pressure",
                        epilog=EPILOG_SWEEP, formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -93,6 +97,27 @@ exit status: 0 well posed and every claim holds, 1 the audit found a problem,
 2 an input could not be read or is invalid."""
 
 
+def _audit_all(paths, args):
+    """(path, AuditResult or InputError) in the order given; several cases go to an executor."""
+    from .audit import audit_for_batch
+    confirm = not args.no_confirm
+    jobs = args.jobs if args.jobs is not None else (1 if len(paths) <= 2 else None)
+    if len(paths) == 1 or (jobs == 1 and not args.scheduler) or args.debug:
+        for path in paths:
+            yield path, audit_for_batch(path, confirm, raise_errors=args.debug)
+        return
+    from .executors import make_executor
+    executor = make_executor(jobs, args.scheduler)
+    try:
+        done = {}
+        for (path, _), result in executor.map_blocks(audit_for_batch, [(p, confirm) for p in paths]):
+            done[path] = result
+        for path in paths:
+            yield path, done[path]
+    finally:
+        executor.close()
+
+
 def _cmd_check(args) -> int:
     from importlib import resources
     from .audit import audit_file
@@ -112,15 +137,15 @@ def _cmd_check(args) -> int:
             print(f"auditor: error: {exc}", file=sys.stderr)
             return EXIT_INPUT
     results, docs, status = [], [], EXIT_OK
-    for path in paths:
-        try:
-            result = audit_file(path, confirm=not args.no_confirm)
-        except InputError as exc:
+    for path, result in _audit_all(paths, args):
+        if isinstance(result, InputError):
             if args.debug:
-                raise
-            print(f"auditor: error: {exc}", file=sys.stderr)
+                raise result
+            print(f"auditor: error: {result}", file=sys.stderr)
             status = max(status, EXIT_INPUT)
             continue
+        if isinstance(result, BaseException):
+            raise result
         results.append(result)
         status = max(status, result.exit_status)
     if args.report and results:

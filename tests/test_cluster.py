@@ -143,3 +143,21 @@ def test_interrupted_sweep_resumes(tmp_path):
     status, resumed = _run_cli(tmp_path, "part", "--resume", "--jobs", "1")
     assert resumed == full
     assert not journal.exists()
+
+
+def _check_json(capsys, *argv):
+    status = main(["check", "--json", *argv])
+    out, err = capsys.readouterr()
+    return status, out, err
+
+
+def test_multi_case_check_is_the_same_on_every_executor(tmp_path, capsys, cluster):
+    bad = tmp_path / "bad.yaml"
+    bad.write_text("system: {source: packaged, phases: {gas: [H2, O2, H2O]}}\nfeed: {H2: -1}\n", encoding="utf-8")
+    cases = [str(p) for p in sorted(CASES.glob("*.yaml"))[:4]] + [str(bad)]
+    runs = [_check_json(capsys, *cases, "--jobs", "1"),
+            _check_json(capsys, *cases, "--jobs", "2"),
+            _check_json(capsys, *cases, "--scheduler", cluster.scheduler_address)]
+    assert {r[0] for r in runs} == {2}                    # the bad file sets the worst status
+    assert runs[0][1] == runs[1][1] == runs[2][1]         # same JSON, in the order given
+    assert all("bad.yaml" in r[2] and "feed.H2" in r[2] for r in runs)
