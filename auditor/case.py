@@ -374,19 +374,18 @@ def load_case(path: str | Path) -> Case:
             return None
         return float(v)
 
-    def want_mapping(node, kp) -> _Mapping | None:
+    def want(node, kp, kind: type, what: str):
         v = value_of(node, kp)
-        if not isinstance(v, _Mapping):
-            rd.problem(node, kp, f"expected a mapping (key: value lines), got {_kind(v)}")
+        if not isinstance(v, kind):
+            rd.problem(node, kp, f"expected {what}, got {_kind(v)}")
             return None
         return v
 
+    def want_mapping(node, kp) -> _Mapping | None:
+        return want(node, kp, _Mapping, "a mapping (key: value lines)")
+
     def want_list(node, kp) -> list | None:
-        v = value_of(node, kp)
-        if not isinstance(v, list):
-            rd.problem(node, kp, f"expected a list, got {_kind(v)}")
-            return None
-        return v
+        return want(node, kp, list, "a list")
 
     # title
     title = path.stem
