@@ -47,6 +47,21 @@ from .system import CONDENSED_DATABASE, GAS_DATABASE, ChemicalSystem, packaged_s
 R = 8.314462618  # J/(mol K), CODATA 2018 (exact since the 2019 SI)
 
 
+def _by_identity(build):
+    """Cache on the identity of the arguments (the stage results are large frozen records
+    whose value hash costs more than the work saved); the arguments are kept alive."""
+    cache: dict = {}
+
+    def cached(*args):
+        key = tuple(id(a) for a in args)
+        if key not in cache:
+            if len(cache) >= 16:
+                cache.pop(next(iter(cache)))
+            cache[key] = (args, build(*args))
+        return cache[key][1]
+    return cached
+
+
 # ------------------------------------------------------------------ densities
 
 @functools.lru_cache(maxsize=1)
@@ -252,6 +267,13 @@ class _Model:
             out.append(ph.standard_gibbs_RT)
         return np.concatenate(out)
 
+    def g_derivatives(self, T: float, P: float, n: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """d(mu°/RT)/d ln T = -H°/RT (Gibbs-Helmholtz) and d(mu°/RT)/d ln P = P V/RT, at T, P."""
+        self.set_state(T, P, n)
+        dT = -np.concatenate([ph.standard_enthalpies_RT for ph in self.phases])
+        dP = np.concatenate([ph.partial_molar_volumes for ph in self.phases]) * P / (R * 1000.0 * T)
+        return dT, dP
+
     def mu_RT(self, T: float, P: float, n: np.ndarray) -> np.ndarray:
         self.set_state(T, P, n)
         return np.concatenate([ph.chemical_potentials for ph in self.phases]) / (R * 1000.0 * T)
@@ -263,7 +285,7 @@ class _Model:
         return float(h @ n)
 
 
-@functools.lru_cache(maxsize=16)
+@_by_identity
 def _model_cached(system: ChemicalSystem) -> _Model:
     return _Model(system)
 
@@ -289,6 +311,31 @@ def _conserved_matrix(analysis: ReactionAnalysis, n_species: int) -> np.ndarray:
     return W
 
 
+@dataclass
+class _Static:
+    """What a case's solves share and do not change: arrays, the cantera Mixture, bases."""
+
+    W: np.ndarray
+    phase_of: np.ndarray
+    solution: np.ndarray
+    directions: np.ndarray
+    usable_species: np.ndarray
+    mixtures: dict = field(default_factory=dict)   # candidate mask -> (Mixture, segments, in_mixture)
+    bases: dict = field(default_factory=dict)      # present species -> reaction basis
+
+
+@_by_identity
+def _static_for(system: ChemicalSystem, analysis: ReactionAnalysis) -> _Static:
+    model = _model_cached(system)
+    index = {p.name: i for i, p in enumerate(system.phases)}
+    return _Static(
+        W=_conserved_matrix(analysis, system.n_species),
+        phase_of=np.array([index[s.phase] for s in system.species], dtype=int),
+        solution=np.array([len(p.species) > 1 for p in system.phases]),
+        directions=_direction_matrix([dict(r.stoich) for r in analysis.derived_basis], system.n_species),
+        usable_species=np.concatenate([[ok] * ph.n_species for ph, ok in zip(model.phases, model.usable)]))
+
+
 class _Solver:
     """T,P minimisation of one case, reusable for outer solves."""
 
@@ -298,18 +345,27 @@ class _Solver:
         self.system = system
         self.n0 = n0
         self.candidate = candidate            # bool per species: in a phase that may form
-        self.W = _conserved_matrix(analysis, system.n_species)
-        self.A = np.array([[float(x) for x in row] for row in system.formula_matrix]) if system.formula_matrix else np.zeros((0, system.n_species))
+        static = _static_for(system, analysis)
+        self.static = static
+        self.W, self.phase_of, self.solution = static.W, static.phase_of, static.solution
+        self.directions, self.usable_species = static.directions, static.usable_species
         self.complete = analysis.complete
-        self.phase_of = np.array([next(i for i, p in enumerate(system.phases) if p.name == s.phase) for s in system.species])
-        self.solution = np.array([len(p.species) > 1 for p in system.phases])
         self.calls = 0
         self.log: list[str] = []      # what cantera's solver printed
-        self._mixture = None
-        self._in_mixture = None
+        self._reactions = analysis.reactions
         self.deadline = time.perf_counter() + settings.MINIMISATION_WALL_SECONDS
-        self.directions = _direction_matrix([dict(r.stoich) for r in analysis.derived_basis], system.n_species)
-        self.usable_species = np.concatenate([[ok] * ph.n_species for ph, ok in zip(model.phases, model.usable)])
+        key = candidate.tobytes()
+        if key not in static.mixtures:
+            # one Mixture per case, reused for every state (building one costs more than a solve);
+            # a phase none of whose species can form stays out of it
+            m = model
+            offsets = np.cumsum([0] + [p.n_species for p in m.phases])
+            keep = [ok and bool(candidate[lo:hi].any()) for ok, lo, hi in zip(m.usable, offsets[:-1], offsets[1:])]
+            mixture = m.ct.Mixture([(ph, 0.0) for ph, k in zip(m.phases, keep) if k]) if any(keep) else None
+            segments = [(lo, hi) for k, lo, hi in zip(keep, offsets[:-1], offsets[1:]) if k]
+            in_mixture = np.concatenate([[k] * ph.n_species for ph, k in zip(m.phases, keep)])
+            static.mixtures[key] = (mixture, segments, in_mixture)
+        self._mixture, self._segments, self._in_mixture = static.mixtures[key]
 
     def _ours(self, T: float, P: float) -> _Solution:
         from .minimiser import minimise_gibbs
@@ -325,17 +381,10 @@ class _Solver:
         return _Solution(n, T, P, "element-potential minimiser (auditor.minimiser)", bool(res.converged), res.message)
 
     def _cantera(self, T: float, P: float, start: np.ndarray, solver: str = "vcs") -> _Solution:
-        m = self.model
-        usable_mask = self.usable_species
-        if self._mixture is None:
-            # one Mixture per case, reused for every state (building one costs more than a solve);
-            # a phase none of whose species can form stays out of it
-            offsets = np.cumsum([0] + [p.n_species for p in m.phases])
-            keep = [ok and bool(self.candidate[lo:hi].any()) for ok, lo, hi in zip(m.usable, offsets[:-1], offsets[1:])]
-            self._mixture = m.ct.Mixture([(ph, 0.0) for ph, k in zip(m.phases, keep) if k])
-            self._segments = [(lo, hi) for k, lo, hi in zip(keep, offsets[:-1], offsets[1:]) if k]
-            self._in_mixture = np.concatenate([[k] * ph.n_species for ph, k in zip(m.phases, keep)])
         usable_mask = self._in_mixture
+        if self._mixture is None:
+            return _Solution(np.zeros(self.system.n_species), T, P, f"cantera {solver}", False,
+                             "no phase of the system can form from this feed")
         start = start.copy()
         total = max(start[usable_mask & self.candidate].sum(), 1e-300)
         # a phase that may appear needs a trace seed: zero-seeded phases break the solver
@@ -364,6 +413,13 @@ class _Solver:
         n[usable_mask] = mix.species_moles
         return _Solution(n, T, P, f"cantera {solver}", converged, msg)
 
+    def basis_for(self, present: tuple[int, ...]):
+        """Independent reactions among the given present species (cached per present set)."""
+        bases = self.static.bases
+        if present not in bases:
+            bases[present] = basis_within(self._reactions, self.system.n_species, present)
+        return bases[present]
+
     def solve(self, T: float, P: float, start: np.ndarray | None = None) -> _Solution:
         # the wall-clock bound is checked between solves (a running cantera call cannot be stopped)
         if time.perf_counter() > self.deadline:
@@ -376,11 +432,6 @@ class _Solver:
 
 
 # ------------------------------------------------------------------ certificate
-
-@functools.lru_cache(maxsize=64)
-def _basis_cached(reactions, n_species: int, present: tuple[int, ...]):
-    return basis_within(reactions, n_species, present)
-
 
 def _direction_matrix(vectors, n_species: int) -> np.ndarray:
     V = np.zeros((len(vectors), n_species))
@@ -640,7 +691,7 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
 
     # affinities of the independent reactions among present species
     present_idx = tuple(int(k) for k in np.flatnonzero(present_species))
-    basis = _basis_cached(analysis.reactions, system.n_species, present_idx)
+    basis = solver.basis_for(present_idx)
     affinities = [abs(sum(float(c) * mu[k] for k, c in v.items())) for v in basis]
     max_aff = max(affinities) if affinities else 0.0
 
@@ -817,13 +868,11 @@ def _jacobian_rcond(case, system, model, count, spec, T, P, n) -> float:
             for c in e.variables:
                 r[c] = x[c - 2]
             rows.append(r)
-    h = 1e-6
-    g_tp = model.g_RT(T * math.exp(h), P) - model.g_RT(T * math.exp(-h), P)
-    g_pp = model.g_RT(T, P * math.exp(h)) - model.g_RT(T, P * math.exp(-h))
+    g_t, g_p = model.g_derivatives(T, P, n)
     for rxn in count.reactions_present:
         r = np.zeros(2 + len(present))
-        r[0] = sum(float(c) * g_tp[k] for k, c in rxn.stoich) / (2 * h)
-        r[1] = sum(float(c) * g_pp[k] for k, c in rxn.stoich) / (2 * h)
+        r[0] = sum(float(c) * g_t[k] for k, c in rxn.stoich)
+        r[1] = sum(float(c) * g_p[k] for k, c in rxn.stoich)
         for k, c in rxn.stoich:
             if solution[system.species[k].phase]:
                 r[col[k]] += float(c)   # d(c ln x)/dx * x
