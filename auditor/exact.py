@@ -357,7 +357,8 @@ def small_integer_basis(vectors: Sequence[Mapping[int, Number]], passes: int = 2
     rationals.
     """
     basis = [primitive(v) for v in vectors]
-    if len(basis) > 200:
+    # the pairwise search costs (vectors^2 x support^2): keep it to the small sets people read
+    if len(basis) > 200 or any(len(v) > 64 for v in basis):
         return basis
     for _ in range(passes):
         changed = False

@@ -102,6 +102,9 @@ def relation_text(phase: str, coeffs: dict[int, Fraction | int], labels: Sequenc
         mag = abs(c)
         coef = "" if mag == 1 else f"{exact.format_fraction(mag)} "
         terms.append(f"{sign} {coef}x({labels[k]})")
+    more = len(terms) - 12
+    if more > 0:   # a mechanism-sized relation: show its start and say how long it is
+        terms = terms[:12] + [f"+ ... ({more} more terms)"]
     text = " ".join(terms)
     text = text[2:] if text.startswith("+ ") else text
     return f"in phase {phase}: {text} = {rhs}"
