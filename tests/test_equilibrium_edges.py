@@ -106,3 +106,25 @@ def test_assumed_phase_that_cannot_exist_is_inconsistent(tmp_path):
     assert result.phase_rule.empty_phases == ("lime",)
     assert result.verdict == "inconsistent"
     assert any("phase lime is assumed to coexist" in f.message for f in result.findings)
+
+
+HEXANE_FLAME = """\
+title: large mechanism, lean hexane products
+system:
+  mechanism: n-hexane-NUIG-2015.yaml
+reactions: from-mechanism
+feed: {NC6H14: 1, O2: 9.5, N2: 35.7}
+specified: {pressure: 1 atm, temperature: 1500 K}
+"""
+
+
+def test_largest_shipped_mechanism_through_the_whole_audit(tmp_path):
+    # 1268 species, 5336 reactions.  He and Ar are not fed, so those two species are left
+    # out (N = 1266); rank of the reactions 1262 = N - rank A over C, H, N, O (formula-matrix
+    # theorem, Smith & Missen 1982); one gas phase with a known feed has F = 2 (Duhem).
+    result = audit_file(write(tmp_path, HEXANE_FLAME))
+    pr = result.phase_rule
+    assert sorted(pr.excluded) == ["AR", "HE"]
+    assert (pr.n_species, pr.independent_reactions, pr.degrees_of_freedom) == (1266, 1262, 2)
+    assert result.verdict == "well-posed" and result.equilibrium.confirmed
+    assert result.equilibrium.element_balance_error < 1e-9
