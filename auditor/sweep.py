@@ -154,10 +154,12 @@ def evaluate_block(case_path: str, vary: tuple[str, ...], points: Sequence[Point
     return [evaluate_point(case_path, vary, p) for p in points]
 
 
-def blocks_of(points: Sequence[Point], workers: int, block_size: int | None = None) -> list[list[Point]]:
-    """Blocks big enough that scheduling overhead stays small, small enough to balance load."""
+def blocks_of(points: Sequence[Point], workers: int, block_size: int | None = None,
+              blocks_per_worker: int = 8) -> list[list[Point]]:
+    """Blocks big enough that scheduling overhead stays small, small enough to balance load
+    (and to keep progress and resume fine-grained: at most 500 points a block)."""
     if block_size is None:
-        block_size = max(1, min(50, len(points) // max(1, workers * 8)))
+        block_size = max(1, min(500, -(-len(points) // max(1, workers * blocks_per_worker))))
     return [list(points[i:i + block_size]) for i in range(0, len(points), block_size)]
 
 
@@ -201,7 +203,7 @@ def run_sweep(case_path: str, axes: Sequence[Axis], executor, *, done: Iterable[
     vary = tuple(sorted(a.name for a in axes))
     finished = {r.index: r for r in done}
     todo = [p for p in points if p.index not in finished]
-    blocks = blocks_of(todo, workers, block_size)
+    blocks = blocks_of(todo, workers, block_size, getattr(executor, "blocks_per_worker", 8))
     for block, outcome in executor.map_blocks(evaluate_block, [(case_path, vary, b) for b in blocks]):
         if isinstance(outcome, BaseException):
             outcome = [PointResult(p.index, p.temperature_K, p.pressure_Pa, "failed", (), (), (),
