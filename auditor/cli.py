@@ -8,7 +8,7 @@ import warnings
 from pathlib import Path
 
 from . import __version__
-from .errors import AuditorError, InputError
+from .errors import InputError
 
 EXIT_OK, EXIT_PROBLEM, EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
 
@@ -120,7 +120,6 @@ def _audit_all(paths, args):
 
 def _cmd_check(args) -> int:
     from importlib import resources
-    from .audit import audit_file
     from .report.document import check_document
     from .report.terminal import audit_text, summary_line
     paths = args.cases or [str(resources.files("auditor") / "data" / "default_case.yaml")]

@@ -31,8 +31,6 @@ import math
 import time
 import warnings
 from dataclasses import dataclass, field
-from pathlib import Path
-from typing import Sequence
 
 import numpy as np
 
@@ -544,7 +542,6 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
             if row_f @ n0 == 0:
                 candidate &= row_f == 0
     solver = _Solver(model, system, analysis, n0, candidate)
-    s = case.specified
 
     try:
         sol = _solve_specified(case, solver, spec)

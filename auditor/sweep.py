@@ -13,7 +13,6 @@ import functools
 import json
 import math
 from dataclasses import dataclass, replace
-from pathlib import Path
 from typing import Callable, Iterable, Sequence
 
 from .case import Case, load_case, parse_quantity

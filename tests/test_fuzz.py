@@ -31,7 +31,6 @@ reproduce what the fuzzers found while they were written.
 """
 from __future__ import annotations
 
-import errno
 import math
 import os
 import re

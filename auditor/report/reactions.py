@@ -2,7 +2,7 @@
 from __future__ import annotations
 
 from ..exact import format_fraction
-from ..stoichiometry import ReactionAnalysis, format_equation
+from ..stoichiometry import ReactionAnalysis
 
 
 def _combo_text(combination, prefix="#") -> str:
