@@ -45,8 +45,16 @@ def _value(v) -> str:
 def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str, list[Block]]]]:
     doc = doc or check_document(r, with_context=True)
     sec: list[tuple[str, list[Block]]] = []
-    sec.append(("Verdict", [_para(f"Verdict: {doc['verdict']}"),
-                            _para(doc["specification"]["suggestion"] or "No change to the specifications is needed.")]))
+    verdict_blocks = [_para(f"Verdict: {doc['verdict']}")]
+    errors = [f"{f['topic']}: {f['message']}" for f in doc["findings"] if f["severity"] == "error"]
+    if errors:
+        verdict_blocks += [_para("Why:"), _list(errors[:6] + ([f"... and {len(errors) - 6} more (see Findings)"]
+                                                             if len(errors) > 6 else []))]
+    if doc["specification"]["suggestion"]:
+        verdict_blocks.append(_para(f"Suggested fix: {doc['specification']['suggestion']}"))
+    elif doc["verdict"] == "well-posed":
+        verdict_blocks.append(_para("No change to the specifications is needed."))
+    sec.append(("Verdict", verdict_blocks))
     inputs = [_table(("file", "SHA-256"), [(i["path"], i["sha256"]) for i in doc.get("inputs", [])]),
               _table(("component", "version"), sorted(doc.get("versions", {}).items())),
               _para(f"Generated {doc.get('generated', '')} by auditor {doc['tool']['version']}.")]

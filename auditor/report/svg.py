@@ -33,7 +33,7 @@ def sparsity(rows: list[dict[int, object]], n_cols: int, independent: set[int], 
     n_rows = len(rows)
     cell = max(2, min(max_cell, int(700 / max(n_cols, 1)), int(700 / max(n_rows, 1))))
     left, top = (110 if cell >= 10 else 10), (70 if cell >= 10 else 10)
-    width, height = left + cell * n_cols + 10, top + cell * n_rows + 40
+    width, height = max(left + cell * n_cols + 10, 330), top + cell * n_rows + 40
     out = [f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" height="{height}" role="img" '
            'aria-label="stoichiometric matrix" font-family="sans-serif" font-size="10">']
     if cell >= 10:
