@@ -178,6 +178,11 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
         idx = [k for k in system.phase_indices(phase) if k in present_set]
         outside = [k for k in present if k not in set(idx)]
         found: list[tuple[dict, str, str, str]] = []   # (vector, origin, text, key path)
+        charges = {k: system.species[k].charge for k in idx if system.species[k].charge != 0}
+        if charges:
+            z = exact.primitive({k: c for k, c in charges.items()})
+            # first, so that a feed relation that coincides with it is the one left out
+            found.append((z, "electroneutrality", relation_text(phase, z, labels), ""))
         if b is not None and W:
             # lambda in the left null space of [b | W restricted to present species outside the phase]
             feed_vectors: list[dict] = []
@@ -196,10 +201,6 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
             # same span, written with small integer coefficients a reviewer can read
             for u in exact.small_integer_basis(feed_vectors):
                 found.append((u, "feed", relation_text(phase, u, labels), "feed"))
-        charges = {k: system.species[k].charge for k in idx if system.species[k].charge != 0}
-        if charges:
-            z = exact.primitive({k: c for k, c in charges.items()})
-            found.append((z, "electroneutrality", relation_text(phase, z, labels), ""))
         # independent feed/electroneutrality relations of this phase
         for u, origin, text, kp in found:
             feed_only.add(u)
