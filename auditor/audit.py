@@ -88,10 +88,12 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     F = count.degrees_of_freedom
     for phase in count.empty_phases:
         findings.append(Finding("error", "phase-rule", f"phase {phase} is assumed to coexist but none of its species "
-                                "can exist: the feed holds none of an element each of them needs", (phase,)))
+                                "can form from this feed (each needs an element the feed lacks, or a reaction the "
+                                "list does not hold)", (phase,)))
     if count.excluded:
         findings.append(Finding("note", "phase-rule", f"{', '.join(count.excluded)} cannot be present (the feed lacks "
-                                "an element of each) and are left out of the count", count.excluded))
+                                "an element of each, or the listed reactions cannot form it) and are left out of the "
+                                "count", count.excluded))
     if F < 0:
         findings.append(Finding("error", "phase-rule", f"F = {F} < 0: the phases assumed to coexist "
                                 f"({', '.join(count.coexisting)}) cannot coexist at equilibrium with these "

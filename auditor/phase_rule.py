@@ -74,7 +74,7 @@ class PhaseRuleCount:
         """The count, term by term, in words a reviewer can follow."""
         lines = [
             f"N = {self.n_species}: phase-species in the phases assumed to coexist ({', '.join(self.coexisting)})"
-            + (f", leaving out {', '.join(self.excluded)} (an element of each is absent from the feed)"
+            + (f", leaving out {', '.join(self.excluded)} (none can form from this feed)"
                if self.excluded else ""),
             f"pi = {self.n_phases}: phases assumed to coexist",
             f"m = {self.independent_reactions}: independent reactions among those species (rank of the reactions "
@@ -136,13 +136,19 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
     for name, amount in case.feed or ():
         k = system.find(name)[0]
         n0[k] = n0.get(k, Fraction(0)) + _exact_amount(amount)
-    # with a feed, a species holding an element the feed lacks can never be present: it is
-    # not a phase-species of the equilibrium state (its mole fraction is identically zero)
+    # with a feed, a species that a one-signed conserved quantity of zero feed value contains
+    # can never be present (an element the feed lacks, or a species the listed reactions
+    # cannot form and the feed does not hold): it is not a phase-species of the equilibrium
+    # state, its mole fraction being identically zero
     excluded = []
     if case.feed is not None:
-        for e, row in zip(system.elements, system.formula_matrix):
-            if e != "charge" and sum((row[k] * a for k, a in n0.items()), Fraction(0)) == 0:
-                excluded += [k for k, x in enumerate(row) if x != 0 and k not in excluded]
+        vectors = [dict(c.vector) for c in analysis.conserved]
+        vectors += [{k: x for k, x in enumerate(row) if x != 0}
+                    for e, row in zip(system.elements, system.formula_matrix) if e != "charge"]
+        for w in vectors:
+            one_signed = all(x > 0 for x in w.values()) or all(x < 0 for x in w.values())
+            if w and one_signed and sum((w.get(k, 0) * a for k, a in n0.items()), Fraction(0)) == 0:
+                excluded += [k for k in w if k not in excluded]
     excluded = sorted(k for k in excluded if system.species[k].phase in coexisting)
     present = tuple(k for k, s in enumerate(system.species) if s.phase in coexisting and k not in excluded)
     empty = tuple(p for p in coexisting if not any(system.species[k].phase == p for k in present))
