@@ -43,6 +43,7 @@ from .structure import SpecificationAudit
 from .system import CONDENSED_DATABASE, GAS_DATABASE, ChemicalSystem, packaged_species
 
 R = 8.314462618  # J/(mol K), CODATA 2018 (exact since the 2019 SI)
+RESTARTS = 2     # cantera restarts from other starting estimates for the uniqueness check
 
 
 def _by_identity(build):
@@ -704,7 +705,7 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     x_ref = _fractions_in_phase(n, phase_of, totals_arr)
     rng = np.random.default_rng(12345)
     if sol.solver.startswith("cantera") and solver.directions.shape[0]:
-        for trial in range(2):
+        for trial in range(RESTARTS):
             start = _perturbed_start(n if trial == 0 else solver.n0, solver.directions, rng)
             other = solver.solve(T, P, start)
             starts += 1
