@@ -369,8 +369,7 @@ class _Solver:
     def _ours(self, T: float, P: float) -> _Solution:
         from .minimiser import minimise_gibbs
         g = self.model.g_RT(T, P)
-        mask = self.candidate
-        idx = np.flatnonzero(mask)
+        idx = np.flatnonzero(self.candidate & self.usable_species)
         phases_used = sorted(set(self.phase_of[idx]))
         remap = {p: i for i, p in enumerate(phases_used)}
         res = minimise_gibbs(self.W[:, idx], g[idx], np.array([remap[p] for p in self.phase_of[idx]]),
@@ -531,6 +530,12 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
         return not_solved(f"cantera cannot build the phases for the minimisation: {' '.join(str(exc).split())[:300]}")
     for p in model.problems:
         findings.append(Finding("warning", "equilibrium", p))
+    ideal = ("ideal-gas", "fixed-stoichiometry", "ideal-condensed", "ideal-solid-solution")
+    non_ideal = [ph.name for ph, ok in zip(system.phases, model.usable) if ok and ph.model not in ideal]
+    if non_ideal and not analysis.complete:
+        findings.append(Finding("warning", "equilibrium", "the reaction list is incomplete, so the element-potential "
+                                "minimiser holds the extra conserved quantities; it treats phase(s) "
+                                f"{', '.join(non_ideal)} as ideal", tuple(non_ideal)))
     if not any(model.usable):
         return not_solved("no phase of this system can enter a Gibbs minimisation", assumed=model.assumed)
     n0 = _feed_vector(case, system)
