@@ -126,6 +126,9 @@ def audit(case: Case, system: ChemicalSystem, count: PhaseRuleCount) -> Specific
             drop = max(n_int - F, n_int + n_ext - 2, 1)
             suggestion = (f"drop {drop} of the conflicting specifications ({'; '.join(conflicting)})"
                           + (f"; with F = {F} at most {max(F, 0)} of them may be intensive" if n_int > F else ""))
+            if n_int > F and n_int + n_ext - drop < 2:
+                suggestion += ("; then fix an extensive variable in its place (a phase fraction, or an adiabatic "
+                               "enthalpy balance) to keep Duhem's two")
         elif n_int + n_ext < 2:
             status = "under-specified"
             need = 2 - n_int - n_ext
