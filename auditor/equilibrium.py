@@ -708,10 +708,11 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     # whose minimum is unique, so it needs no restart.
     starts, unique = 1, True
     x_ref = _fractions_in_phase(n, phase_of, totals_arr)
-    rng = np.random.default_rng(12345)
     if sol.solver.startswith("cantera") and solver.directions.shape[0]:
         for trial in range(RESTARTS):
-            start = _perturbed_start(n if trial == 0 else solver.n0, solver.directions, rng)
+            start = _perturbed_start(n if trial == 0 else solver.n0, solver.directions, trial)
+            if start is None:
+                continue
             other = solver.solve(T, P, start)
             starts += 1
             if not other.converged:
@@ -832,79 +833,108 @@ def _mole_fractions(system: ChemicalSystem, n: np.ndarray) -> np.ndarray:
     return x
 
 
-def _perturbed_start(n: np.ndarray, V: np.ndarray, rng) -> np.ndarray | None:
-    """A different composition with the same conserved quantities: ``n + sum_j t_j V_j >= 0``,
-    each step half of the largest that keeps every amount non-negative."""
+def _perturbed_start(n: np.ndarray, V: np.ndarray, trial: int) -> np.ndarray | None:
+    """A different composition with the same conserved quantities: ``n + t d`` with ``d`` a
+    fixed signed sum of the reaction directions (signs alternate with ``trial``), ``t`` half
+    of the largest step that keeps every amount non-negative (or 30 % of the total amount
+    when no amount decreases).  Deterministic, so the audit is reproducible."""
     if V.shape[0] == 0:
         return None
-    start = n.astype(float).copy()
-    for v in rng.permutation(V.shape[0]):
-        d = V[v] if rng.random() < 0.5 else -V[v]
+    def moved(start, d):
         neg = d < 0
-        if not neg.any():
-            step = start.sum() * 0.3 / max(d.sum(), 1e-300)
-        else:
-            step = 0.5 * float(np.min(start[neg] / -d[neg]))
-        if step > 0:
-            start = start + step * d
-    return np.where(start > 0, start, 0.0)
+        step = 0.5 * float(np.min(start[neg] / -d[neg])) if neg.any() else \
+            start.sum() * 0.3 / max(float(d.sum()), 1e-300)
+        return start + step * d if step > 0 else None
+
+    signs = np.where(np.arange(V.shape[0]) % 2 == trial % 2, 1.0, -1.0)
+    combined = signs @ V
+    best = moved(n, combined)
+    if best is None:
+        best = moved(n, -combined)     # the other sense when an amount at zero blocks this one
+    if best is None:
+        # amounts at zero block the combined direction: move along the directions one by one
+        best = n.astype(float)
+        for j in range(V.shape[0]):
+            for d in (signs[j] * V[j], -signs[j] * V[j]):
+                nxt = moved(best, d)
+                if nxt is not None:
+                    best = nxt
+                    break
+        if np.array_equal(best, n):
+            return None
+    return np.where(best > 0, best, 0.0)
+
+
+@_by_identity
+def _jacobian_layout(case, system, count, spec):
+    """Constant parts of the Jacobian of the audit's equations, as arrays (built once per case).
+
+    Rows in the order of ``structure.build_incidence``: normalisations, equilibria,
+    restrictions, specifications.  Columns ``ln T, ln P`` and the present mole fractions.
+    Returns (X, C, R, TP): entries multiplied by the mole fraction of their column, constant
+    entries, reaction stoichiometry over all species (for the T and P derivatives), and the
+    constant T, P entries.
+    """
+    present = list(count.present_species)
+    col = {k: j for j, k in enumerate(present)}
+    solution = {p.name: len(p.species) > 1 for p in system.phases}
+    s = case.specified
+    X_rows, C_rows, R_rows, TP_rows = [], [], [], []
+
+    def row():
+        X_rows.append(np.zeros(len(present)))
+        C_rows.append(np.zeros(len(present)))
+        R_rows.append(np.zeros(system.n_species))
+        TP_rows.append(np.zeros(2))
+        return len(X_rows) - 1
+
+    for e in spec.equations:
+        if e.kind == "normalisation":
+            i = row()
+            for c in e.variables:
+                X_rows[i][c - 2] = 1.0
+    for rxn in count.reactions_present:
+        i = row()
+        for k, c in rxn.stoich:
+            R_rows[i][k] = float(c)
+            if solution[system.species[k].phase]:
+                C_rows[i][col[k]] += float(c)      # d(c ln x)/dx * x = c
+    for rel in count.relations:
+        i = row()
+        for k, c in rel.coefficients:
+            X_rows[i][col[k]] += float(c)
+
+    def index_in(name, phase):
+        return [j for j in system.find(name) if system.species[j].phase == phase][0]
+
+    if s.temperature_K is not None:
+        TP_rows[row()][0] = 1.0
+    if s.pressure_Pa is not None:
+        TP_rows[row()][1] = 1.0
+    for m in s.mole_fractions:
+        k = index_in(m.species, m.phase)
+        if k in col:
+            X_rows[row()][col[k]] = 1.0
+    for q in s.ratios:
+        a, b = index_in(q.numerator, q.phase), index_in(q.denominator, q.phase)
+        if a in col and b in col:
+            i = row()
+            X_rows[i][col[a]] = 1.0
+            X_rows[i][col[b]] = -q.value
+    return np.array(present, dtype=int), np.array(X_rows), np.array(C_rows), np.array(R_rows), np.array(TP_rows)
 
 
 def _jacobian_rcond(case, system, model, count, spec, T, P, n) -> float:
     """Smallest over largest singular value of the scaled Jacobian of the audit's equations.
 
     Variables ``ln T, ln P`` and the mole fractions, columns of mole fractions scaled by
-    their values (relative changes); derivatives in the mole fractions are exact for the
-    ideal phases (d ln x / d x = 1/x), those in T and P by central differences of the
-    standard chemical potentials; rows scaled to unit length.
+    their values (relative changes); derivatives are exact for the ideal phases: d ln x / d x
+    = 1/x, d(mu°/RT)/d ln T = -H°/RT, d(mu°/RT)/d ln P = P V/RT; rows scaled to unit length.
     """
-    present = list(count.present_species)
-    col = {k: 2 + j for j, k in enumerate(present)}
-    x_all = _mole_fractions(system, n)
-    x = x_all[present]
-    solution = {p.name: len(p.species) > 1 for p in system.phases}
-    s = case.specified
-    rows = []
-    for e in spec.equations:
-        if e.kind == "normalisation":
-            r = np.zeros(2 + len(present))
-            for c in e.variables:
-                r[c] = x[c - 2]
-            rows.append(r)
+    present, X, C, R, TP = _jacobian_layout(case, system, count, spec)
+    x = _mole_fractions(system, n)[present]
     g_t, g_p = model.g_derivatives(T, P, n)
-    for rxn in count.reactions_present:
-        r = np.zeros(2 + len(present))
-        r[0] = sum(float(c) * g_t[k] for k, c in rxn.stoich)
-        r[1] = sum(float(c) * g_p[k] for k, c in rxn.stoich)
-        for k, c in rxn.stoich:
-            if solution[system.species[k].phase]:
-                r[col[k]] += float(c)   # d(c ln x)/dx * x
-        rows.append(r)
-    for rel in count.relations:
-        r = np.zeros(2 + len(present))
-        for k, c in rel.coefficients:
-            r[col[k]] += float(c) * x_all[k]
-        rows.append(r)
-
-    def index_in(name, phase):
-        return [i for i in system.find(name) if system.species[i].phase == phase][0]
-
-    if s.temperature_K is not None:
-        rows.append(np.eye(2 + len(present))[0])
-    if s.pressure_Pa is not None:
-        rows.append(np.eye(2 + len(present))[1])
-    for m in s.mole_fractions:
-        r = np.zeros(2 + len(present))
-        k = index_in(m.species, m.phase)
-        r[col[k]] = x_all[k]
-        rows.append(r)
-    for q in s.ratios:
-        r = np.zeros(2 + len(present))
-        a, b = index_in(q.numerator, q.phase), index_in(q.denominator, q.phase)
-        r[col[a]] = x_all[a]
-        r[col[b]] = -q.value * x_all[b]
-        rows.append(r)
-    J = np.array(rows)
+    J = np.hstack([np.column_stack([R @ g_t, R @ g_p]) + TP, X * x + C])
     norms = np.linalg.norm(J, axis=1)
     J = J / np.where(norms > 0, norms, 1.0)[:, None]
     sv = np.linalg.svd(J, compute_uv=False)
