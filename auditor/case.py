@@ -387,6 +387,38 @@ def load_case(path: str | Path) -> Case:
     def want_list(node, kp) -> list | None:
         return want(node, kp, list, "a list")
 
+    def ratio(node, kp) -> RatioSpec | None:
+        m = want_mapping(node, kp)
+        if m is None:
+            return None
+        check_keys(m, RATIO_KEYS, kp)
+        missing = [k for k in RATIO_KEYS if k not in m]
+        if missing:
+            rd.problem(node, kp, f"missing key(s) {', '.join(missing)} (a ratio needs phase, numerator, denominator, value)")
+            return None
+        phase = want_str(m["phase"][1], f"{kp}.phase", "a phase name")
+        num = want_str(m["numerator"][1], f"{kp}.numerator", "a species name")
+        den = want_str(m["denominator"][1], f"{kp}.denominator", "a species name")
+        val = want_fraction(m["value"][1], f"{kp}.value", "the ratio value")
+        if val is not None and val <= 0:
+            rd.problem(m["value"][1], f"{kp}.value", f"a ratio of mole fractions must be positive, got {val:g}")
+            return None
+        if num is not None and num == den:
+            rd.problem(node, kp, "numerator and denominator are the same species")
+            return None
+        if None in (phase, num, den, val):
+            return None
+        return RatioSpec(phase, num, den, val, kp)
+
+    def open_fraction(node, kp, what: str) -> float | None:
+        """A number strictly between 0 and 1 (a mole or phase fraction), or None with the problem recorded."""
+        x = want_fraction(node, kp, what)
+        if x is not None and not 0 < x < 1:
+            rd.problem(node, kp, f"a specified {what.split(' (')[0].removeprefix('a ')} must lie strictly between "
+                       f"0 and 1, got {x:g}")
+            return None
+        return x
+
     # title
     title = path.stem
     if "title" in top:
@@ -572,16 +604,14 @@ def load_case(path: str | Path) -> Case:
                     inner = want_mapping(vn, f"specified.mole-fractions.{ph}")
                     for sp, (kn2, vn2) in (inner or {}).items():
                         kp = f"specified.mole-fractions.{ph}.{sp}"
-                        x = want_fraction(vn2, kp, "a mole fraction")
-                        if x is not None and not 0 < x < 1:
-                            rd.problem(vn2, kp, f"a specified mole fraction must lie strictly between 0 and 1, got {x:g}")
-                        elif x is not None:
+                        x = open_fraction(vn2, kp, "a mole fraction")
+                        if x is not None:
                             mfs.append(MoleFractionSpec(ph, sp, x, kp))
             ratios = []
             if "ratios" in sm:
                 rl = want_list(get(sm, "ratios"), "specified.ratios")
                 for i, (n, _) in enumerate(rl or []):
-                    r = _ratio(rd, n, f"specified.ratios[{i}]", value_of, want_str, want_fraction, want_mapping, check_keys)
+                    r = ratio(n, f"specified.ratios[{i}]")
                     if r:
                         ratios.append(r)
             pfs = []
@@ -589,10 +619,8 @@ def load_case(path: str | Path) -> Case:
                 pm = want_mapping(get(sm, "phase-fractions"), "specified.phase-fractions")
                 for ph, (kn, vn) in (pm or {}).items():
                     kp = f"specified.phase-fractions.{ph}"
-                    x = want_fraction(vn, kp, "a phase fraction (moles of phase / all moles)")
-                    if x is not None and not 0 < x < 1:
-                        rd.problem(vn, kp, f"a specified phase fraction must lie strictly between 0 and 1, got {x:g}")
-                    elif x is not None:
+                    x = open_fraction(vn, kp, "a phase fraction (moles of phase / all moles)")
+                    if x is not None:
                         pfs.append(PhaseFractionSpec(ph, x, kp))
             if "adiabatic" in sm:
                 am = want_mapping(get(sm, "adiabatic"), "specified.adiabatic")
@@ -624,7 +652,7 @@ def load_case(path: str | Path) -> Case:
                 continue
             (kind, (kn, vn)), = v.items()
             if kind == "ratio":
-                r = _ratio(rd, vn, f"{kp}.ratio", value_of, want_str, want_fraction, want_mapping, check_keys)
+                r = ratio(vn, f"{kp}.ratio")
                 if r:
                     restrictions.append(DeclaredRestriction("ratio", kp, ratio=r))
             elif kind == "same-composition":
@@ -704,30 +732,6 @@ def _kind(v) -> str:
         return "a list" if v else "an empty list"
     text = repr(v)
     return text if len(text) <= 80 else text[:77] + "..."
-
-
-def _ratio(rd, node, kp, value_of, want_str, want_fraction, want_mapping, check_keys) -> RatioSpec | None:
-    m = want_mapping(node, kp)
-    if m is None:
-        return None
-    check_keys(m, RATIO_KEYS, kp)
-    missing = [k for k in RATIO_KEYS if k not in m]
-    if missing:
-        rd.problem(node, kp, f"missing key(s) {', '.join(missing)} (a ratio needs phase, numerator, denominator, value)")
-        return None
-    phase = want_str(m["phase"][1], f"{kp}.phase", "a phase name")
-    num = want_str(m["numerator"][1], f"{kp}.numerator", "a species name")
-    den = want_str(m["denominator"][1], f"{kp}.denominator", "a species name")
-    val = want_fraction(m["value"][1], f"{kp}.value", "the ratio value")
-    if val is not None and val <= 0:
-        rd.problem(m["value"][1], f"{kp}.value", f"a ratio of mole fractions must be positive, got {val:g}")
-        return None
-    if num is not None and num == den:
-        rd.problem(node, kp, "numerator and denominator are the same species")
-        return None
-    if None in (phase, num, den, val):
-        return None
-    return RatioSpec(phase, num, den, val, kp)
 
 
 # ------------------------------------------------------------------ binding to the system
