@@ -20,6 +20,7 @@ from typing import Any, Mapping
 
 from . import settings
 from .errors import CaseError, InputError, LimitError, Problem
+from .system import shipped_data_file
 
 # ------------------------------------------------------------------ records
 
@@ -442,7 +443,7 @@ def load_case(path: str | Path) -> Case:
                     try:
                         mech = (path.parent / m).resolve()
                         if not mech.is_file():
-                            mech = _cantera_data_file(m) or mech
+                            mech = shipped_data_file(m) or mech
                         found = mech.is_file()
                     except (ValueError, OSError):   # a NUL byte, a name too long for the system
                         mech, found = None, False
@@ -705,23 +706,6 @@ def load_case(path: str | Path) -> Case:
                 rd.problems.extend(exc.problems)
         raise CaseError(sorted(rd.problems, key=lambda p: (p.line or 0, p.column or 0)))
     return case
-
-
-def _cantera_data_file(name: str) -> Path | None:
-    """A mechanism shipped with cantera (``gri30.yaml``), when not found beside the case."""
-    if Path(name).is_absolute() or ".." in Path(name).parts:
-        return None
-    try:
-        import cantera as ct
-    except ImportError:
-        return None
-    for d in ct.get_data_directories():
-        if not Path(d).is_absolute():
-            continue  # '.' is the current directory: a case must not depend on where it is run
-        for candidate in (Path(d) / name, Path(d) / "example_data" / name):
-            if candidate.is_file():
-                return candidate.resolve()
-    return None
 
 
 def _kind(v) -> str:

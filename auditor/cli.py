@@ -325,24 +325,12 @@ def _cmd_species(args) -> int:
     return EXIT_OK
 
 
-def _resolve_mechanism(name: str) -> str:
-    from pathlib import Path
-    path = Path(name)
-    if path.exists():
-        return str(path)
-    import cantera as ct
-    for d in ct.get_data_directories():
-        for candidate in (Path(d) / name, Path(d) / "example_data" / name):
-            if candidate.is_file():
-                return str(candidate)
-    return str(path)
-
-
 def _cmd_reactions(args) -> int:
     from .report.reactions import reactions_document, reactions_text
     from .stoichiometry import analyse, from_mechanism as mechanism_reactions
     from .system import from_mechanism
-    path = _resolve_mechanism(args.mechanism)
+    from .system import shipped_data_file
+    path = args.mechanism if Path(args.mechanism).exists() else str(shipped_data_file(args.mechanism) or args.mechanism)
     system = from_mechanism(path, args.phase)
     analysis = analyse(system, mechanism_reactions(system))
     if args.json:

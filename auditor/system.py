@@ -277,6 +277,24 @@ def from_packaged(phases: Mapping[str, Sequence[str]], where: str = "system.phas
 
 # ---------------------------------------------------------------- mechanism files
 
+def shipped_data_file(name: str) -> Path | None:
+    """A data file shipped with cantera (``gri30.yaml``, ``example_data/...``), for a name not
+    found where the user said; never looked up in the current directory."""
+    if Path(name).is_absolute() or ".." in Path(name).parts:
+        return None
+    try:
+        import cantera as ct
+    except ImportError:
+        return None
+    for d in ct.get_data_directories():
+        if not Path(d).is_absolute():
+            continue  # '.' is the current directory: a case must not depend on where it is run
+        for candidate in (Path(d) / name, Path(d) / "example_data" / name):
+            if candidate.is_file():
+                return candidate.resolve()
+    return None
+
+
 _TOP_KEY = re.compile(r"^[A-Za-z_][\w-]*\s*:")
 
 
