@@ -40,7 +40,7 @@ from .findings import Finding
 from .phase_rule import PhaseRuleCount
 from .stoichiometry import ReactionAnalysis, basis_within
 from .structure import SpecificationAudit
-from .system import CONDENSED_DATABASE, GAS_DATABASE, ChemicalSystem, packaged_species
+from .system import CONDENSED_DATABASE, GAS_DATABASE, ChemicalSystem, cantera_phase, packaged_species
 
 R = 8.314462618  # J/(mol K), CODATA 2018 (exact since the 2019 SI)
 RESTARTS = 2     # cantera restarts from other starting estimates for the uniqueness check
@@ -224,9 +224,7 @@ class _Model:
     def _mechanism(self):
         ct = self.ct
         for ph in self.system.phases:
-            with warnings.catch_warnings():
-                warnings.simplefilter("ignore")
-                sol = ct.Solution(self.system.source, ph.name)
+            sol, _ = cantera_phase(self.system.source, ph.name)   # the object the system stage built
             names = [s.name for s in self.system.species if s.phase == ph.name]
             ok = sol.thermo_model not in ("pure-fluid", "liquid-water-IAPWS95", "ideal-surface", "edge",
                                           "coverage-dependent-surface", "electron-cloud")

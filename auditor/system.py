@@ -341,6 +341,26 @@ def _load_phase(ct, path: Path, name: str, notes: list[str]):
     return sol
 
 
+_LOADED: dict = {}   # (file, phase, mtime, size) -> (cantera object, cantera's warnings)
+
+
+def cantera_phase(path: str | Path, name: str):
+    """The cantera object of one phase of a mechanism file, and what cantera warned while
+    building it; built once per file version and shared by every stage (building a large
+    mechanism takes seconds).  Callers only read it or set its state."""
+    ct = _cantera()
+    path = Path(path)
+    st = path.stat()
+    key = (str(path.resolve()), name, st.st_mtime_ns, st.st_size)
+    if key not in _LOADED:
+        if len(_LOADED) >= 64:
+            _LOADED.pop(next(iter(_LOADED)))
+        notes: list[str] = []
+        sol = _load_phase(ct, path, name, notes)
+        _LOADED[key] = (sol, tuple(notes))
+    return _LOADED[key]
+
+
 def _library_note(message) -> str:
     """One line from a cantera warning (kept in cantera's words)."""
     text = " ".join(str(message).split())
@@ -360,7 +380,6 @@ def load_phases(path: str | Path, phase_names: Sequence[str] | None = None, note
     Returns a list of (name, Solution) in order; the adjacent bulk phases of an
     interface are added after the phases asked for when they are not already there.
     """
-    ct = _cantera()
     path = Path(path)
     if not path.is_file():
         raise MechanismError.single(path, "mechanism file not found")
@@ -374,7 +393,8 @@ def load_phases(path: str | Path, phase_names: Sequence[str] | None = None, note
     notes = [] if notes is None else notes
     for n in names:
         try:
-            sol = _load_phase(ct, path, n, notes)
+            sol, warned = cantera_phase(path, n)
+            notes.extend(warned)
         except Exception as exc:  # cantera's error text is shown as it is
             raise MechanismError.single(path, f"cantera cannot build phase {n!r}: {_cantera_message(exc)}",
                                         f"phases[{n}]") from None
