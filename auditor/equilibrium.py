@@ -705,7 +705,7 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     # quantities.  The element-potential minimiser solves a convex problem (ideal phases)
     # whose minimum is unique, so it needs no restart.
     starts, unique = 1, True
-    x_ref = _fractions_in_phase(n, phase_of, totals_arr)
+    x_ref = _mole_fractions(n, phase_of, totals_arr)
     if sol.solver.startswith("cantera") and solver.directions.shape[0]:
         for trial in range(RESTARTS):
             start = _perturbed_start(n if trial == 0 else solver.n0, solver.directions, trial)
@@ -719,7 +719,7 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
             n_o = np.where(other.n > 0, other.n, 0.0)
             tot_o = np.bincount(phase_of, weights=n_o, minlength=n_phases)
             pres_o = tot_o / max(tot_o.sum(), 1e-300) > settings.PHASE_PRESENCE_FRACTION
-            x_other = _fractions_in_phase(n_o, phase_of, tot_o)
+            x_other = _mole_fractions(n_o, phase_of, tot_o)
             if sol.sides is not None:
                 # on a transition a T,P restart lands on one side: it must agree on every phase it
                 # finds and find no other (the extensive specification sets the split)
@@ -744,7 +744,7 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     jac = None
     if spec.decomposition.structurally_nonsingular and not spec.extensive and tuple(count.coexisting) == present_names:
         try:
-            jac = _jacobian_rcond(case, system, model, count, spec, T, P, n)
+            jac = _jacobian_rcond(case, system, model, count, spec, T, P, n, phase_of)
         except Exception as exc:
             findings.append(Finding("warning", "equilibrium", f"the Jacobian check could not be evaluated: {exc}"))
 
@@ -816,19 +816,12 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
         element_potentials=tuple((c.name if c.is_element else f"q{i}", float(l)) for i, (c, l) in enumerate(zip(analysis.conserved, lam))))
 
 
-def _fractions_in_phase(n: np.ndarray, phase_of: np.ndarray, totals: np.ndarray) -> np.ndarray:
+def _mole_fractions(n: np.ndarray, phase_of: np.ndarray, totals: np.ndarray | None = None) -> np.ndarray:
+    """Mole fraction of every phase-species in its own phase (zero in an empty phase)."""
+    if totals is None:
+        totals = np.bincount(phase_of, weights=n)
     tot = totals[phase_of]
     return np.divide(n, tot, out=np.zeros_like(n), where=tot > 0)
-
-
-def _mole_fractions(system: ChemicalSystem, n: np.ndarray) -> np.ndarray:
-    x = np.zeros_like(n)
-    for p in system.phases:
-        idx = system.phase_indices(p.name)
-        tot = n[idx].sum()
-        if tot > 0:
-            x[idx] = n[idx] / tot
-    return x
 
 
 def _perturbed_start(n: np.ndarray, V: np.ndarray, trial: int) -> np.ndarray | None:
@@ -922,7 +915,7 @@ def _jacobian_layout(case, system, count, spec):
     return np.array(present, dtype=int), np.array(X_rows), np.array(C_rows), np.array(R_rows), np.array(TP_rows)
 
 
-def _jacobian_rcond(case, system, model, count, spec, T, P, n) -> float:
+def _jacobian_rcond(case, system, model, count, spec, T, P, n, phase_of) -> float:
     """Smallest over largest singular value of the scaled Jacobian of the audit's equations.
 
     Variables ``ln T, ln P`` and the mole fractions, columns of mole fractions scaled by
@@ -930,7 +923,7 @@ def _jacobian_rcond(case, system, model, count, spec, T, P, n) -> float:
     = 1/x, d(mu°/RT)/d ln T = -H°/RT, d(mu°/RT)/d ln P = P V/RT; rows scaled to unit length.
     """
     present, X, C, R, TP = _jacobian_layout(case, system, count, spec)
-    x = _mole_fractions(system, n)[present]
+    x = _mole_fractions(n, phase_of)[present]
     g_t, g_p = model.g_derivatives(T, P, n)
     J = np.hstack([np.column_stack([R @ g_t, R @ g_p]) + TP, X * x + C])
     norms = np.linalg.norm(J, axis=1)
