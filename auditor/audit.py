@@ -149,20 +149,21 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
         held = None if found is None else found == claimed
         checks.append(ClaimCheck(name, claimed, found, held))
         if held is False:
-            findings.append(Finding("error", "claims", f"claim {name} = {_show(claimed)} is refuted: the audit finds "
-                                    f"{_show(found)}", (name,)))
+            findings.append(Finding("error", "claims", f"claim {name} = {show_value(claimed)} is refuted: the audit finds "
+                                    f"{show_value(found)}", (name,)))
         elif held is None:
-            findings.append(Finding("warning", "claims", f"claim {name} = {_show(claimed)} could not be checked "
+            findings.append(Finding("warning", "claims", f"claim {name} = {show_value(claimed)} could not be checked "
                                     "(no equilibrium was computed)", (name,)))
     if any(c.held is False for c in checks):
         verdict = "inconsistent"
     return AuditResult(case, system, analysis, count, spec, equilibrium, tuple(checks), tuple(findings), verdict)
 
 
-def _show(v) -> str:
-    if isinstance(v, tuple):
+def show_value(v) -> str:
+    """A claimed or found value as text: lists as [a, b], a missing value as 'not computed'."""
+    if isinstance(v, (tuple, list)):
         return "[" + ", ".join(map(str, v)) + "]"
-    return str(v)
+    return "not computed" if v is None else str(v)
 
 
 def audit_file(path: str | Path, confirm: bool = True) -> AuditResult:

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from ..audit import AuditResult
+from ..audit import AuditResult, show_value
 from . import svg
 from .document import check_document
 
@@ -34,12 +34,6 @@ def _list(items) -> Block:
 
 def _para(text) -> Block:
     return Block("paragraph", text=str(text))
-
-
-def _value(v) -> str:
-    if isinstance(v, (list, tuple)):
-        return ", ".join(map(str, v)) or "(none)"
-    return "not computed" if v is None else str(v)
 
 
 def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str, list[Block]]]]:
@@ -133,7 +127,7 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
                 eblocks.append(Block("svg", text=svg.composition_bars(p["name"], list(p["mole_fractions"].items()))))
     sec.append(("Equilibrium and certificate", eblocks))
     sec.append(("Claims", [_table(("claim", "claimed", "found", "result"),
-                                  [(c["claim"], _value(c["claimed"]), _value(c["found"]),
+                                  [(c["claim"], show_value(c["claimed"]), show_value(c["found"]),
                                     {True: "held", False: "refuted", None: "not checked"}[c["held"]]) for c in doc["claims"]])
                            if doc["claims"] else _para("The case makes no claims.")]))
     assumed = []

@@ -3,7 +3,7 @@ from __future__ import annotations
 
 import textwrap
 
-from ..audit import AuditResult
+from ..audit import AuditResult, show_value
 from .document import CAUTIONS
 
 WIDTH = 100
@@ -56,19 +56,13 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
         out += ["", "Claims:"]
         for c in r.claims:
             state = "held" if c.held else "REFUTED" if c.held is False else "not checked"
-            out.append(f"  {c.name}: claimed {_show(c.claimed)}, found {_show(c.found)} -> {state}")
+            out.append(f"  {c.name}: claimed {show_value(c.claimed)}, found {show_value(c.found)} -> {state}")
     if r.findings:
         out += ["", "Findings:"]
         for f in r.findings:
             out += _wrap(f"[{f.severity}] {f.topic}: {f.message}")
     out += ["", "Cautions:"] + [l for c in CAUTIONS for l in _wrap(c)]
     return "\n".join(out) + "\n"
-
-
-def _show(v) -> str:
-    if isinstance(v, (tuple, list)):
-        return "[" + ", ".join(map(str, v)) + "]"
-    return "not computed" if v is None else str(v)
 
 
 def summary_line(r: AuditResult) -> str:
