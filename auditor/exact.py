@@ -51,6 +51,16 @@ def _norm(x: Number) -> Number:
     return x
 
 
+def _subtract(target: SparseVector, factor: Number, source: Mapping[int, Number]) -> None:
+    """``target -= factor * source`` in place, dropping entries that become zero."""
+    for k, x in source.items():
+        y = target.get(k, 0) - factor * x
+        if y:
+            target[k] = _norm(y)
+        else:
+            target.pop(k, None)
+
+
 def _div(x: Number, s: Number) -> Number:
     if type(x) is int and type(s) is int:
         q, r = divmod(x, s)
@@ -148,12 +158,7 @@ class RowEchelon:
         for p in used:
             a = v[p]
             alpha[p] = a
-            for k, x in rows[p].items():
-                y = v.get(k, 0) - a * x
-                if y:
-                    v[k] = _norm(y)
-                else:
-                    v.pop(k, None)
+            _subtract(v, a, rows[p])
         return v, alpha
 
     def _combine(self, alpha: Mapping[int, Number]) -> dict[int, Number]:
@@ -200,13 +205,7 @@ class RowEchelon:
                     del rp[k]
                     holders[k].discard(p)
             if self.track:
-                ep = self._expr[p]
-                for i, x in expr.items():
-                    y = ep.get(i, 0) - c * x
-                    if y:
-                        ep[i] = _norm(y)
-                    else:
-                        ep.pop(i, None)
+                _subtract(self._expr[p], c, expr)
         for k in v:
             if k != q:
                 holders.setdefault(k, set()).add(q)
@@ -256,13 +255,7 @@ def eliminate_columns(rows: Sequence[Mapping[int, Number]], columns: Iterable[in
             if i == pi:
                 continue
             r = remaining[i]
-            f = Fraction(r[c]) / pivot[c]
-            for k, x in pivot.items():
-                y = r.get(k, 0) - f * x
-                if y:
-                    r[k] = _norm(y)
-                else:
-                    r.pop(k, None)
+            _subtract(r, Fraction(r[c]) / pivot[c], pivot)
         del remaining[pi]
     return remaining
 
