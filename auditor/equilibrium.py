@@ -36,6 +36,7 @@ import numpy as np
 
 from . import settings
 from .case import Case
+from .cache import by_identity
 from .findings import Finding
 from .phase_rule import PhaseRuleCount
 from .stoichiometry import ReactionAnalysis, basis_within
@@ -44,21 +45,6 @@ from .system import CONDENSED_DATABASE, GAS_DATABASE, ChemicalSystem, cantera_ph
 
 R = 8.314462618  # J/(mol K), CODATA 2018 (exact since the 2019 SI)
 RESTARTS = 2     # cantera restarts from other starting estimates for the uniqueness check
-
-
-def _by_identity(build):
-    """Cache on the identity of the arguments (the stage results are large frozen records
-    whose value hash costs more than the work saved); the arguments are kept alive."""
-    cache: dict = {}
-
-    def cached(*args):
-        key = tuple(id(a) for a in args)
-        if key not in cache:
-            if len(cache) >= 16:
-                cache.pop(next(iter(cache)))
-            cache[key] = (args, build(*args))
-        return cache[key][1]
-    return cached
 
 
 # ------------------------------------------------------------------ densities
@@ -282,7 +268,7 @@ class _Model:
         return float(h @ n)
 
 
-@_by_identity
+@by_identity
 def _model_cached(system: ChemicalSystem) -> _Model:
     return _Model(system)
 
@@ -321,7 +307,7 @@ class _Static:
     bases: dict = field(default_factory=dict)      # present species -> reaction basis
 
 
-@_by_identity
+@by_identity
 def _static_for(system: ChemicalSystem, analysis: ReactionAnalysis) -> _Static:
     model = _model_cached(system)
     index = {p.name: i for i, p in enumerate(system.phases)}
@@ -856,7 +842,7 @@ def _perturbed_start(n: np.ndarray, V: np.ndarray, trial: int) -> np.ndarray | N
     return np.where(best > 0, best, 0.0)
 
 
-@_by_identity
+@by_identity
 def _jacobian_layout(case, system, count, spec):
     """Constant parts of the Jacobian of the audit's equations, as arrays (built once per case).
 

@@ -19,6 +19,7 @@ from fractions import Fraction
 from typing import Mapping, Sequence
 
 from . import exact
+from .cache import by_identity
 from .errors import EquationError, Problem
 from .system import ChemicalSystem, unknown_name_message
 
@@ -181,6 +182,7 @@ def _simplicity(system: ChemicalSystem, k: int) -> tuple:
     return (abs(system.species[k].charge) != 0 and len(f) > 0, len(f), sum(abs(v) for v in f.values()), k)
 
 
+@by_identity
 def derived_basis(system: ChemicalSystem) -> tuple[Reaction, ...]:
     """A complete set of independent reactions from the species alone.
 
