@@ -583,14 +583,11 @@ def _solve_specified(case: Case, solver: _Solver, spec: SpecificationAudit) -> _
     T, P = s.temperature_K, s.pressure_Pa
     others = []   # residual functions of the solution for specifications other than T, P
 
-    def idx_of(name, phase):
-        return [i for i in system.find(name) if system.species[i].phase == phase][0]
-
     for m in s.mole_fractions:
-        k = idx_of(m.species, m.phase)
+        k = system.index_in(m.species, m.phase)
         others.append(("mole fraction", lambda sol, k=k, m=m: sol.n[k] / max(_phase_totals(system, sol.n)[m.phase], 1e-300) - m.value))
     for r in s.ratios:
-        a, b = idx_of(r.numerator, r.phase), idx_of(r.denominator, r.phase)
+        a, b = system.index_in(r.numerator, r.phase), system.index_in(r.denominator, r.phase)
         others.append(("ratio", lambda sol, a=a, b=b, r=r: math.log(max(sol.n[a], 1e-300) / max(sol.n[b], 1e-300)) - math.log(r.value)))
     for pf in s.phase_fractions:
         others.append(("phase fraction", lambda sol, pf=pf: _phase_totals(system, sol.n)[pf.phase] / sol.n.sum() - pf.value))
@@ -881,19 +878,16 @@ def _jacobian_layout(case, system, count, spec):
         for k, c in rel.coefficients:
             X_rows[i][col[k]] += float(c)
 
-    def index_in(name, phase):
-        return [j for j in system.find(name) if system.species[j].phase == phase][0]
-
     if s.temperature_K is not None:
         TP_rows[row()][0] = 1.0
     if s.pressure_Pa is not None:
         TP_rows[row()][1] = 1.0
     for m in s.mole_fractions:
-        k = index_in(m.species, m.phase)
+        k = system.index_in(m.species, m.phase)
         if k in col:
             X_rows[row()][col[k]] = 1.0
     for q in s.ratios:
-        a, b = index_in(q.numerator, q.phase), index_in(q.denominator, q.phase)
+        a, b = system.index_in(q.numerator, q.phase), system.index_in(q.denominator, q.phase)
         if a in col and b in col:
             i = row()
             X_rows[i][col[a]] = 1.0

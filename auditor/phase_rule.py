@@ -172,8 +172,8 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
     for r in case.restrictions:
         if r.kind == "ratio":
             rr = r.ratio
-            i_num = [k for k in system.find(rr.numerator) if system.species[k].phase == rr.phase][0]
-            i_den = [k for k in system.find(rr.denominator) if system.species[k].phase == rr.phase][0]
+            i_num = system.index_in(rr.numerator, rr.phase)
+            i_den = system.index_in(rr.denominator, rr.phase)
             val = Fraction(repr(float(rr.value)))
             declared_by_phase.setdefault(rr.phase, []).append(({i_num: 1, i_den: -val}, r.key_path,
                                                                f"x({labels[i_num]}) / x({labels[i_den]}) = {rr.value:g}"))

@@ -84,13 +84,13 @@ def build_incidence(case: Case, system: ChemicalSystem, count: PhaseRuleCount):
         eqs.append(Equation("pressure", "specification", (1,), "specified.pressure"))
         intensive.append("pressure")
     for m in s.mole_fractions:
-        k = [i for i in system.find(m.species) if system.species[i].phase == m.phase][0]
+        k = system.index_in(m.species, m.phase)
         name = f"mole fraction x({m.species}) = {m.value:g} in {m.phase}"
         intensive.append(name)
         if k in col:
             eqs.append(Equation(name, "specification", (col[k],), m.key_path))
     for r in s.ratios:
-        ks = [[i for i in system.find(n) if system.species[i].phase == r.phase][0] for n in (r.numerator, r.denominator)]
+        ks = [system.index_in(n, r.phase) for n in (r.numerator, r.denominator)]
         name = f"ratio x({r.numerator})/x({r.denominator}) = {r.value:g} in {r.phase}"
         intensive.append(name)
         if all(k in col for k in ks):

@@ -124,6 +124,10 @@ class ChemicalSystem:
             return [idx[name]]
         return [i for i, s in enumerate(self.species) if s.name == name]
 
+    def index_in(self, name: str, phase: str) -> int:
+        """Index of the phase-species called ``name`` (label or plain name) in ``phase``."""
+        return next(i for i in self.find(name) if self.species[i].phase == phase)
+
     def phase(self, name: str) -> PhaseDef:
         for p in self.phases:
             if p.name == name:
