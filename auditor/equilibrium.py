@@ -92,6 +92,8 @@ class EquilibriumCheck:
     confirmed: bool
     seconds: float = 0.0
     element_potentials: tuple[tuple[str, float], ...] = ()
+    unique_basis: str = ""                  # how ``unique`` was decided
+    phase_amount_rcond: float | None = None  # present phases' conserved-quantity vectors: s_min/s_max
 
     def document(self) -> dict:
         return {
@@ -108,6 +110,8 @@ class EquilibriumCheck:
             "confirmed": self.confirmed,
             "solver": self.solver,
             "starts": self.starts,
+            "unique_basis": self.unique_basis,
+            "phase_amount_rcond": self.phase_amount_rcond,
             "potential_residual_RT": self.potential_residual_RT,
             # null: the phase can never form (it needs an element the feed lacks)
             "absent_phase_driving_force_RT": {k: (v if math.isfinite(v) else None)
@@ -134,7 +138,7 @@ class EquilibriumCheck:
                            for n, d in self.absent_phase_driving_force)
         out.append(f"  certificate: balance error {self.element_balance_error:.2e}, max affinity "
                    f"{_fmt(self.max_affinity_RT)} RT, potential residual {_fmt(self.potential_residual_RT)} RT, "
-                   f"unique {self.unique} ({self.starts} starts)")
+                   f"unique {self.unique} ({self.unique_basis})")
         if absent:
             out.append(f"  driving force to form absent phases (RT, must be >= 0): {absent}")
         if self.jacobian_rcond is not None:
@@ -177,6 +181,8 @@ class _Model:
             self._packaged()
         else:
             self._mechanism()
+        self.density_notes = tuple(Finding("note", "data", f"density of {label} taken as {rho:g} kg/m3 ({src})", (label,))
+                                   for label, rho, src in self.assumed)
 
     def _species_entry(self, sp_def, condensed: bool) -> dict:
         base = packaged_species(CONDENSED_DATABASE if condensed else GAS_DATABASE)[sp_def.name]
@@ -257,9 +263,11 @@ class _Model:
         dP = np.concatenate([ph.partial_molar_volumes for ph in self.phases]) * P / (R * 1000.0 * T)
         return dT, dP
 
-    def mu_RT(self, T: float, P: float, n: np.ndarray) -> np.ndarray:
+    def potentials(self, T: float, P: float, n: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Chemical potentials mu_k/RT at amounts n, and the standard ones mu°_k(T, P)/RT."""
         self.set_state(T, P, n)
-        return np.concatenate([ph.chemical_potentials for ph in self.phases]) / (R * 1000.0 * T)
+        mu = np.concatenate([ph.chemical_potentials for ph in self.phases]) / (R * 1000.0 * T)
+        return mu, np.concatenate([ph.standard_gibbs_RT for ph in self.phases])
 
     def enthalpy(self, T: float, P: float, n: np.ndarray) -> float:
         """Total enthalpy, J, of amounts n (mol) at T, P."""
@@ -296,27 +304,110 @@ def _conserved_matrix(analysis: ReactionAnalysis, n_species: int) -> np.ndarray:
 
 @dataclass
 class _Static:
-    """What a case's solves share and do not change: arrays, the cantera Mixture, bases."""
+    """What a case's solves and certificates share and do not change: arrays, the cantera
+    Mixture, bases (built once per system and reaction analysis)."""
 
-    W: np.ndarray
-    phase_of: np.ndarray
-    solution: np.ndarray
-    directions: np.ndarray
-    usable_species: np.ndarray
+    W: np.ndarray                   # conserved quantities x species
+    phase_of: np.ndarray            # phase index of each species
+    solution: np.ndarray            # per phase: more than one species
+    directions: np.ndarray          # a complete independent reaction set, as rows
+    usable_species: np.ndarray      # species of phases that can enter a minimisation
+    element_rows: np.ndarray        # formula-matrix rows of the elements (not charge)
+    membership: np.ndarray          # species x phases, 1.0 where the species belongs to the phase
+    phase_species: tuple            # species indices of each phase
+    phase_labels: tuple             # species labels of each phase
+    trial_directions: tuple         # per restart: a signed sum of the directions, and the signed rows
+    lnk_rows: np.ndarray            # stoichiometry of every listed reaction (ln K = -rows @ g)
+    lnk_combination: np.ndarray     # dependent x listed: the combination, minus one at its own index
+    lnk_dependent: np.ndarray       # indices of the dependent reactions
+    t_min: np.ndarray
+    t_max: np.ndarray
+    t_low: float                    # every species' data are valid from t_low to t_high
+    t_high: float
+    ideal: bool                     # every usable phase has an ideal model (G convex)
+    potential_names: tuple
     mixtures: dict = field(default_factory=dict)   # candidate mask -> (Mixture, segments, in_mixture)
     bases: dict = field(default_factory=dict)      # present species -> reaction basis
+    present_sets: dict = field(default_factory=dict)  # present species -> _PresentSet
+
+
+IDEAL_MODELS = ("ideal-gas", "fixed-stoichiometry", "ideal-condensed", "ideal-solid-solution")
 
 
 @by_identity
 def _static_for(system: ChemicalSystem, analysis: ReactionAnalysis) -> _Static:
     model = _model_cached(system)
+    ns, n_phases = system.n_species, len(system.phases)
     index = {p.name: i for i, p in enumerate(system.phases)}
+    phase_of = np.array([index[s.phase] for s in system.species], dtype=int)
+    membership = np.zeros((ns, n_phases))
+    membership[np.arange(ns), phase_of] = 1.0
+    directions = _direction_matrix([dict(r.stoich) for r in analysis.derived_basis], ns)
+    trials = []
+    for trial in range(RESTARTS):
+        signs = np.where(np.arange(directions.shape[0]) % 2 == trial % 2, 1.0, -1.0)
+        trials.append((signs @ directions, signs[:, None] * directions))
+    lnk_rows = _direction_matrix([dict(r.stoich) for r in analysis.reactions], ns)
+    comb = np.zeros((len(analysis.dependent), len(analysis.reactions)))
+    for i, d in enumerate(analysis.dependent):
+        comb[i, d.index] = -1.0
+        for j, c in d.combination:
+            comb[i, j] += float(c)
+    elements = [i for i, e in enumerate(system.elements) if e != "charge"]
     return _Static(
-        W=_conserved_matrix(analysis, system.n_species),
-        phase_of=np.array([index[s.phase] for s in system.species], dtype=int),
+        W=_conserved_matrix(analysis, ns),
+        phase_of=phase_of,
         solution=np.array([len(p.species) > 1 for p in system.phases]),
-        directions=_direction_matrix([dict(r.stoich) for r in analysis.derived_basis], system.n_species),
-        usable_species=np.concatenate([[ok] * ph.n_species for ph, ok in zip(model.phases, model.usable)]))
+        directions=directions,
+        usable_species=np.concatenate([[ok] * ph.n_species for ph, ok in zip(model.phases, model.usable)]),
+        element_rows=np.array([[float(x) for x in system.formula_matrix[i]] for i in elements]).reshape(len(elements), ns),
+        membership=membership,
+        phase_species=tuple(np.flatnonzero(phase_of == p) for p in range(n_phases)),
+        phase_labels=tuple(tuple(system.labels[k] for k in np.flatnonzero(phase_of == p)) for p in range(n_phases)),
+        trial_directions=tuple(trials),
+        lnk_rows=lnk_rows,
+        lnk_combination=comb,
+        lnk_dependent=np.array([d.index for d in analysis.dependent], dtype=int),
+        t_min=np.array([s.t_min for s in system.species]),
+        t_max=np.array([s.t_max for s in system.species]),
+        t_low=max((s.t_min for s in system.species), default=0.0),
+        t_high=min((s.t_max for s in system.species), default=math.inf),
+        ideal=all(ph.model in IDEAL_MODELS for ph, ok in zip(system.phases, model.usable) if ok),
+        potential_names=tuple(c.name if c.is_element else f"q{i}" for i, c in enumerate(analysis.conserved)))
+
+
+@dataclass(frozen=True)
+class _PresentSet:
+    """What the certificate needs for one set of present species (cached: in a sweep the
+    same set recurs at most points)."""
+
+    index: np.ndarray          # present species
+    basis: np.ndarray          # independent reactions among them, as rows over all species
+    pinv: np.ndarray           # least-squares map from their mu/RT to element potentials
+    rows: np.ndarray           # their conserved-quantity vectors (species x conserved)
+    free: np.ndarray           # element-potential directions they leave undetermined
+
+
+def _present_set(static: _Static, reactions, present: np.ndarray) -> _PresentSet:
+    key = present.tobytes()
+    got = static.present_sets.get(key)
+    if got is None:
+        idx = np.flatnonzero(present)
+        if key not in static.bases:
+            static.bases[key] = basis_within(reactions, len(present), tuple(int(k) for k in idx))
+        basis = _direction_matrix(static.bases[key], len(present))
+        rows = static.W[:, idx].T
+        m = static.W.shape[0]
+        if rows.size == 0:
+            pinv, free = np.zeros((m, 0)), np.eye(m)
+        else:
+            # one SVD: lambda = V S^-1 U^T mu over the numerical rank; the rest of V is free
+            u, s, vt = np.linalg.svd(rows, full_matrices=True)
+            rank = int((s > 1e-10 * s[0]).sum()) if s.size else 0
+            pinv = vt[:rank].T @ (u[:, :rank] / s[:rank]).T
+            free = vt[rank:].T
+        got = static.present_sets[key] = _PresentSet(idx, basis, pinv, rows, free)
+    return got
 
 
 class _Solver:
@@ -395,13 +486,6 @@ class _Solver:
         n[usable_mask] = mix.species_moles
         return _Solution(n, T, P, f"cantera {solver}", converged, msg)
 
-    def basis_for(self, present: tuple[int, ...]):
-        """Independent reactions among the given present species (cached per present set)."""
-        bases = self.static.bases
-        if present not in bases:
-            bases[present] = basis_within(self._reactions, self.system.n_species, present)
-        return bases[present]
-
     def solve(self, T: float, P: float, start: np.ndarray | None = None) -> _Solution:
         # the wall-clock bound is checked between solves (a running cantera call cannot be stopped)
         if time.perf_counter() > self.deadline:
@@ -421,19 +505,6 @@ def _direction_matrix(vectors, n_species: int) -> np.ndarray:
         for k, c in v.items():
             V[i, k] = float(c)
     return V
-
-
-def _fit_potentials(A: np.ndarray, mu: np.ndarray, present: np.ndarray):
-    """Least-squares element potentials over present species (one SVD), the largest residual,
-    and the directions that leave every present species' potential unchanged."""
-    Ap = A[:, present].T       # species x elements
-    if Ap.size == 0:
-        return np.zeros(A.shape[0]), 0.0, np.eye(A.shape[0])
-    u, s, vt = np.linalg.svd(Ap, full_matrices=True)
-    rank = int((s > 1e-10 * s[0]).sum()) if s.size else 0
-    lam = vt[:rank].T @ ((u[:, :rank].T @ mu[present]) / s[:rank])
-    resid = float(np.max(np.abs(Ap @ lam - mu[present])))
-    return lam, resid, vt[rank:].T
 
 
 def _absent_driving_forces(system, model_g, A, lam, free, phase_present, phase_of, solution, usable_species,
@@ -514,8 +585,7 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
         return not_solved(f"cantera cannot build the phases for the minimisation: {' '.join(str(exc).split())[:300]}")
     for p in model.problems:
         findings.append(Finding("warning", "equilibrium", p))
-    ideal = ("ideal-gas", "fixed-stoichiometry", "ideal-condensed", "ideal-solid-solution")
-    non_ideal = [ph.name for ph, ok in zip(system.phases, model.usable) if ok and ph.model not in ideal]
+    non_ideal = [ph.name for ph, ok in zip(system.phases, model.usable) if ok and ph.model not in IDEAL_MODELS]
     if non_ideal and not analysis.complete:
         findings.append(Finding("warning", "equilibrium", "the reaction list is incomplete, so the element-potential "
                                 "minimiser holds the extra conserved quantities; it treats phase(s) "
@@ -525,12 +595,8 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
     n0 = _feed_vector(case, system)
     # a species holding an element the feed lacks can never form (and a pure phase of one makes
     # cantera's vcs solver fail); only element rows count here, the charge row has both signs
-    candidate = np.ones(system.n_species, dtype=bool)
-    for e, row in zip(system.elements, system.formula_matrix):
-        if e != "charge":
-            row_f = np.array([float(x) for x in row])
-            if row_f @ n0 == 0:
-                candidate &= row_f == 0
+    rows = _static_for(system, analysis).element_rows
+    candidate = ~(rows[rows @ n0 == 0] != 0).any(axis=0)
     solver = _Solver(model, system, analysis, n0, candidate)
 
     try:
@@ -654,80 +720,48 @@ def _on_transition(solver, resid, x, T, P):
 
 
 def _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0) -> EquilibriumCheck:
-    n = np.where(sol.n > 0, sol.n, 0.0)
+    static = solver.static
+    if not np.isfinite(sol.n).all():
+        raise _SpecError("the minimisation returned amounts that are not finite numbers")
+    n = np.maximum(sol.n, 0.0)
     T, P = sol.T, sol.P
-    phase_of = solver.phase_of
-    n_phases = len(system.phases)
-    totals_arr = np.bincount(phase_of, weights=n, minlength=n_phases)
-    totals = {p.name: float(t) for p, t in zip(system.phases, totals_arr)}
-    phase_present = totals_arr / max(totals_arr.sum(), 1e-300) > settings.PHASE_PRESENCE_FRACTION
+    phase_of = static.phase_of
+    totals = n @ static.membership
+    phase_present = totals > settings.PHASE_PRESENCE_FRACTION * max(totals.sum(), 1e-300)
     present_names = tuple(p.name for p, pr in zip(system.phases, phase_present) if pr)
-    usable_species = solver.usable_species
 
     # balance of every conserved quantity (elements, charge, extra frozen quantities)
-    W = solver.W
+    W = static.W
     b = W @ solver.n0
-    bal = float(np.max(np.abs(W @ n - b)) / max(np.max(np.abs(b)), 1e-300)) if b.size else 0.0
+    bal = float(np.abs(W @ n - b).max() / max(np.abs(b).max(), 1e-300)) if b.size else 0.0
 
-    mu = model.mu_RT(T, P, n)
-    present_species = phase_present[phase_of] & (n > 0)
-    lam, resid, free = _fit_potentials(W, mu, present_species)
+    # element potentials fitted to the present species, and the affinities of the
+    # independent reactions among them
+    mu, g = model.potentials(T, P, n)
+    present = phase_present[phase_of] & (n > 0)
+    ps = _present_set(static, analysis.reactions, present)
+    mu_p = mu[ps.index]
+    lam = ps.pinv @ mu_p
+    resid = float(np.abs(ps.rows @ lam - mu_p).max()) if mu_p.size else 0.0
+    max_aff = float(np.abs(ps.basis @ np.where(present, mu, 0.0)).max()) if ps.basis.shape[0] else 0.0
 
-    # affinities of the independent reactions among present species
-    present_idx = tuple(int(k) for k in np.flatnonzero(present_species))
-    basis = solver.basis_for(present_idx)
-    affinities = [abs(sum(float(c) * mu[k] for k, c in v.items())) for v in basis]
-    max_aff = max(affinities) if affinities else 0.0
-
-    g = model.g_RT(T, P)
-    drive = _absent_driving_forces(system, g, W, lam, free, phase_present, phase_of, solver.solution, usable_species,
-                                   solver.candidate)
+    drive = _absent_driving_forces(system, g, W, lam, ps.free, phase_present, phase_of, static.solution,
+                                   static.usable_species, solver.candidate)
     drive_named = tuple((system.phases[p].name, d) for p, d in sorted(drive.items()))
-
-    # uniqueness: restart cantera from different compositions with the same conserved
-    # quantities.  The element-potential minimiser solves a convex problem (ideal phases)
-    # whose minimum is unique, so it needs no restart.
-    starts, unique = 1, True
-    x_ref = _mole_fractions(n, phase_of, totals_arr)
-    if sol.solver.startswith("cantera") and solver.directions.shape[0]:
-        for trial in range(RESTARTS):
-            start = _perturbed_start(n if trial == 0 else solver.n0, solver.directions, trial)
-            if start is None:
-                continue
-            other = solver.solve(T, P, start)
-            starts += 1
-            if not other.converged:
-                unique = False
-                continue
-            n_o = np.where(other.n > 0, other.n, 0.0)
-            tot_o = np.bincount(phase_of, weights=n_o, minlength=n_phases)
-            pres_o = tot_o / max(tot_o.sum(), 1e-300) > settings.PHASE_PRESENCE_FRACTION
-            x_other = _mole_fractions(n_o, phase_of, tot_o)
-            if sol.sides is not None:
-                # on a transition a T,P restart lands on one side: it must agree on every phase it
-                # finds and find no other (the extensive specification sets the split)
-                found = pres_o[phase_of]
-                if (pres_o & ~phase_present).any() or (
-                        found.any() and np.max(np.abs(x_other[found] - x_ref[found])) > settings.UNIQUENESS_TOLERANCE):
-                    unique = False
-            elif (pres_o != phase_present).any() or np.max(np.abs(x_other - x_ref)) > settings.UNIQUENESS_TOLERANCE:
-                unique = False
+    unique, starts, unique_basis, amount_rcond = _uniqueness(static, solver, sol, n, totals, phase_present, drive)
 
     # ln K additivity of dependent reactions
     lnk_err = None
-    if analysis.dependent:
-        lnK = [-sum(float(c) * g[k] for k, c in r.stoich) for r in analysis.reactions]
-        errs = []
-        for d in analysis.dependent:
-            comb = sum(float(c) * lnK[j] for j, c in d.combination)
-            errs.append(abs(lnK[d.index] - comb) / max(1.0, abs(lnK[d.index])))
-        lnk_err = max(errs) if errs else 0.0
+    if static.lnk_dependent.size:
+        lnK = -(static.lnk_rows @ g)
+        lnk_err = float(np.max(np.abs(static.lnk_combination @ lnK)
+                               / np.maximum(1.0, np.abs(lnK[static.lnk_dependent]))))
 
     # Jacobian of the specification audit's equations (structurally square cases only)
     jac = None
     if spec.decomposition.structurally_nonsingular and not spec.extensive and tuple(count.coexisting) == present_names:
         try:
-            jac = _jacobian_rcond(case, system, model, count, spec, T, P, n, phase_of)
+            jac = _jacobian_rcond(case, system, model, count, spec, T, P, n, phase_of, totals)
         except Exception as exc:
             findings.append(Finding("warning", "equilibrium", f"the Jacobian check could not be evaluated: {exc}"))
 
@@ -751,8 +785,15 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
                                     f"({d:.3g} RT): it should form, so the minimisation stopped short", (name,)))
     if not unique:
         ok = False
-        findings.append(Finding("error", "equilibrium", f"different starting estimates ({starts}) reached different "
-                                "states: the answer is not unique or the solver is unreliable here"))
+        if amount_rcond is not None and amount_rcond < settings.PHASE_AMOUNT_RCOND_TOLERANCE:
+            findings.append(Finding("error", "equilibrium", f"the amounts of the present phases ({', '.join(present_names)}) "
+                                    "are not determined: their compositions are linearly dependent in the conserved "
+                                    f"quantities (smallest/largest singular value {amount_rcond:.2e}), so material can "
+                                    "shift between them without changing G; the state is indeterminate at this T and P",
+                                    present_names))
+        else:
+            findings.append(Finding("error", "equilibrium", f"different starting estimates ({starts}) reached different "
+                                    "states: the answer is not unique or the solver is unreliable here"))
     if lnk_err is not None and lnk_err > settings.LNK_ADDITIVITY_TOLERANCE:
         findings.append(Finding("warning", "equilibrium", f"ln K of a dependent reaction differs from the combination "
                                 f"of the independent ones by {lnk_err:.2e} (relative)"))
@@ -772,64 +813,137 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
             parts.append(f"phase(s) {', '.join(vanished)} vanished")
         findings.append(Finding("error", "equilibrium", f"the minimisation does not land on the assumed phases: "
                                 f"{'; '.join(parts)} (present: {', '.join(present_names)})", tuple(appeared + vanished)))
-    for k in present_idx:
+    outside = () if static.t_low <= T <= static.t_high else \
+        np.flatnonzero(present & ((T < static.t_min) | (T > static.t_max)))
+    for k in outside:
         sp = system.species[k]
-        if not sp.t_min <= T <= sp.t_max:
-            findings.append(Finding("warning", "data", f"T = {T:.1f} K is outside the thermo data range of "
-                                    f"{sp.label} ({sp.t_min:g}-{sp.t_max:g} K): extrapolated", (sp.label,)))
+        findings.append(Finding("warning", "data", f"T = {T:.1f} K is outside the thermo data range of "
+                                f"{sp.label} ({sp.t_min:g}-{sp.t_max:g} K): extrapolated", (sp.label,)))
     for line in solver.log[:5]:
         findings.append(Finding("note", "equilibrium", f"cantera's solver reported: {line} (the certificate "
                                 "above is what decides)"))
-    for label, rho, src in model.assumed:
-        findings.append(Finding("note", "data", f"density of {label} taken as {rho:g} kg/m3 ({src})", (label,)))
+    findings.extend(model.density_notes)
 
     phases_out = []
-    for p in system.phases:
-        idx = system.phase_indices(p.name)
-        tot = totals[p.name]
-        xs = tuple((system.labels[k], float(n[k] / tot) if tot > 0 else 0.0) for k in idx)
-        phases_out.append(PhaseState(p.name, float(tot), xs))
+    for p, idx, labels, tot in zip(system.phases, static.phase_species, static.phase_labels, totals.tolist()):
+        xs = (n[idx] / tot).tolist() if tot > 0 else [0.0] * len(idx)
+        phases_out.append(PhaseState(p.name, tot, tuple(zip(labels, xs))))
     return EquilibriumCheck(
         solved=True, converged=sol.converged, solver=sol.solver, temperature_K=float(T), pressure_Pa=float(P),
-        phases=tuple(phases_out), phases_present=present_names, max_affinity_RT=float(max_aff),
-        element_balance_error=bal, potential_residual_RT=float(resid), absent_phase_driving_force=drive_named,
+        phases=tuple(phases_out), phases_present=present_names, max_affinity_RT=max_aff,
+        element_balance_error=bal, potential_residual_RT=resid, absent_phase_driving_force=drive_named,
         unique=unique, starts=starts, lnK_additivity_error=lnk_err, jacobian_rcond=jac,
         assumed_densities=tuple(model.assumed), findings=tuple(findings), confirmed=ok,
         seconds=time.perf_counter() - t0,
-        element_potentials=tuple((c.name if c.is_element else f"q{i}", float(l)) for i, (c, l) in enumerate(zip(analysis.conserved, lam))))
+        element_potentials=tuple(zip(static.potential_names, lam.tolist())),
+        unique_basis=unique_basis, phase_amount_rcond=amount_rcond)
 
 
-def _mole_fractions(n: np.ndarray, phase_of: np.ndarray, totals: np.ndarray | None = None) -> np.ndarray:
+def _phase_amount_rcond(static: _Static, n: np.ndarray, phase_present: np.ndarray) -> float:
+    """Smallest over largest singular value of the matrix whose columns are the conserved
+    quantities held by each present phase (columns scaled to unit length).  Zero when the
+    columns are dependent: then material can shift between the phases at fixed
+    compositions, the conserved quantities unchanged."""
+    k = int(phase_present.sum())
+    if k == 0:
+        return 1.0
+    cols = (static.W * n) @ static.membership[:, phase_present]
+    if k == 1:
+        return 1.0 if cols.any() else 0.0
+    norms = np.sqrt(np.einsum("ij,ij->j", cols, cols))
+    if not norms.all() or k > cols.shape[0]:
+        return 0.0
+    s = np.linalg.svd(cols / norms, compute_uv=False)
+    return float(s[-1] / s[0])
+
+
+def _uniqueness(static: _Static, solver, sol: _Solution, n: np.ndarray, totals: np.ndarray,
+                phase_present: np.ndarray, drive: dict) -> tuple[bool, int, str, float | None]:
+    """Is the equilibrium state unique?  Returns (unique, starts, how it was decided, the
+    phase-amount condition number or None).
+
+    With ideal phases only, G(n) is convex and a certified state is a global minimum.
+    Every minimiser then shares the certificate's element potentials (saddle-point theorem
+    of convex duality; S. Boyd and L. Vandenberghe, *Convex Optimization*, 2004, sec. 5.4-5.5),
+    so it holds only phases of zero driving force, each at the one composition those
+    potentials give an ideal phase.  Hence the state is unique exactly when every absent
+    phase has a strictly positive driving force and the present phases' conserved-quantity
+    vectors are independent (``_phase_amount_rcond``); dependent vectors prove it is not.
+    Cantera is still restarted from another starting estimate (one when the proof holds,
+    ``RESTARTS`` otherwise), and a restart that lands elsewhere makes the state not unique.
+    The element-potential minimiser solves that convex problem itself and is not restarted.
+    """
+    proved, rcond = None, None
+    cantera = sol.solver.startswith("cantera")
+    if (static.ideal or not cantera) and sol.sides is None:
+        rcond = _phase_amount_rcond(static, n, phase_present)
+        if rcond < settings.PHASE_AMOUNT_RCOND_TOLERANCE:
+            proved = False
+        elif all(d > settings.AFFINITY_TOLERANCE_RT for d in drive.values()):
+            proved = True
+    if proved is False:
+        return False, 1, "proof: the phase amounts are indeterminate", rcond
+    starts, unique = 1, True
+    if cantera and static.directions.shape[0]:
+        phase_of = static.phase_of
+        x_ref = _mole_fractions(n, phase_of, totals)
+        for trial in range(1 if proved else RESTARTS):
+            start = _perturbed_start(n if trial == 0 else solver.n0, *static.trial_directions[trial])
+            if start is None:
+                continue
+            other = solver.solve(sol.T, sol.P, start)
+            starts += 1
+            if not other.converged or not np.isfinite(other.n).all():
+                unique = False
+                continue
+            n_o = np.maximum(other.n, 0.0)
+            tot_o = n_o @ static.membership
+            pres_o = tot_o > settings.PHASE_PRESENCE_FRACTION * max(tot_o.sum(), 1e-300)
+            x_other = _mole_fractions(n_o, phase_of, tot_o)
+            if sol.sides is not None:
+                # on a transition a T,P restart lands on one side: it must agree on every phase it
+                # finds and find no other (the extensive specification sets the split)
+                found = pres_o[phase_of]
+                if (pres_o & ~phase_present).any() or (
+                        found.any() and np.max(np.abs(x_other[found] - x_ref[found])) > settings.UNIQUENESS_TOLERANCE):
+                    unique = False
+            elif (pres_o != phase_present).any() or np.max(np.abs(x_other - x_ref)) > settings.UNIQUENESS_TOLERANCE:
+                unique = False
+    agree = f"{starts} starting estimates " + ("agree" if unique else "disagree") if starts > 1 else ""
+    if proved:
+        how = "proof: ideal phases, absent phases strictly stable, phase amounts determined"
+        return unique, starts, how + (f"; {agree}" if agree else ""), rcond
+    if not cantera:
+        return True, 1, "convex minimisation (ideal phases)", rcond
+    return unique, starts, agree or "one starting estimate (no other composition with the same conserved quantities)", rcond
+
+
+def _mole_fractions(n: np.ndarray, phase_of: np.ndarray, totals: np.ndarray) -> np.ndarray:
     """Mole fraction of every phase-species in its own phase (zero in an empty phase)."""
-    if totals is None:
-        totals = np.bincount(phase_of, weights=n)
     tot = totals[phase_of]
-    return np.divide(n, tot, out=np.zeros_like(n), where=tot > 0)
+    return n / np.where(tot > 0, tot, 1.0)
 
 
-def _perturbed_start(n: np.ndarray, V: np.ndarray, trial: int) -> np.ndarray | None:
+def _perturbed_start(n: np.ndarray, combined: np.ndarray, V: np.ndarray) -> np.ndarray | None:
     """A different composition with the same conserved quantities: ``n + t d`` with ``d`` a
-    fixed signed sum of the reaction directions (signs alternate with ``trial``), ``t`` half
+    fixed signed sum of the reaction directions ``V`` (``_Static.trial_directions``), ``t`` half
     of the largest step that keeps every amount non-negative (or 30 % of the total amount
-    when no amount decreases).  Deterministic, so the audit is reproducible."""
-    if V.shape[0] == 0:
-        return None
+    when no amount decreases); when amounts at zero block it, the rows of ``V`` one by one.
+    Deterministic, so the audit is reproducible."""
     def moved(start, d):
         neg = d < 0
         step = 0.5 * float(np.min(start[neg] / -d[neg])) if neg.any() else \
             start.sum() * 0.3 / max(float(d.sum()), 1e-300)
         return start + step * d if step > 0 else None
 
-    signs = np.where(np.arange(V.shape[0]) % 2 == trial % 2, 1.0, -1.0)
-    combined = signs @ V
     best = moved(n, combined)
     if best is None:
         best = moved(n, -combined)     # the other sense when an amount at zero blocks this one
     if best is None:
         # amounts at zero block the combined direction: move along the directions one by one
         best = n.astype(float)
-        for j in range(V.shape[0]):
-            for d in (signs[j] * V[j], -signs[j] * V[j]):
+        for v in V:
+            for d in (v, -v):
                 nxt = moved(best, d)
                 if nxt is not None:
                     best = nxt
@@ -895,7 +1009,7 @@ def _jacobian_layout(case, system, count, spec):
     return np.array(present, dtype=int), np.array(X_rows), np.array(C_rows), np.array(R_rows), np.array(TP_rows)
 
 
-def _jacobian_rcond(case, system, model, count, spec, T, P, n, phase_of) -> float:
+def _jacobian_rcond(case, system, model, count, spec, T, P, n, phase_of, totals) -> float:
     """Smallest over largest singular value of the scaled Jacobian of the audit's equations.
 
     Variables ``ln T, ln P`` and the mole fractions, columns of mole fractions scaled by
@@ -903,10 +1017,9 @@ def _jacobian_rcond(case, system, model, count, spec, T, P, n, phase_of) -> floa
     = 1/x, d(mu°/RT)/d ln T = -H°/RT, d(mu°/RT)/d ln P = P V/RT; rows scaled to unit length.
     """
     present, X, C, R, TP = _jacobian_layout(case, system, count, spec)
-    x = _mole_fractions(n, phase_of)[present]
-    g_t, g_p = model.g_derivatives(T, P, n)
-    J = np.hstack([np.column_stack([R @ g_t, R @ g_p]) + TP, X * x + C])
-    norms = np.linalg.norm(J, axis=1)
-    J = J / np.where(norms > 0, norms, 1.0)[:, None]
+    x = n[present] / totals[phase_of[present]]
+    J = np.concatenate((R @ np.column_stack(model.g_derivatives(T, P, n)) + TP, X * x + C), axis=1)
+    norms = np.sqrt(np.einsum("ij,ij->i", J, J))
+    J /= np.where(norms > 0, norms, 1.0)[:, None]
     sv = np.linalg.svd(J, compute_uv=False)
     return float(sv[-1] / sv[0]) if sv.size and sv[0] > 0 else 0.0

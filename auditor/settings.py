@@ -22,6 +22,10 @@ PHASE_PRESENCE_FRACTION = 1e-10
 # Two solutions from different starting estimates are the same state when every mole
 # fraction agrees to this.
 UNIQUENESS_TOLERANCE = 1e-6
+# The present phases' amounts are called indeterminate (material can shift between them
+# at fixed compositions) when the smallest singular value of their conserved-quantity
+# vectors, over the largest, is below this.
+PHASE_AMOUNT_RCOND_TOLERANCE = 1e-9
 # ln K additivity of a dependent reaction is checked to this absolute tolerance
 # (rounding in sums of ~10 terms of magnitude ~100).
 LNK_ADDITIVITY_TOLERANCE = 1e-9
@@ -45,6 +49,7 @@ TOLERANCES = {
     "affinity_tolerance_RT": AFFINITY_TOLERANCE_RT,
     "phase_presence_fraction": PHASE_PRESENCE_FRACTION,
     "uniqueness_tolerance": UNIQUENESS_TOLERANCE,
+    "phase_amount_rcond_tolerance": PHASE_AMOUNT_RCOND_TOLERANCE,
     "lnK_additivity_tolerance": LNK_ADDITIVITY_TOLERANCE,
     "jacobian_rank_tolerance": JACOBIAN_RANK_TOLERANCE,
 }

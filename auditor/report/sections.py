@@ -117,7 +117,9 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
             ("converged", eq["converged"]), ("conserved-quantity balance error", f"{eq['element_balance_error']:.3e}"),
             ("largest affinity among present species (RT)", f"{eq['max_affinity_RT']:.3e}"),
             ("element-potential fit residual (RT)", f"{eq['potential_residual_RT']:.3e}"),
-            ("unique from several starting estimates", f"{eq['unique']} ({eq['starts']} starts)"),
+            ("unique", f"{eq['unique']} ({eq['unique_basis']})"),
+            ("present phases' conserved-quantity vectors, smallest/largest singular value",
+             "n/a" if eq["phase_amount_rcond"] is None else f"{eq['phase_amount_rcond']:.3e}"),
             ("ln K additivity error", "n/a" if eq["lnK_additivity_error"] is None else f"{eq['lnK_additivity_error']:.3e}"),
             ("Jacobian smallest/largest singular value", "n/a" if eq["jacobian_rcond"] is None else f"{eq['jacobian_rcond']:.3e}")]
             + [(f"driving force to form absent {k} (RT)", "cannot form (needs an element the feed lacks)" if v is None

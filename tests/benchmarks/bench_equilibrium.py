@@ -95,7 +95,7 @@ class Instrument:
             finally:
                 me.solve_times.append(time.perf_counter() - t0)
         eqm._Solver.solve = solve
-        for name in ("_absent_driving_forces", "_jacobian_rcond", "_fit_potentials"):
+        for name in ("_absent_driving_forces", "_jacobian_rcond", "_phase_amount_rcond"):
             f = getattr(eqm, name)
             self._orig[name] = f
 
