@@ -256,18 +256,18 @@ class _Model:
             out.append(ph.standard_gibbs_RT)
         return np.concatenate(out)
 
-    def g_derivatives(self, T: float, P: float, n: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """d(mu°/RT)/d ln T = -H°/RT (Gibbs-Helmholtz) and d(mu°/RT)/d ln P = P V/RT, at T, P."""
+    def at_state(self, T: float, P: float, n: np.ndarray) -> tuple[np.ndarray, ...]:
+        """At amounts n, T, P, from one setting of the state: chemical potentials mu_k/RT,
+        standard ones mu°_k(T, P)/RT, and the latter's derivatives d(mu°/RT)/d ln T = -H°/RT
+        (Gibbs-Helmholtz) and d(mu°/RT)/d ln P = P V/RT."""
         self.set_state(T, P, n)
-        dT = -np.concatenate([ph.standard_enthalpies_RT for ph in self.phases])
-        dP = np.concatenate([ph.partial_molar_volumes for ph in self.phases]) * P / (R * 1000.0 * T)
-        return dT, dP
-
-    def potentials(self, T: float, P: float, n: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """Chemical potentials mu_k/RT at amounts n, and the standard ones mu°_k(T, P)/RT."""
-        self.set_state(T, P, n)
-        mu = np.concatenate([ph.chemical_potentials for ph in self.phases]) / (R * 1000.0 * T)
-        return mu, np.concatenate([ph.standard_gibbs_RT for ph in self.phases])
+        RT = R * 1000.0 * T
+        phases = self.phases
+        mu = np.concatenate([ph.chemical_potentials for ph in phases]) / RT
+        g = np.concatenate([ph.standard_gibbs_RT for ph in phases])
+        dT = -np.concatenate([ph.standard_enthalpies_RT for ph in phases])
+        dP = np.concatenate([ph.partial_molar_volumes for ph in phases]) * (P / RT)
+        return mu, g, dT, dP
 
     def enthalpy(self, T: float, P: float, n: np.ndarray) -> float:
         """Total enthalpy, J, of amounts n (mol) at T, P."""
@@ -329,6 +329,7 @@ class _Static:
     mixtures: dict = field(default_factory=dict)   # candidate mask -> (Mixture, segments, in_mixture)
     bases: dict = field(default_factory=dict)      # present species -> reaction basis
     present_sets: dict = field(default_factory=dict)  # present species -> _PresentSet
+    absent_groups: dict = field(default_factory=dict)  # present phases, candidates -> absent phases' species
 
 
 IDEAL_MODELS = ("ideal-gas", "fixed-stoichiometry", "ideal-condensed", "ideal-solid-solution")
@@ -436,10 +437,14 @@ class _Solver:
             offsets = np.cumsum([0] + [p.n_species for p in m.phases])
             keep = [ok and bool(candidate[lo:hi].any()) for ok, lo, hi in zip(m.usable, offsets[:-1], offsets[1:])]
             mixture = m.ct.Mixture([(ph, 0.0) for ph, k in zip(m.phases, keep) if k]) if any(keep) else None
-            segments = [(lo, hi) for k, lo, hi in zip(keep, offsets[:-1], offsets[1:]) if k]
             in_mixture = np.concatenate([[k] * ph.n_species for ph, k in zip(m.phases, keep)])
-            static.mixtures[key] = (mixture, segments, in_mixture)
-        self._mixture, self._segments, self._in_mixture = static.mixtures[key]
+            # the candidate species of each phase in the mixture, as positions in the mixture
+            # (each such phase gets a trace seed)
+            position = np.cumsum(in_mixture) - 1
+            seeds = [position[lo + np.flatnonzero(candidate[lo:hi])] for k, lo, hi
+                     in zip(keep, offsets[:-1], offsets[1:]) if k]
+            static.mixtures[key] = (mixture, [s for s in seeds if s.size], in_mixture)
+        self._mixture, self._seeds, self._in_mixture = static.mixtures[key]
 
     def _ours(self, T: float, P: float) -> _Solution:
         from .minimiser import minimise_gibbs
@@ -458,18 +463,18 @@ class _Solver:
         if self._mixture is None:
             return _Solution(np.zeros(self.system.n_species), T, P, f"cantera {solver}", False,
                              "no phase of the system can form from this feed")
-        start = start.copy()
-        total = max(start[usable_mask & self.candidate].sum(), 1e-300)
+        start = start[usable_mask]        # a copy
+        total = None
         # a phase that may appear needs a trace seed: zero-seeded phases break the solver
-        for lo, hi in self._segments:
-            seg = start[lo:hi]
-            cand = self.candidate[lo:hi]
-            if seg[cand].sum() <= 0 and cand.any():
-                seg[cand] = 1e-12 * total / cand.sum()
+        for idx in self._seeds:
+            if start[idx].sum() <= 0:
+                if total is None:
+                    total = max(float(start[self.candidate[usable_mask]].sum()), 1e-300)
+                start[idx] = 1e-12 * total / idx.size
         mix = self._mixture
         mix.T = T
         mix.P = P
-        mix.species_moles = start[usable_mask]
+        mix.species_moles = start
         log = io.StringIO()
         try:
             # cantera's solver log goes to stdout; keep it out of the tool's output (and JSON)
@@ -507,20 +512,21 @@ def _direction_matrix(vectors, n_species: int) -> np.ndarray:
     return V
 
 
-def _absent_driving_forces(system, model_g, A, lam, free, phase_present, phase_of, solution, usable_species,
-                           candidate):
+def _absent_driving_forces(static: _Static, model_g, lam, free, phase_present, candidate):
     """Minimum over absent phases of the driving force to form them, maximised over the free
     element-potential directions (a valid certificate needs only one such lambda)."""
-    absent = [p for p in range(len(system.phases)) if not phase_present[p]]
-    if not absent:
-        return {}
-    groups = {p: np.flatnonzero((phase_of == p) & usable_species) for p in absent}
-    groups = {p: g for p, g in groups.items() if g.size}
-    # a phase made only of species holding an element the feed lacks can never form
-    never = {p: math.inf for p, g in groups.items() if not candidate[g].any()}
-    groups = {p: g[candidate[g]] for p, g in groups.items() if p not in never}
+    key = phase_present.tobytes() + candidate.tobytes()
+    if key not in static.absent_groups:
+        groups = {p: idx[static.usable_species[idx]] for p, idx in enumerate(static.phase_species)
+                  if not phase_present[p]}
+        groups = {p: g for p, g in groups.items() if g.size}
+        # a phase made only of species holding an element the feed lacks can never form
+        never = {p: math.inf for p, g in groups.items() if not candidate[g].any()}
+        static.absent_groups[key] = ({p: g[candidate[g]] for p, g in groups.items() if p not in never}, never)
+    groups, never = static.absent_groups[key]
     if not groups:
-        return never
+        return dict(never)
+    A, solution = static.W, static.solution
 
     def forces(z):
         lz = lam + (free @ z if free.shape[1] else 0.0)
@@ -737,7 +743,7 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
 
     # element potentials fitted to the present species, and the affinities of the
     # independent reactions among them
-    mu, g = model.potentials(T, P, n)
+    mu, g, g_dlnT, g_dlnP = model.at_state(T, P, n)
     present = phase_present[phase_of] & (n > 0)
     ps = _present_set(static, analysis.reactions, present)
     mu_p = mu[ps.index]
@@ -745,8 +751,7 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     resid = float(np.abs(ps.rows @ lam - mu_p).max()) if mu_p.size else 0.0
     max_aff = float(np.abs(ps.basis @ np.where(present, mu, 0.0)).max()) if ps.basis.shape[0] else 0.0
 
-    drive = _absent_driving_forces(system, g, W, lam, ps.free, phase_present, phase_of, static.solution,
-                                   static.usable_species, solver.candidate)
+    drive = _absent_driving_forces(static, g, lam, ps.free, phase_present, solver.candidate)
     drive_named = tuple((system.phases[p].name, d) for p, d in sorted(drive.items()))
     unique, starts, unique_basis, amount_rcond = _uniqueness(static, solver, sol, n, totals, phase_present, drive)
 
@@ -761,7 +766,7 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     jac = None
     if spec.decomposition.structurally_nonsingular and not spec.extensive and tuple(count.coexisting) == present_names:
         try:
-            jac = _jacobian_rcond(case, system, model, count, spec, T, P, n, phase_of, totals)
+            jac = _jacobian_rcond(case, system, count, spec, g_dlnT, g_dlnP, n, phase_of, totals)
         except Exception as exc:
             findings.append(Finding("warning", "equilibrium", f"the Jacobian check could not be evaluated: {exc}"))
 
@@ -853,7 +858,13 @@ def _phase_amount_rcond(static: _Static, n: np.ndarray, phase_present: np.ndarra
     norms = np.sqrt(np.einsum("ij,ij->j", cols, cols))
     if not norms.all() or k > cols.shape[0]:
         return 0.0
-    s = np.linalg.svd(cols / norms, compute_uv=False)
+    cols = cols / norms
+    if k == 2:
+        # unit columns u, v: singular values sqrt(1 +- |u.v|), in ratio |u - v| / |u + v|
+        # (the smaller over the larger), free of the cancellation in 1 - |u.v|
+        a, b = np.linalg.norm(cols[:, 0] - cols[:, 1]), np.linalg.norm(cols[:, 0] + cols[:, 1])
+        return float(min(a, b) / max(a, b))
+    s = np.linalg.svd(cols, compute_uv=False)
     return float(s[-1] / s[0])
 
 
@@ -932,8 +943,8 @@ def _perturbed_start(n: np.ndarray, combined: np.ndarray, V: np.ndarray) -> np.n
     Deterministic, so the audit is reproducible."""
     def moved(start, d):
         neg = d < 0
-        step = 0.5 * float(np.min(start[neg] / -d[neg])) if neg.any() else \
-            start.sum() * 0.3 / max(float(d.sum()), 1e-300)
+        step = 0.5 * float((start[neg] / -d[neg]).min()) if neg.any() else \
+            float(start.sum()) * 0.3 / max(float(d.sum()), 1e-300)
         return start + step * d if step > 0 else None
 
     best = moved(n, combined)
@@ -1009,7 +1020,7 @@ def _jacobian_layout(case, system, count, spec):
     return np.array(present, dtype=int), np.array(X_rows), np.array(C_rows), np.array(R_rows), np.array(TP_rows)
 
 
-def _jacobian_rcond(case, system, model, count, spec, T, P, n, phase_of, totals) -> float:
+def _jacobian_rcond(case, system, count, spec, g_dlnT, g_dlnP, n, phase_of, totals) -> float:
     """Smallest over largest singular value of the scaled Jacobian of the audit's equations.
 
     Variables ``ln T, ln P`` and the mole fractions, columns of mole fractions scaled by
@@ -1018,7 +1029,7 @@ def _jacobian_rcond(case, system, model, count, spec, T, P, n, phase_of, totals)
     """
     present, X, C, R, TP = _jacobian_layout(case, system, count, spec)
     x = n[present] / totals[phase_of[present]]
-    J = np.concatenate((R @ np.column_stack(model.g_derivatives(T, P, n)) + TP, X * x + C), axis=1)
+    J = np.concatenate((R @ np.column_stack((g_dlnT, g_dlnP)) + TP, X * x + C), axis=1)
     norms = np.sqrt(np.einsum("ij,ij->i", J, J))
     J /= np.where(norms > 0, norms, 1.0)[:, None]
     sv = np.linalg.svd(J, compute_uv=False)

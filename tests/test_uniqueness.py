@@ -1,0 +1,167 @@
+"""Uniqueness of the equilibrium state: the convexity proof against restarts from other
+starting estimates, and the phase-amount condition on its own.
+
+Theory (``auditor.equilibrium._uniqueness``): with ideal phases G is convex; every minimiser
+shares the certificate's element potentials (saddle-point theorem, S. Boyd and
+L. Vandenberghe, Convex Optimization, 2004, sec. 5.4-5.5), so the state is unique exactly
+when each absent phase has a strictly positive driving force and the present phases'
+conserved-quantity vectors are independent.
+"""
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from auditor import case as case_mod
+from auditor import equilibrium as eqm
+from auditor import settings
+from auditor.audit import audit_file
+from auditor.phase_rule import count as count_phase_rule
+from auditor.stoichiometry import analyse
+from auditor.structure import audit as audit_specification
+
+CASES = Path(__file__).resolve().parents[1] / "cases"
+
+
+def stages(path: Path):
+    case = case_mod.load_case(path)
+    system = case_mod.build_system(case)
+    case_mod.check_names(case, system)
+    reactions = case_mod.build_reactions(case, system)
+    analysis = analyse(system, reactions)
+    count = count_phase_rule(case, system, reactions, analysis)
+    spec = audit_specification(case, system, count)
+    return case, system, analysis, count, spec
+
+
+def write(tmp_path, text, name="case.yaml"):
+    path = tmp_path / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def amounts(system, **by_label):
+    n = np.zeros(system.n_species)
+    for label, v in by_label.items():
+        n[system.labels.index(label)] = v
+    return n
+
+
+CALCINER = """\
+system:
+  source: packaged
+  phases:
+    gas: [{gas}]
+    calcite: [CaCO3(caL)]
+    lime: [CaO(s)]
+feed: {{CaCO3(caL): 1, {diluent}}}
+specified: {{temperature: 1100 K, pressure: 1 atm}}
+"""
+
+
+def _static_and_solver(path):
+    case, system, analysis, count, spec = stages(path)
+    static = eqm._static_for(system, analysis)
+    model = eqm._model_cached(system)
+    n0 = eqm._feed_vector(case, system)
+    solver = eqm._Solver(model, system, analysis, n0, np.ones(system.n_species, dtype=bool))
+    return system, static, solver
+
+
+def test_calcite_lime_and_pure_co2_amounts_are_indeterminate(tmp_path):
+    # CaCO3 = CaO + CO2: with a gas of CO2 alone the three phases' vectors (Ca, C, O) are
+    # dependent, so at fixed T and P calcite can turn into lime and CO2 at no change in G
+    # (Gibbs phase rule: two components, three phases -> univariant; common practice)
+    path = write(tmp_path, CALCINER.format(gas="CO2", diluent="CO2: 0.5"))
+    system, static, solver = _static_and_solver(path)
+    n = amounts(system, **{"CO2": 0.7, "CaCO3(caL)": 0.4, "CaO(s)": 0.6})
+    present = np.array([True, True, True])
+    assert eqm._phase_amount_rcond(static, n, present) < 1e-14
+    totals = n @ static.membership
+    sol = eqm._Solution(n, 1100.0, 101325.0, "cantera vcs", True)
+    unique, starts, how, rcond = eqm._uniqueness(static, solver, sol, n, totals, present, {})
+    assert unique is False and starts == 1 and "indeterminate" in how
+
+
+def test_a_diluent_in_the_gas_fixes_the_phase_amounts(tmp_path):
+    # with nitrogen in the gas the gas vector holds N and the three vectors are independent:
+    # the nitrogen balance fixes the gas amount, then Ca and C fix calcite and lime
+    path = write(tmp_path, CALCINER.format(gas="CO2, N2", diluent="N2: 1"))
+    system, static, _ = _static_and_solver(path)
+    n = amounts(system, **{"CO2": 0.3, "N2": 1.0, "CaCO3(caL)": 0.4, "CaO(s)": 0.6})
+    assert eqm._phase_amount_rcond(static, n, np.array([True, True, True])) > 1e-3
+    # two phases, or one, are always determined by independent vectors
+    assert eqm._phase_amount_rcond(static, n, np.array([True, True, False])) > 1e-3
+    assert eqm._phase_amount_rcond(static, n, np.array([True, False, False])) == 1.0
+
+
+def test_more_present_phases_than_conserved_quantities_is_indeterminate(tmp_path):
+    path = write(tmp_path, CALCINER.format(gas="CO2", diluent="CO2: 0.5"))
+    system, static, _ = _static_and_solver(path)
+    n = amounts(system, **{"CO2": 0.7, "CaCO3(caL)": 0.4, "CaO(s)": 0.6})
+    wide = eqm._Static(**{**static.__dict__, "W": static.W[:2]})      # two conserved rows only
+    assert eqm._phase_amount_rcond(wide, n, np.array([True, True, True])) == 0.0
+
+
+SOLVING_DEMOS = ["reformer_design_point.yaml", "reformer_carbon_risk.yaml", "ammonia_converter_ratio.yaml",
+                 "aromatics_flash_phase_fraction.yaml", "combustor_adiabatic.yaml"]
+
+
+@pytest.mark.parametrize("name", sorted(p.name for p in CASES.glob("*.yaml")))
+def test_proof_agrees_with_restarts_on_every_solving_demo(name):
+    """Where the proof decides, restarting cantera from every other starting estimate
+    (``RESTARTS`` of them, the proof made inconclusive) must land on the same state."""
+    case, system, analysis, count, spec = stages(CASES / name)
+    eq = eqm.confirm(case, system, analysis, count, spec)
+    if not eq.solved or not eq.unique_basis.startswith("proof"):
+        pytest.skip("the proof does not decide this case")
+    assert eq.unique is True and eq.phase_amount_rcond >= settings.PHASE_AMOUNT_RCOND_TOLERANCE
+    model = eqm._model_cached(system)
+    n0 = eqm._feed_vector(case, system)
+    rows = eqm._static_for(system, analysis).element_rows
+    candidate = ~(rows[rows @ n0 == 0] != 0).any(axis=0)
+    solver = eqm._Solver(model, system, analysis, n0, candidate)
+    static = solver.static
+    n = np.array([x * p.moles for p in eq.phases for _, x in p.mole_fractions])
+    order = np.concatenate(static.phase_species)          # eq.phases lists species phase by phase
+    n_sys = np.zeros(system.n_species)
+    n_sys[order] = n
+    totals = n_sys @ static.membership
+    present = totals > 0
+    sol = eqm._Solution(n_sys, eq.temperature_K, eq.pressure_Pa, "cantera vcs", True)
+    unique, starts, how, _ = eqm._uniqueness(static, solver, sol, n_sys, totals, present, {"x": 0.0})
+    assert unique is True and starts == eqm.RESTARTS + 1 and how == f"{starts} starting estimates agree"
+
+
+def test_demo_cases_decide_uniqueness_by_the_proof():
+    decided = []
+    for name in SOLVING_DEMOS:
+        path = CASES / name
+        if not path.exists():
+            continue
+        eq = audit_file(path).equilibrium
+        if eq is not None and eq.solved:
+            decided.append(eq.unique_basis.startswith("proof"))
+    assert decided and all(decided)
+
+
+@pytest.mark.parametrize("seed", range(20))
+def test_two_phase_closed_form_matches_the_svd(seed, tmp_path_factory):
+    # the two-column ratio |u - v| / |u + v| equals s_min / s_max of [u v] (u, v unit
+    # vectors: singular values sqrt(1 +- |u.v|); theorem)
+    rng = np.random.default_rng(seed)
+    W = rng.normal(size=(4, 5))
+    if seed % 4 == 0:
+        W[:, 3] = W[:, 0] * 2.0                                    # nearly dependent columns
+        W[0, 3] += 1e-7
+    membership = np.zeros((5, 2))
+    membership[[0, 1, 2], 0] = 1.0
+    membership[[3, 4], 1] = 1.0
+    n = np.array([1.0, 0.0, 0.0, 1.0, 0.0]) if seed % 4 == 0 else rng.uniform(0.1, 1.0, 5)
+    fake = type("S", (), {"W": W, "membership": membership})
+    got = eqm._phase_amount_rcond(fake, n, np.array([True, True]))
+    cols = (W * n) @ membership
+    s = np.linalg.svd(cols / np.linalg.norm(cols, axis=0), compute_uv=False)
+    assert got == pytest.approx(s[-1] / s[0], rel=1e-6)
