@@ -278,7 +278,7 @@ def _kkt_newton(dual, c, nu, sol_act, lnN, pure_act, npure, tol, max_iter):
             step *= 0.5
         if not np.isfinite(nt):
             return "fail", nu, lnN, npure, it
-        nu, lnN, npure, F, h, G, covs, norm = t_nu, t_lnN, t_np, Ft, ht, Gt, covst, nt
+        nu, lnN, npure, F, G, covs, norm = t_nu, t_lnN, t_np, Ft, Gt, covst, nt
         if ka and lnN.min() < np.log(_MIN_PHASE_AMOUNT):
             return f"collapse:{int(np.argmin(lnN))}", nu, lnN, npure, it
         # Thresholds.  Phase equations are differences of terms as large as |g_k|,

@@ -108,7 +108,6 @@ def test_failing_block_is_retried_once_then_recorded(tmp_path):
                 return _always_fails(*a)
             return super().map_blocks(counted, args_list)
 
-    case = sweep.load_case(CASE)
     axes = [sweep.parse_vary("temperature=1000:1100:50")]
     results = sweep.run_sweep(CASE, axes, Counting(), block_size=3)
     assert len(calls) == 2                       # one try and one retry
