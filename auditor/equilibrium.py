@@ -16,7 +16,9 @@ The answer is not trusted: a certificate is checked instead.
 * the driving force to form each absent phase, maximised over the element potentials
   that the present species leave undetermined (rank-deficient present formula matrix,
   elements of zero abundance), so that non-uniqueness raises no false alarm;
-* the same state from several starting estimates (``unique``);
+* uniqueness (``unique``): proved for ideal phases from convexity, the absent phases'
+  driving forces and the rank of the present phases' conserved-quantity vectors, and
+  checked by restarting cantera from other starting estimates (``_uniqueness``);
 * present phases against those assumed; temperature inside each present species' data;
 * ``ln K`` of every dependent reaction equal to the combination of the independent ones;
 * for structurally square cases, the Jacobian of the specification audit's equations
@@ -893,7 +895,7 @@ def _uniqueness(static: _Static, solver, sol: _Solution, n: np.ndarray, totals: 
         elif all(d > settings.AFFINITY_TOLERANCE_RT for d in drive.values()):
             proved = True
     if proved is False:
-        return False, 1, "proof: the phase amounts are indeterminate", rcond
+        return False, 1, "proved not unique: the phase amounts are indeterminate", rcond
     starts, unique = 1, True
     if cantera and static.directions.shape[0]:
         phase_of = static.phase_of
@@ -922,7 +924,7 @@ def _uniqueness(static: _Static, solver, sol: _Solution, n: np.ndarray, totals: 
                 unique = False
     agree = f"{starts} starting estimates " + ("agree" if unique else "disagree") if starts > 1 else ""
     if proved:
-        how = "proof: ideal phases, absent phases strictly stable, phase amounts determined"
+        how = "proved: ideal phases, every absent phase has a positive driving force, phase amounts determined"
         return unique, starts, how + (f"; {agree}" if agree else ""), rcond
     if not cantera:
         return True, 1, "convex minimisation (ideal phases)", rcond

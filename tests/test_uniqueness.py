@@ -115,7 +115,7 @@ def test_proof_agrees_with_restarts_on_every_solving_demo(name):
     (``RESTARTS`` of them, the proof made inconclusive) must land on the same state."""
     case, system, analysis, count, spec = stages(CASES / name)
     eq = eqm.confirm(case, system, analysis, count, spec)
-    if not eq.solved or not eq.unique_basis.startswith("proof"):
+    if not eq.solved or not eq.unique_basis.startswith("proved"):
         pytest.skip("the proof does not decide this case")
     assert eq.unique is True and eq.phase_amount_rcond >= settings.PHASE_AMOUNT_RCOND_TOLERANCE
     model = eqm._model_cached(system)
@@ -143,7 +143,7 @@ def test_demo_cases_decide_uniqueness_by_the_proof():
             continue
         eq = audit_file(path).equilibrium
         if eq is not None and eq.solved:
-            decided.append(eq.unique_basis.startswith("proof"))
+            decided.append(eq.unique_basis.startswith("proved"))
     assert decided and all(decided)
 
 
