@@ -75,7 +75,8 @@ class DaskCluster:
     """A Dask distributed client: ``tcp://HOST:PORT`` of a running scheduler, or ``local:N``."""
 
     name = "dask"
-    blocks_per_worker = 4       # a task round trip costs ~10-20 ms: fewer, larger blocks than a pool
+    blocks_per_worker = 2       # a task round trip costs ~10-20 ms and workers share the cores with the
+                                # scheduler: few, large blocks (a 2000-point sweep on 2 workers: 4 of 500)
 
     def __init__(self, address: str):
         try:

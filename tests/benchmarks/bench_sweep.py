@@ -40,7 +40,7 @@ def timed(executor, axes, block_size=None, repeats=1):
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--points", type=int, default=2000)
-    ap.add_argument("--repeats", type=int, default=3, help="best of N runs per executor")
+    ap.add_argument("--repeats", type=int, default=5, help="best of N runs per executor")
     args = ap.parse_args()
     axes = axes_for(args.points)
     n = len(axes[0].values) * len(axes[1].values)
