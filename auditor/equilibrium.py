@@ -967,8 +967,23 @@ def _perturbed_start(n: np.ndarray, combined: np.ndarray, V: np.ndarray) -> np.n
 
 
 @by_identity
+def _jacobian_layouts(system, count, spec) -> dict:
+    return {}
+
+
 def _jacobian_layout(case, system, count, spec):
-    """Constant parts of the Jacobian of the audit's equations, as arrays (built once per case).
+    """The layout for a case, built once per kind of specification: the values of T and P
+    do not enter it, so the points of a sweep share one."""
+    s = case.specified
+    key = (s.temperature_K is not None, s.pressure_Pa is not None, s.mole_fractions, s.ratios)
+    layouts = _jacobian_layouts(system, count, spec)
+    if key not in layouts:
+        layouts[key] = _build_jacobian_layout(s, system, count, spec)
+    return layouts[key]
+
+
+def _build_jacobian_layout(s, system, count, spec):
+    """Constant parts of the Jacobian of the audit's equations, as arrays.
 
     Rows in the order of ``structure.build_incidence``: normalisations, equilibria,
     restrictions, specifications.  Columns ``ln T, ln P`` and the present mole fractions.
@@ -979,7 +994,6 @@ def _jacobian_layout(case, system, count, spec):
     present = list(count.present_species)
     col = {k: j for j, k in enumerate(present)}
     solution = {p.name: len(p.species) > 1 for p in system.phases}
-    s = case.specified
     X_rows, C_rows, R_rows, TP_rows = [], [], [], []
 
     def row():
