@@ -38,7 +38,6 @@ from auditor.stoichiometry import analyse  # noqa: E402
 from auditor.structure import audit as audit_specification  # noqa: E402
 
 REPEATS = 20
-INNER = 1
 TARGET = 3.0
 
 GAS_ONLY = """\
@@ -66,14 +65,10 @@ def stages(path: Path):
     return case, system, analysis, count, spec
 
 
-def best_of(fn) -> float:
-    best = float("inf")
-    for _ in range(REPEATS):
-        t0 = time.perf_counter()
-        for _ in range(INNER):
-            fn()
-        best = min(best, (time.perf_counter() - t0) / INNER)
-    return best
+def once(fn) -> float:
+    t0 = time.perf_counter()
+    fn()
+    return time.perf_counter() - t0
 
 
 class Instrument:
@@ -141,8 +136,11 @@ def measure(label: str, path: Path) -> dict:
         mix.species_moles = start
         mix.equilibrate("TP", solver="vcs", max_steps=2000, max_iter=200, estimate_equil=0)
 
-    t_bare = best_of(bare)
-    t_confirm = best_of(lambda: eqm.confirm(case, system, analysis, count, spec))
+    # alternate the two, so that a slow spell of the machine hits both alike
+    t_bare, t_confirm = float("inf"), float("inf")
+    for _ in range(REPEATS):
+        t_bare = min(t_bare, once(bare))
+        t_confirm = min(t_confirm, once(lambda: eqm.confirm(case, system, analysis, count, spec)))
 
     # instrumented runs: best of REPEATS for the main solve and for the rest
     best_main, best_rest, best_parts, calls = float("inf"), float("inf"), {}, 0
