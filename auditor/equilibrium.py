@@ -307,7 +307,8 @@ def _conserved_matrix(analysis: ReactionAnalysis, n_species: int) -> np.ndarray:
 @dataclass
 class _Static:
     """What a case's solves and certificates share and do not change: arrays, the cantera
-    Mixture, bases (built once per system and reaction analysis)."""
+    Mixture, what each set of present species needs (built once per system and reaction
+    analysis)."""
 
     W: np.ndarray                   # conserved quantities x species
     phase_of: np.ndarray            # phase index of each species
@@ -328,8 +329,7 @@ class _Static:
     t_high: float
     ideal: bool                     # every usable phase has an ideal model (G convex)
     potential_names: tuple
-    mixtures: dict = field(default_factory=dict)   # candidate mask -> (Mixture, segments, in_mixture)
-    bases: dict = field(default_factory=dict)      # present species -> reaction basis
+    mixtures: dict = field(default_factory=dict)   # candidate mask -> (Mixture, seeds, in_mixture)
     present_sets: dict = field(default_factory=dict)  # present species -> _PresentSet
     absent_groups: dict = field(default_factory=dict)  # present phases, candidates -> absent phases' species
 
@@ -396,9 +396,7 @@ def _present_set(static: _Static, reactions, present: np.ndarray) -> _PresentSet
     got = static.present_sets.get(key)
     if got is None:
         idx = np.flatnonzero(present)
-        if key not in static.bases:
-            static.bases[key] = basis_within(reactions, len(present), tuple(int(k) for k in idx))
-        basis = _direction_matrix(static.bases[key], len(present))
+        basis = _direction_matrix(basis_within(reactions, len(present), tuple(int(k) for k in idx)), len(present))
         rows = static.W[:, idx].T
         m = static.W.shape[0]
         if rows.size == 0:
@@ -425,11 +423,10 @@ class _Solver:
         static = _static_for(system, analysis)
         self.static = static
         self.W, self.phase_of, self.solution = static.W, static.phase_of, static.solution
-        self.directions, self.usable_species = static.directions, static.usable_species
+        self.usable_species = static.usable_species
         self.complete = analysis.complete
         self.calls = 0
         self.log: list[str] = []      # what cantera's solver printed
-        self._reactions = analysis.reactions
         self.deadline = time.perf_counter() + settings.MINIMISATION_WALL_SECONDS
         key = candidate.tobytes()
         if key not in static.mixtures:
