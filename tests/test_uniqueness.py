@@ -17,22 +17,14 @@ import pytest
 from auditor import case as case_mod
 from auditor import equilibrium as eqm
 from auditor import settings
-from auditor.audit import audit_file
-from auditor.phase_rule import count as count_phase_rule
-from auditor.stoichiometry import analyse
-from auditor.structure import audit as audit_specification
+from auditor.audit import audit_file, counting_stages
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
 
 def stages(path: Path):
     case = case_mod.load_case(path)
-    system = case_mod.build_system(case)
-    case_mod.check_names(case, system)
-    reactions = case_mod.build_reactions(case, system)
-    analysis = analyse(system, reactions)
-    count = count_phase_rule(case, system, reactions, analysis)
-    spec = audit_specification(case, system, count)
+    system, _, analysis, count, spec = counting_stages(case)
     return case, system, analysis, count, spec
 
 

@@ -16,8 +16,9 @@ For each case, side by side in one run:
              ``_Solver.solve`` (the first call is the main solve; later calls are the
              uniqueness restarts), and, as a cross-check, confirm minus one bare solve.
 
-Every number is the best of 20 single calls (``--repeats N`` to change): the minimum is the
-least disturbed by other load on the machine.  Target: checks <= 3 x bare.
+Every number is the best of 20 rounds of single calls (``--repeats N`` to change), each
+round running every measurement once: the minimum is the least disturbed by other load on
+the machine.  Target: checks <= 3 x bare.
 """
 from __future__ import annotations
 
@@ -33,9 +34,7 @@ import numpy as np  # noqa: E402
 
 from auditor import case as case_mod  # noqa: E402
 from auditor import equilibrium as eqm  # noqa: E402
-from auditor.phase_rule import count as count_phase_rule  # noqa: E402
-from auditor.stoichiometry import analyse  # noqa: E402
-from auditor.structure import audit as audit_specification  # noqa: E402
+from auditor.audit import counting_stages  # noqa: E402
 
 REPEATS = 20
 TARGET = 3.0
@@ -56,12 +55,7 @@ specified:
 
 def stages(path: Path):
     case = case_mod.load_case(path)
-    system = case_mod.build_system(case)
-    case_mod.check_names(case, system)
-    reactions = case_mod.build_reactions(case, system)
-    analysis = analyse(system, reactions)
-    count = count_phase_rule(case, system, reactions, analysis)
-    spec = audit_specification(case, system, count)
+    system, _, analysis, count, spec = counting_stages(case)
     return case, system, analysis, count, spec
 
 
@@ -136,15 +130,13 @@ def measure(label: str, path: Path) -> dict:
         mix.species_moles = start
         mix.equilibrate("TP", solver="vcs", max_steps=2000, max_iter=200, estimate_equil=0)
 
-    # alternate the two, so that a slow spell of the machine hits both alike
+    # each round runs all three measurements, so that a slow spell of the machine hits them alike
     t_bare, t_confirm = float("inf"), float("inf")
+    best_main, best_rest, best_parts, calls = float("inf"), float("inf"), {}, 0
     for _ in range(REPEATS):
         t_bare = min(t_bare, once(bare))
         t_confirm = min(t_confirm, once(lambda: eqm.confirm(case, system, analysis, count, spec)))
-
-    # instrumented runs: best of REPEATS for the main solve and for the rest
-    best_main, best_rest, best_parts, calls = float("inf"), float("inf"), {}, 0
-    for _ in range(REPEATS):
+        # instrumented: the main solve and the rest
         with Instrument() as ins:
             t0 = time.perf_counter()
             eqm.confirm(case, system, analysis, count, spec)
