@@ -407,8 +407,19 @@ def _present_set(static: _Static, reactions, present: np.ndarray) -> _PresentSet
             rank = int((s > 1e-10 * s[0]).sum()) if s.size else 0
             pinv = vt[:rank].T @ (u[:, :rank] / s[:rank]).T
             free = vt[rank:].T
-        got = static.present_sets[key] = _PresentSet(idx, basis, pinv, rows, free)
+        _remember(static.present_sets, key, got := _PresentSet(idx, basis, pinv, rows, free))
     return got
+
+
+PER_CASE_CACHE = 64   # entries kept per cache of a case (present sets, absent-phase groups)
+
+
+def _remember(cache: dict, key, value) -> None:
+    """Store, dropping the oldest entry beyond PER_CASE_CACHE (a long sweep whose trace
+    species come and go must not grow memory without bound)."""
+    if len(cache) >= PER_CASE_CACHE:
+        cache.pop(next(iter(cache)))
+    cache[key] = value
 
 
 class _Solver:
@@ -521,7 +532,7 @@ def _absent_driving_forces(static: _Static, model_g, lam, free, phase_present, c
         groups = {p: g for p, g in groups.items() if g.size}
         # a phase made only of species holding an element the feed lacks can never form
         never = {p: math.inf for p, g in groups.items() if not candidate[g].any()}
-        static.absent_groups[key] = ({p: g[candidate[g]] for p, g in groups.items() if p not in never}, never)
+        _remember(static.absent_groups, key, ({p: g[candidate[g]] for p, g in groups.items() if p not in never}, never))
     groups, never = static.absent_groups[key]
     if not groups:
         return dict(never)

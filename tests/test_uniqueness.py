@@ -207,3 +207,10 @@ def test_non_ideal_phase_is_decided_by_restarts(tmp_path):
     assert eq.confirmed and eq.unique is True
     assert eq.starts == eqm.RESTARTS + 1 and eq.phase_amount_rcond is None
     assert eq.unique_basis == f"{eq.starts} starting estimates agree"
+
+
+def test_per_case_caches_are_bounded():
+    cache = {}
+    for i in range(eqm.PER_CASE_CACHE + 10):
+        eqm._remember(cache, i, i)
+    assert len(cache) == eqm.PER_CASE_CACHE and min(cache) == 10
