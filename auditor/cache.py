@@ -9,6 +9,14 @@ from __future__ import annotations
 import functools
 
 
+def remember(cache: dict, key, value, limit: int) -> None:
+    """Store ``key -> value``, first dropping the oldest entry when ``limit`` are held (a long
+    sweep or batch must not grow memory without bound)."""
+    if len(cache) >= limit:
+        cache.pop(next(iter(cache)))
+    cache[key] = value
+
+
 def by_identity(build):
     """Decorator: remember the last 16 results, keyed on the identity of the arguments."""
     cache: dict = {}
@@ -17,8 +25,6 @@ def by_identity(build):
     def cached(*args):
         key = tuple(id(a) for a in args)
         if key not in cache:
-            if len(cache) >= 16:
-                cache.pop(next(iter(cache)))
-            cache[key] = (args, build(*args))
+            remember(cache, key, (args, build(*args)), 16)
         return cache[key][1]
     return cached

@@ -38,7 +38,7 @@ import numpy as np
 
 from . import settings
 from .case import Case
-from .cache import by_identity
+from .cache import by_identity, remember
 from .findings import Finding
 from .phase_rule import PhaseRuleCount
 from .stoichiometry import ReactionAnalysis, basis_within
@@ -407,19 +407,11 @@ def _present_set(static: _Static, reactions, present: np.ndarray) -> _PresentSet
             rank = int((s > 1e-10 * s[0]).sum()) if s.size else 0
             pinv = vt[:rank].T @ (u[:, :rank] / s[:rank]).T
             free = vt[rank:].T
-        _remember(static.present_sets, key, got := _PresentSet(idx, basis, pinv, rows, free))
+        remember(static.present_sets, key, got := _PresentSet(idx, basis, pinv, rows, free), PER_CASE_CACHE)
     return got
 
 
 PER_CASE_CACHE = 64   # entries kept per cache of a case (present sets, absent-phase groups)
-
-
-def _remember(cache: dict, key, value) -> None:
-    """Store, dropping the oldest entry beyond PER_CASE_CACHE (a long sweep whose trace
-    species come and go must not grow memory without bound)."""
-    if len(cache) >= PER_CASE_CACHE:
-        cache.pop(next(iter(cache)))
-    cache[key] = value
 
 
 class _Solver:
@@ -532,7 +524,8 @@ def _absent_driving_forces(static: _Static, model_g, lam, free, phase_present, c
         groups = {p: g for p, g in groups.items() if g.size}
         # a phase made only of species holding an element the feed lacks can never form
         never = {p: math.inf for p, g in groups.items() if not candidate[g].any()}
-        _remember(static.absent_groups, key, ({p: g[candidate[g]] for p, g in groups.items() if p not in never}, never))
+        remember(static.absent_groups, key, ({p: g[candidate[g]] for p, g in groups.items() if p not in never}, never),
+                 PER_CASE_CACHE)
     groups, never = static.absent_groups[key]
     if not groups:
         return dict(never)

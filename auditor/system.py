@@ -21,6 +21,7 @@ from fractions import Fraction
 from pathlib import Path
 from typing import Iterator, Mapping, Sequence
 
+from .cache import remember
 from .errors import CoefficientError, MechanismError, Problem
 from .settings import COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE
 from .exact import as_simple_fraction
@@ -357,11 +358,9 @@ def cantera_phase(path: str | Path, name: str):
     st = path.stat()
     key = (str(path.resolve()), name, st.st_mtime_ns, st.st_size)
     if key not in _LOADED:
-        if len(_LOADED) >= 64:
-            _LOADED.pop(next(iter(_LOADED)))
         notes: list[str] = []
         sol = _load_phase(ct, path, name, notes)
-        _LOADED[key] = (sol, tuple(notes))
+        remember(_LOADED, key, (sol, tuple(notes)), 64)
     return _LOADED[key]
 
 

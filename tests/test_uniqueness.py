@@ -18,6 +18,7 @@ from auditor import case as case_mod
 from auditor import equilibrium as eqm
 from auditor import settings
 from auditor.audit import audit_file, counting_stages
+from auditor.cache import remember
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -212,5 +213,5 @@ def test_non_ideal_phase_is_decided_by_restarts(tmp_path):
 def test_per_case_caches_are_bounded():
     cache = {}
     for i in range(eqm.PER_CASE_CACHE + 10):
-        eqm._remember(cache, i, i)
+        remember(cache, i, i, eqm.PER_CASE_CACHE)
     assert len(cache) == eqm.PER_CASE_CACHE and min(cache) == 10
