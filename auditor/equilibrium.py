@@ -296,14 +296,6 @@ class _Solution:
     sides: tuple | None = None      # the two end states when the solve stopped on a univariant transition
 
 
-def _conserved_matrix(analysis: ReactionAnalysis, n_species: int) -> np.ndarray:
-    W = np.zeros((len(analysis.conserved), n_species))
-    for i, c in enumerate(analysis.conserved):
-        for k, v in c.vector:
-            W[i, k] = float(v)
-    return W
-
-
 @dataclass
 class _Static:
     """What a case's solves and certificates share and do not change: arrays, the cantera
@@ -358,7 +350,7 @@ def _static_for(system: ChemicalSystem, analysis: ReactionAnalysis) -> _Static:
             comb[i, j] += float(c)
     elements = [i for i, e in enumerate(system.elements) if e != "charge"]
     return _Static(
-        W=_conserved_matrix(analysis, ns),
+        W=_direction_matrix([dict(c.vector) for c in analysis.conserved], ns),
         phase_of=phase_of,
         solution=np.array([len(p.species) > 1 for p in system.phases]),
         directions=directions,
@@ -628,13 +620,6 @@ class _SpecError(Exception):
     pass
 
 
-def _phase_totals(system: ChemicalSystem, n: np.ndarray) -> dict[str, float]:
-    out = {p.name: 0.0 for p in system.phases}
-    for k, s in enumerate(system.species):
-        out[s.phase] += n[k]
-    return out
-
-
 def _bracket_solve(f, lo: float, hi: float, log: bool, what: str):
     """Root of f on [lo, hi] by Brent's method (R. P. Brent, Algorithms for Minimization
     without Derivatives, 1973), scanning for a sign change first."""
@@ -657,15 +642,19 @@ def _solve_specified(case: Case, solver: _Solver, spec: SpecificationAudit) -> _
     s = case.specified
     T, P = s.temperature_K, s.pressure_Pa
     others = []   # residual functions of the solution for specifications other than T, P
+    phase_index = {p.name: i for i, p in enumerate(system.phases)}
+
+    def phase_total(n, phase):
+        return float(n @ solver.static.membership[:, phase_index[phase]])
 
     for m in s.mole_fractions:
         k = system.index_in(m.species, m.phase)
-        others.append(("mole fraction", lambda sol, k=k, m=m: sol.n[k] / max(_phase_totals(system, sol.n)[m.phase], 1e-300) - m.value))
+        others.append(("mole fraction", lambda sol, k=k, m=m: sol.n[k] / max(phase_total(sol.n, m.phase), 1e-300) - m.value))
     for r in s.ratios:
         a, b = system.index_in(r.numerator, r.phase), system.index_in(r.denominator, r.phase)
         others.append(("ratio", lambda sol, a=a, b=b, r=r: math.log(max(sol.n[a], 1e-300) / max(sol.n[b], 1e-300)) - math.log(r.value)))
     for pf in s.phase_fractions:
-        others.append(("phase fraction", lambda sol, pf=pf: _phase_totals(system, sol.n)[pf.phase] / sol.n.sum() - pf.value))
+        others.append(("phase fraction", lambda sol, pf=pf: phase_total(sol.n, pf.phase) / sol.n.sum() - pf.value))
     if s.adiabatic_feed_temperature_K is not None:
         H_feed = solver.model.enthalpy(s.adiabatic_feed_temperature_K, P if P else 101325.0, solver.n0)
         scale = max(abs(H_feed), 1e3 * solver.n0.sum())
