@@ -328,8 +328,7 @@ def _cmd_species(args) -> int:
 def _cmd_reactions(args) -> int:
     from .report.reactions import reactions_document, reactions_text
     from .stoichiometry import analyse, from_mechanism as mechanism_reactions
-    from .system import from_mechanism
-    from .system import shipped_data_file
+    from .system import from_mechanism, shipped_data_file
     path = args.mechanism if Path(args.mechanism).exists() else str(shipped_data_file(args.mechanism) or args.mechanism)
     system = from_mechanism(path, args.phase)
     analysis = analyse(system, mechanism_reactions(system))
