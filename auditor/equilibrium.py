@@ -417,8 +417,6 @@ class _Solver:
         self.candidate = candidate            # bool per species: in a phase that may form
         static = _static_for(system, analysis)
         self.static = static
-        self.W, self.phase_of, self.solution = static.W, static.phase_of, static.solution
-        self.usable_species = static.usable_species
         self.complete = analysis.complete
         self.calls = 0
         self.log: list[str] = []      # what cantera's solver printed
@@ -442,12 +440,13 @@ class _Solver:
 
     def _ours(self, T: float, P: float) -> _Solution:
         from .minimiser import minimise_gibbs
+        st = self.static
         g = self.model.g_RT(T, P)
-        idx = np.flatnonzero(self.candidate & self.usable_species)
-        phases_used = sorted(set(self.phase_of[idx]))
+        idx = np.flatnonzero(self.candidate & st.usable_species)
+        phases_used = sorted(set(st.phase_of[idx]))
         remap = {p: i for i, p in enumerate(phases_used)}
-        res = minimise_gibbs(self.W[:, idx], g[idx], np.array([remap[p] for p in self.phase_of[idx]]),
-                             self.solution[phases_used], self.W @ self.n0)
+        res = minimise_gibbs(st.W[:, idx], g[idx], np.array([remap[p] for p in st.phase_of[idx]]),
+                             st.solution[phases_used], st.W @ self.n0)
         n = np.zeros(self.system.n_species)
         n[idx] = res.moles
         return _Solution(n, T, P, "element-potential minimiser (auditor.minimiser)", bool(res.converged), res.message)
@@ -1033,9 +1032,9 @@ def _jacobian_rcond(case, system, count, spec, g_dlnT, g_dlnP, n, phase_of, tota
     their values (relative changes); derivatives are exact for the ideal phases: d ln x / d x
     = 1/x, d(mu°/RT)/d ln T = -H°/RT, d(mu°/RT)/d ln P = P V/RT; rows scaled to unit length.
     """
-    present, X, C, R, TP = _jacobian_layout(case, system, count, spec)
+    present, X, C, S, TP = _jacobian_layout(case, system, count, spec)
     x = n[present] / totals[phase_of[present]]
-    J = np.concatenate((R @ np.column_stack((g_dlnT, g_dlnP)) + TP, X * x + C), axis=1)
+    J = np.concatenate((S @ np.column_stack((g_dlnT, g_dlnP)) + TP, X * x + C), axis=1)
     norms = np.sqrt(np.einsum("ij,ij->i", J, J))
     J /= np.where(norms > 0, norms, 1.0)[:, None]
     sv = np.linalg.svd(J, compute_uv=False)
