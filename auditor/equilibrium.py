@@ -976,7 +976,7 @@ def _build_jacobian_layout(s, system, count, spec):
 
     Rows in the order of ``structure.build_incidence``: normalisations, equilibria,
     restrictions, specifications.  Columns ``ln T, ln P`` and the present mole fractions.
-    Returns (X, C, R, TP): entries multiplied by the mole fraction of their column, constant
+    Returns (present, X, C, S, TP): entries multiplied by the mole fraction of their column, constant
     entries, reaction stoichiometry over all species (for the T and P derivatives), and the
     constant T, P entries.
     """
