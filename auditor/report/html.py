@@ -6,16 +6,17 @@ from html import escape
 from ..audit import AuditResult
 from .sections import build
 
-CSS = """
-body{font-family:Georgia,serif;max-width:60em;margin:2em auto;padding:0 1em;color:#111;line-height:1.4}
-h1{font-size:1.5em;border-bottom:2px solid #333}h2{font-size:1.2em;margin-top:1.6em;border-bottom:1px solid #999}
-table{border-collapse:collapse;margin:.5em 0;font-size:.9em}td,th{border:1px solid #bbb;padding:.2em .5em;
-vertical-align:top;text-align:left}th{background:#eee}.verdict{font-size:1.3em;font-weight:bold;padding:.3em .6em;
-display:inline-block;border:2px solid #333}.well-posed{background:#dff0d8}.under-specified,.over-specified{background:#fcf8e3}
-.inconsistent,.not-confirmed{background:#f2dede}figure{margin:.5em 0}
-@media print{body{margin:0;max-width:none}h2{page-break-after:avoid}table,figure{page-break-inside:avoid}}
-"""
+from . import style
 
+_VERDICT_CSS = "".join(f".{v}{{background:{fill};border-color:{edge}}}" for v, (fill, edge) in style.VERDICT.items())
+CSS = f"""
+body{{font-family:Georgia,serif;max-width:60em;margin:2em auto;padding:0 1em;color:{style.INK};line-height:1.4}}
+h1{{font-size:1.5em;border-bottom:2px solid {style.INK}}}h2{{font-size:1.2em;margin-top:1.6em;border-bottom:1px solid {style.RULE}}}
+table{{border-collapse:collapse;margin:.5em 0;font-size:.9em}}td,th{{border:1px solid {style.RULE};padding:.2em .5em;
+vertical-align:top;text-align:left}}th{{background:{style.HEADER_FILL}}}.verdict{{font-size:1.3em;font-weight:bold;padding:.3em .6em;
+display:inline-block;border:2px solid {style.INK}}}{_VERDICT_CSS}figure{{margin:.5em 0}}
+@media print{{body{{margin:0;max-width:none}}h2{{page-break-after:avoid}}table,figure{{page-break-inside:avoid}}}}
+"""
 
 def render(r: AuditResult) -> str:
     doc, sections = build(r)

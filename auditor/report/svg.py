@@ -3,8 +3,7 @@ from __future__ import annotations
 
 from html import escape
 
-PALETTE = ("#1f77b4", "#ff7f0e", "#2ca02c", "#d62728", "#9467bd", "#8c564b", "#e377c2", "#7f7f7f",
-           "#bcbd22", "#17becf")
+from . import style
 
 
 def composition_bars(phase: str, fractions: list[tuple[str, float]], width: int = 560) -> str:
@@ -20,7 +19,7 @@ def composition_bars(phase: str, fractions: list[tuple[str, float]], width: int 
         y = 24 + i * row
         w = max(0.0, min(1.0, x)) * span
         out.append(f'<text x="{left - 6}" y="{y + 11}" text-anchor="end">{escape(name)}</text>')
-        out.append(f'<rect x="{left}" y="{y}" width="{w:.1f}" height="{row - 5}" fill="{PALETTE[i % len(PALETTE)]}"/>')
+        out.append(f'<rect x="{left}" y="{y}" width="{w:.1f}" height="{row - 5}" fill="{style.series(i)}"/>')
         out.append(f'<text x="{left + w + 4:.1f}" y="{y + 11}">{x:.4g}</text>')
     out.append("</svg>")
     return "\n".join(out)
@@ -43,14 +42,14 @@ def sparsity(rows: list[dict[int, object]], n_cols: int, independent: set[int], 
         for i, lab in enumerate(row_labels):
             out.append(f'<text x="{left - 4}" y="{top + i * cell + cell - 2}" text-anchor="end">{escape(lab)}</text>')
     for i, row in enumerate(rows):
-        colour = PALETTE[0] if i in independent else PALETTE[1]
+        colour = style.INDEPENDENT if i in independent else style.DEPENDENT
         for j, c in row.items():
             x, y = left + j * cell, top + i * cell
             fill = colour if c > 0 else "none"
             out.append(f'<rect x="{x}" y="{y}" width="{cell - 1}" height="{cell - 1}" fill="{fill}" stroke="{colour}"/>')
     ly = top + cell * n_rows + 16
-    out.append(f'<rect x="10" y="{ly - 9}" width="9" height="9" fill="{PALETTE[0]}"/><text x="23" y="{ly}">independent</text>')
-    out.append(f'<rect x="100" y="{ly - 9}" width="9" height="9" fill="{PALETTE[1]}"/><text x="113" y="{ly}">dependent</text>')
+    out.append(f'<rect x="10" y="{ly - 9}" width="9" height="9" fill="{style.INDEPENDENT}"/><text x="23" y="{ly}">independent</text>')
+    out.append(f'<rect x="100" y="{ly - 9}" width="9" height="9" fill="{style.DEPENDENT}"/><text x="113" y="{ly}">dependent</text>')
     out.append(f'<rect x="185" y="{ly - 9}" width="9" height="9" fill="none" stroke="#333"/><text x="198" y="{ly}">reactant</text>')
     out.append(f'<rect x="255" y="{ly - 9}" width="9" height="9" fill="#333"/><text x="268" y="{ly}">product</text>')
     out.append("</svg>")
@@ -81,7 +80,7 @@ def line_chart(title: str, x_label: str, xs: list[float], series: dict[str, list
     for a, b in shade:
         a, b = max(a, x0), min(b, x1)   # keep the shading inside the plot
         if b > a:
-            out.append(f'<rect x="{X(a):.1f}" y="{top}" width="{max(X(b) - X(a), 1):.1f}" height="{ph}" fill="#f3d0d0"/>')
+            out.append(f'<rect x="{X(a):.1f}" y="{top}" width="{max(X(b) - X(a), 1):.1f}" height="{ph}" fill="{style.SHADE_OUT_OF_RANGE}"/>')
     out.append(f'<rect x="{left}" y="{top}" width="{pw}" height="{ph}" fill="none" stroke="#333"/>')
     for k in range(5):
         xv = x0 + (x1 - x0) * k / 4
@@ -91,7 +90,7 @@ def line_chart(title: str, x_label: str, xs: list[float], series: dict[str, list
     out.append(f'<text x="{left + pw / 2}" y="{height - 6}" text-anchor="middle">{escape(x_label)}</text>')
     for i, (name, ys) in enumerate(series.items()):
         pts = " ".join(f"{X(x):.1f},{Y(y):.1f}" for x, y in zip(xs, ys) if y == y)
-        colour = PALETTE[i % len(PALETTE)]
+        colour = style.series(i)
         out.append(f'<polyline points="{pts}" fill="none" stroke="{colour}" stroke-width="1.5"/>')
         out.append(f'<text x="{left + pw + 8}" y="{top + 12 + 14 * i}" fill="{colour}">{escape(name)}</text>')
     out.append("</svg>")
@@ -105,7 +104,7 @@ def presence_map(title: str, xs: list[float], ys: list[float], cells: dict[tuple
     pw, ph = width - left - right, height - top - bottom
     nx, ny = max(len(xs), 1), max(len(ys), 1)
     kinds = sorted(set(cells.values()))
-    colours = {k: PALETTE[i % len(PALETTE)] for i, k in enumerate(kinds)}
+    colours = {k: style.series(i) for i, k in enumerate(kinds)}
     out = [f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" height="{height}" role="img" '
            f'aria-label="{escape(title)}" font-family="sans-serif" font-size="11">',
            f'<text x="{left}" y="16" font-weight="bold">{escape(title)}</text>']

@@ -1,0 +1,42 @@
+"""The project's own look, defined once: chart colours, verdict tints, report ink.
+
+Every renderer takes its colours from here; nothing else in the package names a colour.
+The series palette is ordered so that neighbours differ in hue and in lightness, which
+keeps the first few series apart in greyscale print too.
+"""
+from __future__ import annotations
+
+# Series colours for charts (compositions, phase-presence maps), in order of use.
+SERIES = ("#1b6f6a",  # deep teal
+          "#c07a12",  # ochre
+          "#8e3b46",  # brick
+          "#5b4a8b",  # dusk violet
+          "#4f6d2f",  # moss
+          "#2f5d8a",  # harbour blue
+          "#a35d2e",  # rust
+          "#6b6f73",  # slate grey
+          "#b39b2d",  # mustard
+          "#3c8d93")  # sea green
+
+INDEPENDENT = SERIES[0]        # reaction kept as independent
+DEPENDENT = SERIES[1]          # reaction that is a combination of the kept ones
+SHADE_OUT_OF_RANGE = "#ecd9cf"  # band where thermo data are extrapolated
+
+INK = "#1d232a"                # body text
+RULE = "#8a9099"               # table and heading rules
+HEADER_FILL = "#e8ebe4"        # table header cells
+GRID = "#d5d9de"               # chart gridlines
+
+# Verdict box: (fill, border) per verdict.
+VERDICT = {
+    "well-posed": ("#e2eee4", "#2f6b45"),
+    "under-specified": ("#f5ecd7", "#9a6a12"),
+    "over-specified": ("#f5ecd7", "#9a6a12"),
+    "inconsistent": ("#f2e0db", "#8e3b46"),
+    "not-confirmed": ("#f2e0db", "#8e3b46"),
+}
+
+
+def series(i: int) -> str:
+    """Colour of series ``i`` (0-based), cycling through ``SERIES``."""
+    return SERIES[i % len(SERIES)]
