@@ -5,20 +5,22 @@ it collects every problem in a file before raising one :class:`CaseError`.  Only
 YAML is read; file size, nesting depth and node count (alias expansion included) are
 capped by the named limits in :mod:`auditor.settings`.
 
-Units are parsed with pint (K, degC, degF, Pa, kPa, bar, atm, psi; mol, kmol, lbmol).
+Units are parsed by :mod:`auditor.units` (pint's definitions: K, degC, degF, Pa, kPa, bar, atm,
+psi; mol, kmol, lbmol; feed amounts also in mass units, kg, t, lb, converted to moles with
+each species' molar mass once the species are known: :func:`feed_moles`).  The text of every
+feed amount and specification is kept as written (``Case.as_written``) for reports.
 """
 from __future__ import annotations
 
 import difflib
 import functools
 import math
-import re
 from dataclasses import dataclass, field
 from fractions import Fraction
 from pathlib import Path
 from typing import Any, Mapping
 
-from . import settings
+from . import settings, units
 from .errors import CaseError, InputError, LimitError, Problem
 from .system import shipped_data_file
 
@@ -97,12 +99,18 @@ class Case:
     title: str
     system: SystemSpec
     reactions: str | tuple[tuple[str, str], ...]   # "complete", "from-mechanism", or (equation, key path)
-    feed: tuple[tuple[str, Fraction], ...] | None  # species label -> mol, exact as written
+    # species label -> amount, exact as written: mol, or kg for the species in feed_mass
+    # (moles need the molar mass: use feed_moles(case, system))
+    feed: tuple[tuple[str, Fraction], ...] | None
     coexisting: tuple[str, ...] | None
     specified: Specified
     restrictions: tuple[DeclaredRestriction, ...]
     claims: tuple[tuple[str, Any], ...]
     lines: Mapping[str, int] = field(default_factory=dict, compare=False)  # key path -> line (1-based)
+    feed_mass: frozenset[str] = frozenset()     # feed species given in a mass unit (amount in kg)
+    # key path -> the text exactly as the user wrote it, for every feed amount and specification
+    # ("feed.CH4": "2 kmol", "specified.temperature": "850 degC"), so reports can show inputs as entered
+    as_written: Mapping[str, str] = field(default_factory=dict, compare=False)
 
     def line(self, key_path: str) -> int | None:
         return self.lines.get(key_path)
@@ -110,75 +118,23 @@ class Case:
 
 # ------------------------------------------------------------------ units
 
-@functools.lru_cache(maxsize=1)
-def _units():
-    import pint
-    ureg = pint.UnitRegistry()
-    ureg.define("lbmol = 453.59237 * mol = lb_mol = pound_mole")
-    return ureg
-
-
-_NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?|[-+]?(?:inf|nan))\s*(.*?)\s*$",
-                          re.IGNORECASE)
-DIMENSIONS = {"temperature": ("[temperature]", "K"), "pressure": ("[pressure]", "Pa"),
-              "amount": ("[substance]", "mol")}
-
-
 def parse_quantity(value: Any, kind: str) -> float:
-    """SI value of ``value`` (a number in the default unit, or ``"850 degC"``).
+    """SI value of ``value`` (a number in the default unit, or ``"850 degC"``); see :mod:`auditor.units`.
 
     Raises ValueError with a message naming what was expected.
     """
-    dim, si = DIMENSIONS[kind]
-    default = {"temperature": "K", "pressure": "Pa", "amount": "mol"}[kind]
-    if isinstance(value, bool) or value is None:
-        raise ValueError(f"expected a {kind} such as {_example(kind)}, got {value!r}")
-    if isinstance(value, (int, float)):
-        try:
-            number, unit = float(value), default
-        except OverflowError:
-            raise ValueError(f"{kind} {value!r} is too large a number") from None
-    elif isinstance(value, str):
-        m = _NUMBER_UNIT.match(value)
-        if not m:
-            raise ValueError(f"expected a {kind} such as {_example(kind)}, got {value!r}")
-        number, unit = float(m.group(1)), (m.group(2) or default)
-    else:
-        raise ValueError(f"expected a {kind} such as {_example(kind)}, got {_kind(value)}")
-    if not math.isfinite(number):
-        raise ValueError(f"{kind} must be a finite number, got {value!r}")
-    ureg = _units()
-    try:
-        q = ureg.Quantity(number, unit)
-        if not q.check(dim):
-            raise ValueError(f"unit {unit!r} is not a unit of {kind} (expected e.g. {_example(kind)})")
-        result = float(q.to(si).magnitude)
-        if not math.isfinite(result):
-            raise ValueError(f"{kind} {value!r} is too large: it overflows when converted to {si}")
-        return result
-    except ValueError:
-        raise
-    except Exception as exc:  # pint's own errors: undefined unit, syntax
-        raise ValueError(f"cannot read unit {unit!r} of {kind}: {exc}") from None
+    return units.parse(value, kind).si
 
 
-def parse_amount(value: Any) -> "Fraction":
+def parse_amount(value: Any) -> Fraction:
     """Exact amount in mol: the decimal as written times the exact unit factor
     (``0.1 lbmol`` is exactly 45.359237 mol, so ratios of feed amounts survive conversion)."""
-    from fractions import Fraction
-    si = parse_quantity(value, "amount")
-    if isinstance(value, (int, float)):
-        return Fraction(repr(float(value))) if isinstance(value, float) else Fraction(value)
-    m = _NUMBER_UNIT.match(value)
-    number, unit = m.group(1), (m.group(2) or "mol")
-    factor = _units().Quantity(1.0, unit).to("mol").magnitude
-    exact = Fraction(number) * Fraction(repr(float(factor)))
-    return exact if abs(float(exact) - si) <= 1e-12 * max(abs(si), 1.0) else Fraction(repr(si))
+    q = units.parse(value, "amount")
+    return _exact(q)
 
 
-def _example(kind: str) -> str:
-    return {"temperature": "'850 degC' or 1123.15 (K)", "pressure": "'25 bar' or 101325 (Pa)",
-            "amount": "'2 kmol' or 1.5 (mol)"}[kind]
+def _exact(q: units.Quantity) -> Fraction:
+    return q.exact if q.exact is not None else Fraction(repr(q.si))
 
 
 # ------------------------------------------------------------------ YAML with lines
@@ -190,6 +146,7 @@ class _Reader:
         self.file = file
         self.problems: list[Problem] = []
         self.lines: dict[str, int] = {}
+        self.texts: dict[str, str] = {}     # key path -> scalar text as written
         self.count = 0
 
     def problem(self, node, key_path: str, message: str):
@@ -199,6 +156,8 @@ class _Reader:
 
     def note(self, node, key_path: str):
         self.lines[key_path] = node.start_mark.line + 1
+        if node.id == "scalar":
+            self.texts[key_path] = node.value
 
     def plain(self, node, key_path: str, depth: int = 0, names: bool = False):
         """Python value of a node (aliases expanded, with the node budget enforced)."""
@@ -323,8 +282,19 @@ VERDICTS = ("well-posed", "under-specified", "over-specified", "inconsistent", "
 
 
 def _suggest(word: str, options) -> str:
-    hit = difflib.get_close_matches(word, list(options), n=1, cutoff=0.5)
+    hit = _ranked(word, options, n=1, cutoff=0.5)
     return f"; did you mean {hit[0]!r}?" if hit else f"; expected one of: {', '.join(options)}"
+
+
+def _ranked(word: str, options, n: int = 4, cutoff: float = 0.6) -> list[str]:
+    """Names closest to ``word``, best first (difflib's similarity ratio; letter case counts
+    only to break ties, so 'h2o' finds 'H2O' before 'H2')."""
+    scored = []
+    for o in dict.fromkeys(options):
+        folded = difflib.SequenceMatcher(None, word.upper(), o.upper()).ratio()
+        if folded >= cutoff:
+            scored.append((-folded, -difflib.SequenceMatcher(None, word, o).ratio(), o))
+    return [o for *_, o in sorted(scored)[:n]]
 
 
 def load_case(path: str | Path) -> Case:
@@ -532,6 +502,7 @@ def load_case(path: str | Path) -> Case:
 
     # feed
     feed = None
+    feed_mass: set[str] = set()
     fnode = get(top, "feed")
     if fnode is not None:
         fm = want_mapping(fnode, "feed")
@@ -541,14 +512,17 @@ def load_case(path: str | Path) -> Case:
                 kp = f"feed.{sp}"
                 v = value_of(vn, kp)
                 try:
-                    amount = parse_amount(v)
+                    q = units.parse(v, ("amount", "mass"))
                 except ValueError as exc:
                     rd.problem(vn, kp, str(exc))
                     continue
+                amount = _exact(q)
                 if amount < 0:
                     rd.problem(vn, kp, f"feed amount must not be negative, got {_kind(v)}")
                     continue
                 items.append((sp, amount))
+                if q.kind == "mass":
+                    feed_mass.add(sp)
             if fm and items and all(a == 0 for _, a in items):
                 rd.problem(fnode, "feed", "the feed is empty (every amount is zero)")
             feed = tuple(items)
@@ -695,7 +669,8 @@ def load_case(path: str | Path) -> Case:
 
     case = Case(path=path, title=title, system=system_spec, reactions=reactions, feed=feed,
                 coexisting=coexisting, specified=spec, restrictions=tuple(restrictions),
-                claims=tuple(claims), lines=dict(rd.lines))
+                claims=tuple(claims), lines=dict(rd.lines), feed_mass=frozenset(feed_mass),
+                as_written={kp: t for kp, t in rd.texts.items() if kp.startswith(("feed.", "specified."))})
     if rd.problems:
         # report the names that do not exist together with the structural problems, when the
         # system part itself is usable
@@ -780,7 +755,7 @@ def check_names(case: Case, system) -> None:
         else:
             known, where = list(system.labels), "any phase"
         if not hits:
-            problems.append(Problem(file, unknown_name_message("species", name, known, where), kp, case.line(kp)))
+            problems.append(Problem(file, _unknown_species(name, known, where), kp, case.line(kp)))
         elif len(hits) > 1:
             problems.append(Problem(file, f"species {name!r} is in several phases; write one of "
                                     + ", ".join(system.labels[h] for h in hits), kp, case.line(kp)))
@@ -829,13 +804,36 @@ def check_names(case: Case, system) -> None:
             problems.append(Problem(file, "same-composition names a phase that 'coexisting' assumes absent "
                                     f"(coexisting: {', '.join(sorted(assumed))})", kp, case.line(kp)))
     if case.feed and not problems:
-        q = sum((system.species[system.find(sp)[0]].charge * Fraction(a) for sp, a in case.feed), Fraction(0))
+        q = sum((system.species[system.find(sp)[0]].charge * a for sp, a in feed_moles(case, system)), Fraction(0))
         if q != 0:
             problems.append(Problem(file, f"the feed carries a net charge of {float(q):g} mol of elementary charge; "
                                     "every phase is electrically neutral: add counter-ions or electrons",
                                     "feed", case.line("feed")))
     if problems:
         raise CaseError(problems)
+
+
+def _unknown_species(name: str, known, where: str) -> str:
+    """'unknown species' with the closest name first, as a question, then the next closest."""
+    ranked = _ranked(name, known)
+    if not ranked:
+        return f"unknown species {name!r} in {where}"
+    more = f" (other close names: {', '.join(ranked[1:])})" if len(ranked) > 1 else ""
+    return f"unknown species {name!r} in {where}; did you mean {ranked[0]!r}?{more}"
+
+
+def feed_moles(case: Case, system) -> tuple[tuple[str, Fraction], ...] | None:
+    """The feed in mol: amounts given in a mass unit divided by the species' molar mass
+    (cantera's ``molecular_weight``, kg/kmol, taken as the exact decimal it prints)."""
+    if case.feed is None or not case.feed_mass:
+        return case.feed
+    out = []
+    for sp, amount in case.feed:
+        if sp in case.feed_mass:
+            molar_mass = system.species[system.find(sp)[0]].molar_mass   # kg/kmol = g/mol
+            amount = amount * 1000 / Fraction(repr(molar_mass))          # kg -> g, / (g/mol)
+        out.append((sp, amount))
+    return tuple(out)
 
 
 def _formula_key(species) -> tuple:

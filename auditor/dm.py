@@ -39,12 +39,13 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-import scipy.sparse as sp
-from scipy.sparse.csgraph import (
-    breadth_first_order,
-    connected_components,
-    maximum_bipartite_matching,
-)
+
+from . import settings
+
+# scipy (sparse matrices, csgraph) is imported only for patterns larger than
+# settings.DM_PLAIN_PYTHON_MAX_ENTRIES: a case's incidence is decomposed in plain Python
+# by the same method (augmenting-path matching, alternating searches, strong components),
+# which costs less than importing scipy.
 
 __all__ = ["DMDecomposition", "dulmage_mendelsohn"]
 
@@ -80,8 +81,26 @@ class DMDecomposition:
         return len(self.matching)
 
 
-def _as_pattern(incidence: Any, n_rows: int | None, n_cols: int | None) -> sp.csr_matrix:
+def _pairs(incidence: Any, n_rows: int, n_cols: int) -> tuple[np.ndarray, np.ndarray]:
+    """Validated (rows, cols) of a list of pairs (duplicates kept)."""
+    if n_rows < 0 or n_cols < 0:
+        raise ValueError("n_rows and n_cols must be non-negative")
+    pairs = np.asarray(list(incidence) if not isinstance(incidence, np.ndarray) else incidence)
+    if pairs.size == 0:
+        pairs = np.empty((0, 2), dtype=np.int64)
+    if pairs.ndim != 2 or pairs.shape[1] != 2:
+        raise ValueError("incidence must be an iterable of (row, col) pairs")
+    if not np.issubdtype(pairs.dtype, np.integer):
+        raise ValueError("row and column indices must be integers")
+    rows, cols = pairs[:, 0].astype(np.int64), pairs[:, 1].astype(np.int64)
+    if rows.size and (rows.min() < 0 or rows.max() >= n_rows or cols.min() < 0 or cols.max() >= n_cols):
+        raise ValueError("a (row, col) pair is out of range")
+    return rows, cols
+
+
+def _as_pattern(incidence: Any, n_rows: int | None, n_cols: int | None):
     """Return the 0/1 pattern of ``incidence`` as canonical CSR (sorted, no duplicates)."""
+    import scipy.sparse as sp
     if sp.issparse(incidence) or (n_rows is None and n_cols is None):
         a = sp.csr_matrix(incidence)
         if a.ndim != 2:  # pragma: no cover - csr_matrix always yields 2-D
@@ -97,18 +116,7 @@ def _as_pattern(incidence: Any, n_rows: int | None, n_cols: int | None) -> sp.cs
     else:
         if n_rows is None or n_cols is None:
             raise ValueError("both n_rows and n_cols are needed for a list of (row, col) pairs")
-        if n_rows < 0 or n_cols < 0:
-            raise ValueError("n_rows and n_cols must be non-negative")
-        pairs = np.asarray(list(incidence) if not isinstance(incidence, np.ndarray) else incidence)
-        if pairs.size == 0:
-            pairs = np.empty((0, 2), dtype=np.int64)
-        if pairs.ndim != 2 or pairs.shape[1] != 2:
-            raise ValueError("incidence must be an iterable of (row, col) pairs")
-        if not np.issubdtype(pairs.dtype, np.integer):
-            raise ValueError("row and column indices must be integers")
-        rows, cols = pairs[:, 0].astype(np.int64), pairs[:, 1].astype(np.int64)
-        if rows.size and (rows.min() < 0 or rows.max() >= n_rows or cols.min() < 0 or cols.max() >= n_cols):
-            raise ValueError("a (row, col) pair is out of range")
+        rows, cols = _pairs(incidence, n_rows, n_cols)
         a = sp.csr_matrix(
             (np.ones(rows.size, dtype=np.int8), (rows, cols)), shape=(n_rows, n_cols)
         )
@@ -122,6 +130,8 @@ def _as_pattern(incidence: Any, n_rows: int | None, n_cols: int | None) -> sp.cs
 
 def _reach(succ_src: np.ndarray, succ_dst: np.ndarray, n: int, starts: np.ndarray) -> np.ndarray:
     """Boolean mask of the nodes ``0..n-1`` reachable from ``starts`` along the given arcs."""
+    import scipy.sparse as sp
+    from scipy.sparse.csgraph import breadth_first_order
     reached = np.zeros(n, dtype=bool)
     if starts.size == 0:
         return reached
@@ -145,6 +155,8 @@ def _ordered_blocks(
     """
     if k == 0:
         return []
+    import scipy.sparse as sp
+    from scipy.sparse.csgraph import connected_components
     g = sp.csr_matrix((np.ones(src.size, dtype=np.int8), (src, dst)), shape=(k, k))
     n_comp, label = connected_components(g, directed=True, connection="strong")
     members = np.argsort(label, kind="stable")  # nodes grouped by label, ascending within
@@ -201,6 +213,12 @@ def dulmage_mendelsohn(
         Coarse parts, one maximum matching and the block triangular fine
         decomposition of the square part.
     """
+    small = not _is_sparse(incidence) and n_rows is not None and n_cols is not None
+    if small:
+        rows, cols = _pairs(incidence, n_rows, n_cols)
+        if rows.size <= settings.DM_PLAIN_PYTHON_MAX_ENTRIES:
+            return _plain(n_rows, n_cols, rows.tolist(), cols.tolist())
+    from scipy.sparse.csgraph import maximum_bipartite_matching
     a = _as_pattern(incidence, n_rows, n_cols)
     m, n = a.shape
     rows = np.repeat(np.arange(m), np.diff(a.indptr))  # row of every stored entry
@@ -260,3 +278,157 @@ def dulmage_mendelsohn(
         under_cols=_tup(under_c),
         blocks=tuple(blocks),
     )
+
+
+def _is_sparse(x) -> bool:
+    """A scipy sparse matrix or array, told without importing scipy."""
+    return type(x).__module__.startswith("scipy.sparse")
+
+
+def _plain(m: int, n: int, rows: list[int], cols: list[int]) -> DMDecomposition:
+    """The decomposition of :func:`dulmage_mendelsohn` in plain Python, for small patterns.
+
+    The same steps on adjacency lists: a maximum matching by augmenting paths (Kuhn's
+    method, breadth-first; O(rows * entries), small here), the two alternating searches,
+    and strong components of the square part (Kosaraju, iterative) ordered by Kahn's
+    algorithm with the smallest row first among ready blocks.  The coarse parts and the
+    blocks do not depend on the matching, so both paths give the same parts.
+    """
+    adj: list[list[int]] = [[] for _ in range(m)]
+    for r, c in sorted(set(zip(rows, cols))):
+        adj[r].append(c)
+    radj: list[list[int]] = [[] for _ in range(n)]
+    for r in range(m):
+        for c in adj[r]:
+            radj[c].append(r)
+    col_of_row, row_of_col = [-1] * m, [-1] * n
+    for start in range(m):
+        # breadth-first search for an augmenting path from an unmatched row
+        parent: dict[int, int] = {}
+        queue, i, done = [start], 0, False
+        while i < len(queue) and not done:
+            u = queue[i]
+            i += 1
+            for c in adj[u]:
+                if c in parent:
+                    continue
+                parent[c] = u
+                if row_of_col[c] < 0:
+                    while True:          # flip the path back to the start row
+                        r = parent[c]
+                        prev = col_of_row[r]
+                        col_of_row[r], row_of_col[c] = c, r
+                        if r == start:
+                            break
+                        c = prev
+                    done = True
+                    break
+                queue.append(row_of_col[c])
+
+    def reach(starts, step) -> list[bool]:
+        seen = [False] * (m if step is adj else n)
+        stack = list(starts)
+        for s in stack:
+            seen[s] = True
+        while stack:
+            v = stack.pop()
+            for w in step[v]:
+                nxt = row_of_col[w] if step is adj else col_of_row[w]
+                if not seen[nxt]:
+                    seen[nxt] = True
+                    stack.append(nxt)
+        return seen
+
+    # over part: from unmatched rows, row -> any column -> its matched row (see the scipy path)
+    over_r = reach([r for r in range(m) if col_of_row[r] < 0], adj)
+    over_c = [False] * n
+    for r in range(m):
+        if over_r[r]:
+            for c in adj[r]:
+                over_c[c] = True
+    # under part: from unmatched columns, column -> any row -> its matched column
+    under_c = reach([c for c in range(n) if row_of_col[c] < 0], radj)
+    under_r = [False] * m
+    for c in range(n):
+        if under_c[c]:
+            for r in radj[c]:
+                under_r[r] = True
+    sq_r = [not (a or b) for a, b in zip(over_r, under_r)]
+    sq_c = [not (a or b) for a, b in zip(over_c, under_c)]
+    sq_rows = [r for r in range(m) if sq_r[r]]
+    local = {r: i for i, r in enumerate(sq_rows)}
+    succ = [sorted({local[row_of_col[c]] for c in adj[r] if sq_c[c]}) for r in sq_rows]
+    blocks = []
+    for grp in _plain_ordered_blocks(succ):
+        b_rows = [sq_rows[i] for i in grp]
+        blocks.append((tuple(b_rows), tuple(sorted(col_of_row[r] for r in b_rows))))
+
+    def tup(mask):
+        return tuple(i for i, x in enumerate(mask) if x)
+
+    return DMDecomposition(
+        matching=tuple((r, col_of_row[r]) for r in range(m) if col_of_row[r] >= 0),
+        over_rows=tup(over_r), over_cols=tup(over_c), square_rows=tup(sq_r), square_cols=tup(sq_c),
+        under_rows=tup(under_r), under_cols=tup(under_c), blocks=tuple(blocks))
+
+
+def _plain_ordered_blocks(succ: list[list[int]]) -> list[list[int]]:
+    """Strong components of a digraph (``succ[u]``: the nodes u needs), dependencies first,
+    ties by the smallest node: the order of :func:`_ordered_blocks`."""
+    k = len(succ)
+    order, seen = [], [False] * k
+    for s in range(k):             # Kosaraju, first pass: finishing order
+        if seen[s]:
+            continue
+        seen[s] = True
+        stack = [(s, iter(succ[s]))]
+        while stack:
+            v, it = stack[-1]
+            for w in it:
+                if not seen[w]:
+                    seen[w] = True
+                    stack.append((w, iter(succ[w])))
+                    break
+            else:
+                stack.pop()
+                order.append(v)
+    pred: list[list[int]] = [[] for _ in range(k)]
+    for v in range(k):
+        for w in succ[v]:
+            pred[w].append(v)
+    label, n_comp = [-1] * k, 0
+    for s in reversed(order):      # second pass on the reversed graph
+        if label[s] >= 0:
+            continue
+        label[s] = n_comp
+        stack = [s]
+        while stack:
+            v = stack.pop()
+            for w in pred[v]:
+                if label[w] < 0:
+                    label[w] = n_comp
+                    stack.append(w)
+        n_comp += 1
+    groups: list[list[int]] = [[] for _ in range(n_comp)]
+    for v in range(k):
+        groups[label[v]].append(v)
+    # condensation arcs: a node's component comes after the components of what it needs
+    after: list[set[int]] = [set() for _ in range(n_comp)]
+    indeg = [0] * n_comp
+    for u in range(k):
+        for v in succ[u]:
+            a, b = label[v], label[u]
+            if a != b and b not in after[a]:
+                after[a].add(b)
+                indeg[b] += 1
+    heap = [(groups[c][0], c) for c in range(n_comp) if indeg[c] == 0]
+    heapq.heapify(heap)
+    out = []
+    while heap:
+        _, c = heapq.heappop(heap)
+        out.append(groups[c])
+        for d in after[c]:
+            indeg[d] -= 1
+            if indeg[d] == 0:
+                heapq.heappush(heap, (groups[d][0], d))
+    return out

@@ -37,7 +37,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from . import settings
-from .case import Case
+from .case import Case, feed_moles
 from .cache import by_identity, remember
 from .findings import Finding
 from .phase_rule import PhaseRuleCount
@@ -557,7 +557,7 @@ def _absent_driving_forces(static: _Static, model_g, lam, free, phase_present, c
 
 def _feed_vector(case: Case, system: ChemicalSystem) -> np.ndarray:
     n0 = np.zeros(system.n_species)
-    for name, amount in case.feed or ():
+    for name, amount in feed_moles(case, system) or ():
         n0[system.find(name)[0]] += float(amount)
     return n0
 

@@ -26,7 +26,7 @@ from fractions import Fraction
 from typing import Sequence
 
 from . import exact
-from .case import Case, matching_species
+from .case import Case, feed_moles, matching_species
 from .stoichiometry import ReactionAnalysis, Reaction, basis_within, format_equation
 from .system import ChemicalSystem
 
@@ -133,7 +133,7 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
     labels = system.labels
     coexisting = case.coexisting or tuple(p.name for p in system.phases)
     n0: dict[int, Fraction] = {}
-    for name, amount in case.feed or ():
+    for name, amount in feed_moles(case, system) or ():
         k = system.find(name)[0]
         n0[k] = n0.get(k, Fraction(0)) + _exact_amount(amount)
     # with a feed, a species that a one-signed conserved quantity of zero feed value contains

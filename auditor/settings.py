@@ -42,6 +42,11 @@ MAX_CASE_PHASES = 50
 MAX_CASE_REACTIONS = 10_000
 MINIMISATION_WALL_SECONDS = 60.0
 
+# Dulmage-Mendelsohn of a pattern with at most this many entries runs in plain Python (a
+# case's incidence has tens); larger ones use scipy's compiled matching, whose import costs
+# more than a whole small decomposition (auditor/dm.py; tests/test_dm.py checks both agree)
+DM_PLAIN_PYTHON_MAX_ENTRIES = 5_000
+
 TOLERANCES = {
     "coefficient_tolerance": COEFFICIENT_TOLERANCE,
     "coefficient_max_denominator": COEFFICIENT_MAX_DENOMINATOR,

@@ -78,6 +78,7 @@ class SpeciesDef:
     t_min: float         # thermo data validity range, K
     t_max: float
     database: str        # file the species definition came from
+    molar_mass: float = float("nan")   # kg/kmol (g/mol), cantera's molecular_weight
 
 
 @dataclass(frozen=True)
@@ -215,7 +216,8 @@ def _assemble(source: str, raw: list[tuple[str, str, bool, list]], reactions=(),
             formula, charge = _formula_and_charge(sp, source)
             label = sp.name if counts[sp.name] == 1 else f"{sp.name}[{pname}]"
             t_min, t_max = _thermo_range(sp)
-            species.append(SpeciesDef(sp.name, pname, label, formula, charge, t_min, t_max, source))
+            species.append(SpeciesDef(sp.name, pname, label, formula, charge, t_min, t_max, source,
+                                      float(sp.molecular_weight)))
             labels.append(label)
             for e in formula:
                 if e not in elements:

@@ -522,3 +522,19 @@ def test_fine_blocks(p, rnd) -> None:
     assert (d2.under_rows, d2.under_cols) == (R(d.under_rows), C(d.under_cols))
     assert set(d2.blocks) == {(R(br), C(bc)) for br, bc in d.blocks}
     assert d2.structural_rank == d.structural_rank
+
+
+@PROPERTY
+@given(patterns())
+def test_plain_python_path_agrees_with_scipy(p) -> None:
+    """A list of pairs no larger than settings.DM_PLAIN_PYTHON_MAX_ENTRIES is decomposed in
+    plain Python; the parts and blocks do not depend on the matching (Dulmage & Mendelsohn,
+    1958), so they must equal those of scipy's path on the same pattern."""
+    m, n, entries = p
+    plain_found = dulmage_mendelsohn(sorted(entries), n_rows=m, n_cols=n)
+    scipy_found = dulmage_mendelsohn(_matrix(m, n, entries))
+    for part in ("over_rows", "over_cols", "square_rows", "square_cols", "under_rows", "under_cols", "blocks"):
+        assert getattr(plain_found, part) == getattr(scipy_found, part), part
+    assert set(plain_found.matching) <= entries
+    assert len({r for r, _ in plain_found.matching}) == len({c for _, c in plain_found.matching})
+    assert plain_found.structural_rank == scipy_found.structural_rank == _scipy_rank(m, n, entries)
