@@ -224,9 +224,14 @@ def table_from_pint() -> dict:
             "pint": pint.__version__, "units": units}
 
 
-if __name__ == "__main__":
+def write_table() -> Path:
+    """Write ``data/units.json`` from pint (``python -m auditor.units``)."""
     t = table_from_pint()
     rows = ",\n".join(f"  {json.dumps(k, ensure_ascii=False)}: {json.dumps(v)}" for k, v in t.pop("units").items())
     head = json.dumps(t, ensure_ascii=False)[:-1]
     TABLE.write_text(f"{head}, \"units\": {{\n{rows}\n}}}}\n", encoding="utf-8")
-    print(f"wrote {TABLE}")
+    return TABLE
+
+
+if __name__ == "__main__":
+    write_table()
