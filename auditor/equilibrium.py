@@ -718,14 +718,16 @@ def _on_transition(solver, resid, x, T, P):
 
 def _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0) -> EquilibriumCheck:
     static = solver.static
-    if not np.isfinite(sol.n).all():
-        raise _SpecError("the minimisation returned amounts that are not finite numbers")
     n = np.maximum(sol.n, 0.0)
+    # a finite sum proves every amount finite (one reduction instead of a mask); otherwise look
+    if not math.isfinite(float(n.sum())) and not np.isfinite(sol.n).all():
+        raise _SpecError("the minimisation returned amounts that are not finite numbers")
     T, P = sol.T, sol.P
     phase_of = static.phase_of
     totals = n @ static.membership
-    phase_present = totals > settings.PHASE_PRESENCE_FRACTION * max(totals.sum(), 1e-300)
-    present_names = tuple(p.name for p, pr in zip(system.phases, phase_present) if pr)
+    phase_present = totals > settings.PHASE_PRESENCE_FRACTION * max(float(totals.sum()), 1e-300)
+    present_names = tuple(p.name for p, pr in zip(system.phases, phase_present.tolist()) if pr)
+    x_all = _mole_fractions(n, phase_of, totals)
 
     # balance of every conserved quantity (elements, charge, extra frozen quantities)
     W = static.W
@@ -744,7 +746,8 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
 
     drive = _absent_driving_forces(static, g, lam, ps.free, phase_present, solver.candidate)
     drive_named = tuple((system.phases[p].name, d) for p, d in sorted(drive.items()))
-    unique, starts, unique_basis, amount_rcond = _uniqueness(static, solver, sol, n, totals, phase_present, drive)
+    unique, starts, unique_basis, amount_rcond = _uniqueness(static, solver, sol, n, totals, phase_present, drive,
+                                                             x_all)
 
     # ln K additivity of dependent reactions
     lnk_err = None
@@ -821,9 +824,9 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     findings.extend(model.density_notes)
 
     phases_out = []
+    x_list = x_all.tolist()                 # zero in an empty phase (_mole_fractions)
     for p, idx, labels, tot in zip(system.phases, static.phase_species, static.phase_labels, totals.tolist()):
-        xs = (n[idx] / tot).tolist() if tot > 0 else [0.0] * len(idx)
-        phases_out.append(PhaseState(p.name, tot, tuple(zip(labels, xs))))
+        phases_out.append(PhaseState(p.name, tot, tuple(zip(labels, (x_list[k] for k in idx.tolist())))))
     return EquilibriumCheck(
         solved=True, converged=sol.converged, solver=sol.solver, temperature_K=float(T), pressure_Pa=float(P),
         phases=tuple(phases_out), phases_present=present_names, max_affinity_RT=max_aff,
@@ -840,27 +843,35 @@ def _phase_amount_rcond(static: _Static, n: np.ndarray, phase_present: np.ndarra
     quantities held by each present phase (columns scaled to unit length).  Zero when the
     columns are dependent: then material can shift between the phases at fixed
     compositions, the conserved quantities unchanged."""
-    k = int(phase_present.sum())
+    present = np.flatnonzero(phase_present)
+    k = present.size
     if k == 0:
         return 1.0
-    cols = (static.W * n) @ static.membership[:, phase_present]
+    cols = (static.W * n) @ static.membership[:, present]
     if k == 1:
         return 1.0 if cols.any() else 0.0
+    if k == 2:
+        # unit columns u, v: singular values sqrt(1 +- |u.v|), in ratio |u - v| / |u + v|
+        # (the smaller over the larger), free of the cancellation in 1 - |u.v|
+        u, v = cols[:, 0], cols[:, 1]
+        nu, nv = math.sqrt(float(u @ u)), math.sqrt(float(v @ v))
+        if nu == 0.0 or nv == 0.0 or k > cols.shape[0]:
+            return 0.0
+        u, v = u / nu, v / nv
+        d, e = u - v, u + v
+        a, b = math.sqrt(float(d @ d)), math.sqrt(float(e @ e))
+        return float(min(a, b) / max(a, b))
     norms = np.sqrt(np.einsum("ij,ij->j", cols, cols))
     if not norms.all() or k > cols.shape[0]:
         return 0.0
     cols = cols / norms
-    if k == 2:
-        # unit columns u, v: singular values sqrt(1 +- |u.v|), in ratio |u - v| / |u + v|
-        # (the smaller over the larger), free of the cancellation in 1 - |u.v|
-        a, b = np.linalg.norm(cols[:, 0] - cols[:, 1]), np.linalg.norm(cols[:, 0] + cols[:, 1])
-        return float(min(a, b) / max(a, b))
     s = np.linalg.svd(cols, compute_uv=False)
     return float(s[-1] / s[0])
 
 
 def _uniqueness(static: _Static, solver, sol: _Solution, n: np.ndarray, totals: np.ndarray,
-                phase_present: np.ndarray, drive: dict) -> tuple[bool, int, str, float | None]:
+                phase_present: np.ndarray, drive: dict, x_ref: np.ndarray | None = None
+                ) -> tuple[bool, int, str, float | None]:
     """Is the equilibrium state unique?  Returns (unique, starts, how it was decided, the
     phase-amount condition number or None).
 
@@ -888,7 +899,8 @@ def _uniqueness(static: _Static, solver, sol: _Solution, n: np.ndarray, totals: 
     starts, unique = 1, True
     if cantera and static.directions.shape[0]:
         phase_of = static.phase_of
-        x_ref = _mole_fractions(n, phase_of, totals)
+        if x_ref is None:
+            x_ref = _mole_fractions(n, phase_of, totals)
         for trial in range(1 if proved else RESTARTS):
             start = _perturbed_start(n if trial == 0 else solver.n0, *static.trial_directions[trial])
             if start is None:
