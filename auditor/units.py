@@ -88,8 +88,11 @@ class Quantity:
     exact: Fraction | None
 
 
-def example(kind: str) -> str:
-    return KINDS[kind][3]
+def example(kind: str | tuple[str, ...]) -> str:
+    """How a value of this kind (or of these kinds) is written, for messages."""
+    if kind == ("amount", "mass"):
+        return "'2 kmol', '10 kg' or 1.5 (mol)"
+    return KINDS[kind if isinstance(kind, str) else kind[0]][3]
 
 
 def _what(value) -> str:
@@ -143,7 +146,7 @@ def parse(value: Any, kinds: tuple[str, ...] | str) -> Quantity:
     if hit is not None:
         kind, scale, offset = hit
         if kind not in kinds:
-            raise ValueError(f"unit {unit!r} is not a unit of {what} (expected e.g. {example(kinds[0])})")
+            raise ValueError(f"unit {unit!r} is not a unit of {what} (expected e.g. {example(kinds)})")
         si = number * float(scale) + float(offset) if offset else number * float(scale)
         exact = None if offset else Fraction(number_text) * scale if _finite_text(number_text) else None
     else:
@@ -186,7 +189,7 @@ def _with_pint(number: float, unit: str, kinds: tuple[str, ...], what: str) -> t
                 return kind, float(q.to(KINDS[kind][1]).magnitude)
     except Exception as exc:  # pint's own errors: undefined unit, syntax, offset arithmetic
         raise ValueError(f"cannot read unit {unit!r} of {what}: {exc}") from None
-    raise ValueError(f"unit {unit!r} is not a unit of {what} (expected e.g. {example(kinds[0])})")
+    raise ValueError(f"unit {unit!r} is not a unit of {what} (expected e.g. {example(kinds)})")
 
 
 @functools.lru_cache(maxsize=1)

@@ -157,6 +157,9 @@ ROWS = {
                                 "cannot read unit 'MPA' of pressure; did you mean 2 MPa?"),
     "pressure-gauge": Row(SYS + "specified:\n  pressure: 24 barg\n", "specified.pressure", 6,
                           "cannot read unit 'barg' of pressure: a gauge pressure; give the absolute pressure"),
+    # text outside the shipped table goes to pint's registry: a unit there, of the wrong kind
+    "pressure-pint-wrong-dimension": Row(SYS + "specified:\n  pressure: 3 K*K/K\n", "specified.pressure", 6,
+                                         "unit 'K*K/K' is not a unit of pressure"),
     "feed-mass-near-miss": Row(SYS + "feed: {CH4: 10 kgs}\n", "feed.CH4", 5,
                                "cannot read unit 'kgs' of mass; did you mean 10 kg?"),
     "feed-unknown-unit": Row(SYS + "feed: {CH4: 1 zorkmol}\n", "feed.CH4", 5,

@@ -266,8 +266,8 @@ def test_bad_input_with_json_prints_no_document(capsys, tmp_path):
     path = bad_files(tmp_path)["bad-unit"]
     rc, out, err = cli(capsys, "check", path, "--json", "--no-confirm")
     assert (rc, out) == (2, "")                                          # design §4: the message goes to stderr
-    assert err == (f"auditor: error: {path}:5:13: feed.CH4: unit 'bar' is not a unit of amount "
-                   "(expected e.g. '2 kmol' or 1.5 (mol))\n")               # by hand: line 5, column 13
+    assert err == (f"auditor: error: {path}:5:13: feed.CH4: unit 'bar' is not a unit of amount or mass "
+                   "(expected e.g. '2 kmol', '10 kg' or 1.5 (mol))\n")               # by hand: line 5, column 13
 
 
 def test_bad_inputs_in_a_real_process_have_no_traceback(tmp_path):
