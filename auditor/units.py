@@ -66,7 +66,7 @@ NEAR_MISSES = {
                "lbmoles": "lbmol", "Lbmol": "lbmol", "LBMOL": "lbmol", "lb mol": "lbmol", "mmole": "mmol"},
     "mass": {"KG": "kg", "Kg": "kg", "kgs": "kg", "kilo": "kg", "kilos": "kg", "G": "g", "gm": "g", "gr": "g",
              "grams": "g", "T": "t", "ton": "t", "tons": "t", "mt": "t", "MT": "t", "te": "t", "tonnes": "t",
-             "LB": "lb", "Lb": "lb", "lbm": "lb", "lbs": "lb"},
+             "LB": "lb", "Lb": "lb", "lbm": "lb"},
 }
 
 _NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?|[-+]?(?:inf|nan))\s*(.*?)\s*$",
@@ -151,7 +151,11 @@ def parse(value: Any, kinds: tuple[str, ...] | str) -> Quantity:
         exact = None if offset else Fraction(number_text) * scale if _finite_text(number_text) else None
     else:
         _near_miss(number_text, unit, kinds)
-        kind, si = _with_pint(number, unit, kinds, what)
+        try:
+            kind, si = _with_pint(number, unit, kinds, what)
+        except ValueError:
+            _other_case(number_text, unit, kinds)
+            raise
         exact = None
     if not math.isfinite(si):
         raise ValueError(f"{kind} {value!r} is too large: it overflows when converted to {KINDS[kind][1]}")
@@ -165,7 +169,10 @@ def _finite_text(number_text: str) -> bool:
 
 
 def _near_miss(number_text: str, unit: str, kinds: tuple[str, ...]) -> None:
-    """Raise with 'did you mean' when ``unit`` is a known near miss of one of ``kinds``."""
+    """Raise with 'did you mean' when ``unit`` is a known near miss of one of ``kinds``.
+
+    Checked before pint, because some near misses mean something else to pint and would be
+    accepted silently: 'mt' is a millitonne (1 kg) there, 'gr' a grain."""
     for kind in kinds:
         misses = NEAR_MISSES[kind]
         if unit in misses:
@@ -174,7 +181,13 @@ def _near_miss(number_text: str, unit: str, kinds: tuple[str, ...]) -> None:
                 raise ValueError(f"cannot read unit {unit!r} of {kind}: a gauge pressure; give the absolute "
                                  "pressure (gauge plus the local atmospheric pressure), e.g. in bar")
             raise ValueError(f"cannot read unit {unit!r} of {kind}; did you mean {number_text} {meant}?")
-        # a spelling of the table in other letter case ('KPA', 'Degc'), when only one fits
+
+
+def _other_case(number_text: str, unit: str, kinds: tuple[str, ...]) -> None:
+    """After pint failed: raise with 'did you mean' when ``unit`` is a spelling of the table in
+    other letter case ('KPA', 'Degc') and only one fits.  (Not before pint: 'Mmol' is a
+    megamole, not a misspelt 'mmol'.)"""
+    for kind in kinds:
         folded = [u for u in TABLE_UNITS[kind] if u.lower() == unit.lower()]
         if len(folded) == 1 and folded[0] != unit:
             raise ValueError(f"cannot read unit {unit!r} of {kind}; did you mean {number_text} {folded[0]}?")

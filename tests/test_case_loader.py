@@ -153,8 +153,12 @@ ROWS = {
                                    "cannot read unit 'bara' of pressure; did you mean 25 bar?"),
     "pressure-near-miss-kpa": Row(SYS + "specified:\n  pressure: 101.325 kpa\n", "specified.pressure", 6,
                                   "cannot read unit 'kpa' of pressure; did you mean 101.325 kPa?"),
-    "pressure-letter-case": Row(SYS + "specified:\n  pressure: 2 MPA\n", "specified.pressure", 6,
-                                "cannot read unit 'MPA' of pressure; did you mean 2 MPa?"),
+    # a spelling of the table in other letter case, once pint has no such unit
+    "pressure-letter-case": Row(SYS + "specified:\n  pressure: 200 MBAR\n", "specified.pressure", 6,
+                                "cannot read unit 'MBAR' of pressure; did you mean 200 mbar?"),
+    # a near miss that pint would read as something else (millitonne): asked, not accepted
+    "feed-mass-trap-mt": Row(SYS + "feed: {CH4: 10 mt}\n", "feed.CH4", 5,
+                             "cannot read unit 'mt' of mass; did you mean 10 t?"),
     "pressure-gauge": Row(SYS + "specified:\n  pressure: 24 barg\n", "specified.pressure", 6,
                           "cannot read unit 'barg' of pressure: a gauge pressure; give the absolute pressure"),
     # text outside the shipped table goes to pint's registry: a unit there, of the wrong kind

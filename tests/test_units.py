@@ -69,6 +69,8 @@ def test_units_outside_the_table_go_to_pint():
     """Text the table does not hold is parsed by pint's registry of data/units.txt."""
     assert parse_quantity("2 kilobar", "pressure") == pytest.approx(2e8, rel=1e-12)   # SI prefix
     assert parse_quantity("3 K*K/K", "temperature") == 3.0
+    assert parse_quantity("1 Mmol", "amount") == 1e6        # SI prefix: a megamole, not a misspelt mmol
+    assert parse_quantity("3 lbs", "mass") == pytest.approx(3 * 0.45359237, rel=1e-12)  # pint's plural; NIST SP 811
     with pytest.raises(ValueError, match="cannot read unit 'furlong' of pressure"):
         parse_quantity("3 furlong", "pressure")
 
