@@ -732,7 +732,7 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     # balance of every conserved quantity (elements, charge, extra frozen quantities)
     W = static.W
     b = W @ solver.n0
-    bal = float(np.abs(W @ n - b).max() / max(np.abs(b).max(), 1e-300)) if b.size else 0.0
+    bal = _max_abs(W @ n - b) / max(_max_abs(b), 1e-300) if b.size else 0.0
 
     # element potentials fitted to the present species, and the affinities of the
     # independent reactions among them
@@ -741,8 +741,8 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
     ps = _present_set(static, analysis.reactions, present)
     mu_p = mu[ps.index]
     lam = ps.pinv @ mu_p
-    resid = float(np.abs(ps.rows @ lam - mu_p).max()) if mu_p.size else 0.0
-    max_aff = float(np.abs(ps.basis @ np.where(present, mu, 0.0)).max()) if ps.basis.shape[0] else 0.0
+    resid = _max_abs(ps.rows @ lam - mu_p) if mu_p.size else 0.0
+    max_aff = _max_abs(ps.basis @ np.where(present, mu, 0.0)) if ps.basis.shape[0] else 0.0
 
     drive = _absent_driving_forces(static, g, lam, ps.free, phase_present, solver.candidate)
     drive_named = tuple((system.phases[p].name, d) for p, d in sorted(drive.items()))
@@ -838,6 +838,14 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
         unique_basis=unique_basis, phase_amount_rcond=amount_rcond)
 
 
+def _max_abs(a: np.ndarray) -> float:
+    """Largest absolute entry of a small vector, as a float; NaN when any entry is NaN (as
+    numpy's ``max``).  Plain Python: cheaper than numpy's reduction on a few entries."""
+    values = a.tolist()
+    m = max(map(abs, values), default=0.0)
+    return m if all(v == v for v in values) else math.nan
+
+
 def _phase_amount_rcond(static: _Static, n: np.ndarray, phase_present: np.ndarray) -> float:
     """Smallest over largest singular value of the matrix whose columns are the conserved
     quantities held by each present phase (columns scaled to unit length).  Zero when the
@@ -912,7 +920,7 @@ def _uniqueness(static: _Static, solver, sol: _Solution, n: np.ndarray, totals: 
                 continue
             n_o = np.maximum(other.n, 0.0)
             tot_o = n_o @ static.membership
-            pres_o = tot_o > settings.PHASE_PRESENCE_FRACTION * max(tot_o.sum(), 1e-300)
+            pres_o = tot_o > settings.PHASE_PRESENCE_FRACTION * max(float(tot_o.sum()), 1e-300)
             x_other = _mole_fractions(n_o, phase_of, tot_o)
             if sol.sides is not None:
                 # on a transition a T,P restart lands on one side: it must agree on every phase it
@@ -921,7 +929,7 @@ def _uniqueness(static: _Static, solver, sol: _Solution, n: np.ndarray, totals: 
                 if (pres_o & ~phase_present).any() or (
                         found.any() and np.max(np.abs(x_other[found] - x_ref[found])) > settings.UNIQUENESS_TOLERANCE):
                     unique = False
-            elif (pres_o != phase_present).any() or np.max(np.abs(x_other - x_ref)) > settings.UNIQUENESS_TOLERANCE:
+            elif pres_o.tolist() != phase_present.tolist() or _max_abs(x_other - x_ref) > settings.UNIQUENESS_TOLERANCE:
                 unique = False
     agree = f"{starts} starting estimates " + ("agree" if unique else "disagree") if starts > 1 else ""
     if proved:
