@@ -103,9 +103,18 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     for rel in count.double_counted:
         findings.append(Finding("warning", "phase-rule", f"declared restriction '{rel.text}' ({rel.key_path}) is "
                                 f"already {rel.origin}: counted once, not twice", (rel.key_path,)))
+    words = dict(count.feed_words)
+    by_phase: dict[str, list] = {}
     for rel in count.relations:
         if rel.origin == "feed":
-            findings.append(Finding("note", "phase-rule", f"the feed imposes {rel.text}", (rel.phase,)))
+            by_phase.setdefault(rel.phase, []).append(rel)
+    for phase, rels in by_phase.items():
+        if phase in words:
+            findings.append(Finding("note", "phase-rule", f"the feed fixes {words[phase]} in the {phase} "
+                                    f"({len(rels)} relation{'s' if len(rels) > 1 else ''} on its mole fractions, "
+                                    "counted in r)", (phase,)))
+        else:
+            findings += [Finding("note", "phase-rule", f"the feed imposes {rel.text}", (rel.phase,)) for rel in rels]
     if spec.status != "well-posed":
         findings.append(Finding("error", "specification", f"{spec.status}: {spec.reasons[-1] if len(spec.reasons) > 1 else spec.reasons[0]}"
                                 + (f"; {spec.suggestion}" if spec.suggestion else ""),

@@ -137,7 +137,8 @@ def feed_ratios(W, names, b, idx, outside, relations, readable=None) -> str:
                 kept.append((i, j))
     if len(kept) != len(relations) or any(ech.reduce(dict(u))[0] for u in relations):
         return ""
-    return " and ".join(f"{names[i]}:{names[j]} = {_ratio_text(Fraction(b[i]) / b[j])}" for i, j in kept)
+    parts = [f"{names[i]}:{names[j]} = {_ratio_text(Fraction(b[i]) / b[j])}" for i, j in kept]
+    return parts[0] if len(parts) == 1 else ", ".join(parts[:-1]) + " and " + parts[-1]
 
 
 def _exact_amount(x) -> Fraction:

@@ -115,6 +115,8 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
         "claims": [{"claim": c.name, "claimed": _claim_value(c.claimed), "found": _claim_value(c.found),
                     "held": c.held} for c in r.claims],
         "findings": [{"severity": f.severity, "topic": f.topic, "message": f.message} for f in r.findings],
+        # additive: the verdict's reason in one plain sentence
+        "reason": r.reason,
         "tolerances": dict(TOLERANCES),
         "tool": {"name": "auditor", "version": __version__},
         "cautions": list(CAUTIONS),

@@ -26,6 +26,9 @@ INK = "#1d232a"                # body text
 RULE = "#8a9099"               # table and heading rules
 HEADER_FILL = "#e8ebe4"        # table header cells
 GRID = "#d5d9de"               # chart gridlines
+PAPER_TINT = "#f4f3ee"         # background of embedded files
+AXIS = INK                     # chart frames, axes and legend outlines
+LABEL_HALO = "#ffffff"         # outline behind labels drawn over coloured regions
 
 # Verdict box: (fill, border) per verdict.
 VERDICT = {
