@@ -280,9 +280,9 @@ def verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks) 
     given = [short_name(s) for s in spec.intensive + spec.extensive]
     fixed = f"{_one_of(given)} fix{'es' if len(given) == 1 else ''}" if given else "nothing fixes"
     if count.has_feed:
-        text = f"well posed: {fixed} the state (Duhem's two for a known feed; F = {count.degrees_of_freedom})"
+        text = f"{fixed} the state (Duhem's two for a known feed; F = {count.degrees_of_freedom})"
     else:
-        text = f"well posed: {fixed} the intensive state (F = {count.degrees_of_freedom})"
+        text = f"{fixed} the intensive state (F = {count.degrees_of_freedom})"
     if equilibrium is not None and equilibrium.confirmed:
         text += f", and the Gibbs minimisation confirms the assumed phases ({', '.join(count.coexisting)})"
     return text

@@ -61,10 +61,17 @@ pre{{white-space:pre-wrap;font-size:.85em;background:{style.PAPER_TINT};padding:
 """
 
 
-def _cell(c: str) -> str:
-    text = escape(c)
-    numeric = c and c.lstrip("+-").replace(".", "", 1).replace("e-", "", 1).replace("e+", "", 1).isdigit()
-    return f'<td class="num">{text}</td>' if numeric else f"<td>{text}</td>"
+def _numeric(c: str) -> bool:
+    return bool(c) and c.lstrip("+-").replace(".", "", 1).replace("e-", "", 1).replace("e+", "", 1).isdigit()
+
+
+def _rows(rows) -> list[str]:
+    """Body rows; a column whose filled cells are all numbers is right-aligned."""
+    n = max((len(r) for r in rows), default=0)
+    num = [all(_numeric(r[j]) for r in rows if j < len(r) and r[j]) and any(j < len(r) and r[j] for r in rows)
+           for j in range(n)]
+    return ["<tr>" + "".join(f'<td class="num">{escape(c)}</td>' if num[j] else f"<td>{escape(c)}</td>"
+                             for j, c in enumerate(row)) + "</tr>" for row in rows]
 
 
 def render(r: AuditResult) -> str:
@@ -94,7 +101,7 @@ def render(r: AuditResult) -> str:
                 cap = f"<caption>{escape(b.caption)}</caption>" if b.caption else ""
                 out.append(f"<table>{cap}<thead><tr>" + "".join(f"<th>{escape(h)}</th>" for h in b.headers)
                            + "</tr></thead><tbody>")
-                out += ["<tr>" + "".join(_cell(c) for c in row) + "</tr>" for row in b.rows]
+                out += _rows(b.rows)
                 out.append("</tbody></table>")
             elif b.kind == "svg":
                 cap = f"<figcaption>{escape(b.caption)}</figcaption>" if b.caption else ""

@@ -128,13 +128,13 @@ def _composition(eq: dict, e: entered_mod.Entered, coexisting) -> Block:
     species: list[str] = []
     for p in phases:
         species += [s for s in p["mole_fractions"] if s not in species]
+    present = set(eq["phases_present"])
     headers = ["species"]
     for p in phases:
-        headers += [f"{p['name']}: amount, {e.amount_unit}", f"{p['name']}: mole fraction"]
-    present = set(eq["phases_present"])
-    rows = [["phase present"] + [x for p in phases for x in
-                                 (("yes" if p["name"] in present else "no")
-                                  + (", assumed" if p["name"] in coexisting else ", not assumed"), "")]]
+        status = ("present" if p["name"] in present else "absent") + \
+            (", assumed" if p["name"] in coexisting else ", not assumed")
+        headers += [f"{p['name']} ({status}): amount, {e.amount_unit}", f"{p['name']}: mole fraction"]
+    rows = []
     for s in species:
         row = [s]
         for p in phases:
