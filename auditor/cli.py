@@ -293,7 +293,8 @@ def _cmd_sweep(args) -> int:
         executor.close()
     assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
     write_atomic(csv_path, csv_text(results))
-    write_atomic(svg_path, sweep_svg(results, axes, assumed))
+    from .report.sweep_plot import unit_of
+    write_atomic(svg_path, sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary]))
     journal.unlink(missing_ok=True)
     failed = [r for r in results if r.verdict == "failed"]
     off = [r for r in results if r.verdict != "well-posed"]
