@@ -113,7 +113,7 @@ def render(r: AuditResult) -> str:
                            + "".join(f"<th>{escape(h)}</th>" for h in b.headers) + "</tr></thead><tbody>"
                            + "".join("<tr>" + "".join(f"<td>{escape(c)}</td>" for c in row) + "</tr>" for row in b.rows)
                            + "</tbody></table>")
-                out.append("<p>Revision: ________ &#160; Revision date: ____________ &#160; "
+                out.append("<p>Revision: ________ &nbsp; Revision date: ____________ &nbsp; "
                            "Reason for revision: ________________________________</p>")
         out.append("</section>")
     out += ["</body>", "</html>"]

@@ -76,7 +76,7 @@ def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units:
         for r in results:
             i, j = r.index % len(xs), r.index // len(xs)
             cells[(i, j)] = " + ".join(r.phases_present) if r.phases_present else r.verdict
-        sub = [f"phases present at equilibrium (assumed: {' + '.join(assumed)})"] + fixed
+        sub = [f"phases present (assumed: {' + '.join(assumed)}) at equilibrium"] + fixed
         return _stack([svg.presence_map(title, xs, ys, cells, _label(a0.name, units[0]), _label(a1.name, units[1]),
                                         subtitle=sub)])
     axis, unit = axes[0], units[0]
