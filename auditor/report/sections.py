@@ -195,6 +195,10 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
     n_err = sum(f["severity"] == "error" for f in doc["findings"])
     if n_err:
         verdict_blocks.append(_para(f"{n_err} error{'s' if n_err > 1 else ''}, stated under: {', '.join(where)}."))
+    n_warn = sum(f["severity"] == "warning" for f in doc["findings"])
+    if n_warn:
+        verdict_blocks.append(_para(f"{n_warn} warning{'s' if n_warn > 1 else ''} for the reviewer, listed under "
+                                    "Findings."))
     sec.append(("Verdict", verdict_blocks))
 
     # ---- the case as entered
