@@ -275,9 +275,9 @@ def test_incidence_picture_of_a_large_mechanism_is_legible(tmp_path):
     rows = [{j: (1 if (i + j) % 3 else -1) for j in range(i % 40, i % 40 + 4)} for i in range(120)]
     labels = [f"S{j}" for j in range(53)]
     root = ET.fromstring(svg.sparsity(rows, 53, set(range(50)), labels, [str(i + 1) for i in range(120)]))
-    assert int(root.get("font-size")) >= 7
+    assert int(root.get("font-size")) >= 9
     cells = [r for r in root.iter(SVG + "rect") if r.get("stroke") and float(r.get("width")) > 5]
-    assert min(float(r.get("width")) for r in cells) >= 7                # each cell at least 7 px
+    assert min(float(r.get("width")) for r in cells) >= 9                # each cell at least 9 px
     texts = [t.text for t in root.iter(SVG + "text")]
     assert all(lab in texts for lab in labels)                           # every species labelled
 

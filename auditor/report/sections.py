@@ -27,6 +27,8 @@ TOPIC_SECTION = {"reactions": "Reactions", "phase-rule": "Phase rule", "specific
 # the reaction-species incidence is a table up to this size, a picture beyond it
 INCIDENCE_TABLE_MAX_SPECIES = 12
 INCIDENCE_TABLE_MAX_REACTIONS = 12
+INCIDENCE_ROWS_PER_PICTURE = 60      # beyond the table size: pictures of at most this many reactions
+INCIDENCE_COLUMNS_PER_PICTURE = 50   # ... and this many phase-species (fits an A4 page at 11 px a cell)
 
 
 @dataclass(frozen=True)
@@ -106,7 +108,7 @@ def _incidence(r: AuditResult) -> list[Block]:
     if not reactions:
         return []
     independent = set(r.reactions.independent)
-    n, labels = r.system.n_species, list(r.system.labels)
+    labels = list(r.system.labels)
     rows = [dict(x.stoich) for x in reactions]
     used = sorted({k for row in rows for k in row})
     if len(used) <= INCIDENCE_TABLE_MAX_SPECIES and len(rows) <= INCIDENCE_TABLE_MAX_REACTIONS:
@@ -118,8 +120,26 @@ def _incidence(r: AuditResult) -> list[Block]:
                                                if k in row else "" for k in used])
         return [_table(["reaction", "kind", *(labels[k] for k in used)], body,
                        "Reaction-species incidence: stoichiometric coefficients (products +, reactants -)")]
-    return [Block("svg", text=svg.sparsity(rows, n, independent, labels, [str(i + 1) for i in range(len(rows))]),
-                  caption="Reaction-species incidence (rows: reactions from 1; columns: phase-species)")]
+    # a picture per block of reactions, showing only the phase-species they involve, so that each
+    # fits a printed page at a legible size (an SVG cannot break across pages)
+    blocks = []
+    for start in range(0, len(rows), INCIDENCE_ROWS_PER_PICTURE):
+        chunk = rows[start:start + INCIDENCE_ROWS_PER_PICTURE]
+        cols = sorted({k for row in chunk for k in row})
+        for c0 in range(0, len(cols), INCIDENCE_COLUMNS_PER_PICTURE):
+            part = cols[c0:c0 + INCIDENCE_COLUMNS_PER_PICTURE]
+            where = {k: j for j, k in enumerate(part)}
+            sub = [{where[k]: c for k, c in row.items() if k in where} for row in chunk]
+            last = start + len(chunk)
+            cols_note = "" if len(cols) <= INCIDENCE_COLUMNS_PER_PICTURE else \
+                f", phase-species {c0 + 1}-{c0 + len(part)} of the {len(cols)} they involve"
+            blocks.append(Block("svg", text=svg.sparsity(sub, len(part), {i - start for i in independent
+                                                                          if start <= i < last},
+                                                         [labels[k] for k in part],
+                                                         [str(i + 1) for i in range(start, last)]),
+                                caption=f"Reaction-species incidence, reactions {start + 1}-{last} of {len(rows)}"
+                                        f"{cols_note}"))
+    return blocks
 
 
 def _composition(eq: dict, e: entered_mod.Entered, coexisting) -> Block:

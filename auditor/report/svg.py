@@ -31,11 +31,11 @@ def sparsity(rows: list[dict[int, object]], n_cols: int, independent: set[int], 
              row_labels: list[str]) -> str:
     """Reaction-species incidence as a picture: one row per reaction, one column per phase-species;
     independent reactions in one colour, dependent in another; reactants hollow, products filled.
-    Cells stay at least 9 px with every column labelled, so the picture stays legible (it scales
-    down to the page width in print, and every label scales with it)."""
+    Cells stay at least 11 px and labels 9 px with every column labelled; callers keep a picture to
+    about 50 columns and 60 rows so that it fits a printed page without shrinking."""
     n_rows = len(rows)
-    cell = max(9, min(16, int(900 / max(n_cols, 1))))
-    font = max(7, min(11, cell - 2))
+    cell = max(11, min(16, int(640 / max(n_cols, 1))))
+    font = max(9, min(11, cell - 2))
     longest = max((len(x) for x in col_labels), default=4)
     left, top = 46, int(font * 0.62 * longest * 0.87) + 16
     every = 1 if n_rows <= 60 else 5
