@@ -477,3 +477,46 @@ def test_html_prints_to_pdf_with_header_footer_and_captions_kept(tmp_path):
         (where,) = [p for p in pages if caption in p]
         after = where.split(caption, 1)[1]
         assert header in after, f"caption {caption!r} split from its table"
+
+
+# ------------------------------------------------------------------ the report's amount unit
+
+@pytest.mark.parametrize("feed, unit, mol_per_unit", [
+    ([("CH4", "120 kmol"), ("H2O", "360 kmol")], "kmol", 1000.0),      # one molar unit: kept
+    ([("CH4", "1.0"), ("H2O", "3.0")], "mol", 1.0),                   # plain numbers are mol (design §5)
+    ([("CH4", "2 lbmol")], "lbmol", 453.59237),                       # 1 lb = 0.45359237 kg exactly (NIST SP 811)
+    ([("CH4", "2 kmol"), ("H2O", "500 mol")], "mol", 1.0),            # mixed units: SI
+    ([("CH4", "10 kg"), ("H2O", "30 kg")], "mol", 1.0),               # a mass is no amount scale: SI
+    ([("CH4", "2 mmol")], "mmol", 0.001),
+])
+def test_amount_unit_of_the_report(feed, unit, mol_per_unit):
+    from auditor.report.entered import amount_unit
+    found_unit, found_scale = amount_unit(feed)
+    assert found_unit == unit and found_scale == pytest.approx(mol_per_unit, rel=1e-12)
+
+
+def relation_value(text: str, x: dict) -> float:
+    """Left-hand side of 'in phase P: - 3 x(CO) + x(H2) = 0' at mole fractions ``x``."""
+    lhs = text.split(":", 1)[1].split("=")[0]
+    total = 0.0
+    for sign, coef, sp in re.findall(r"([+-]?)\s*([0-9/]*)\s*x\(([^)]+)\)", lhs):
+        c = float(Fraction(coef)) if coef else 1.0
+        total += (-c if sign == "-" else c) * x[sp]
+    return total
+
+
+def test_feed_relation_words_beside_the_equation(reports):
+    rows = md_table(reports[CARBON.stem][".md"], "Restrictions counted in r")
+    assert rows[1] == ["in phase gas: - 3 x(CO) - 4 x(CO2) + x(H2) = 0",
+                       "with the next 1: the feed fixes H:C = 5 and O:C = 0.5 in the gas"]
+    # design point, gas only and confirmed: each relation holds at the equilibrium composition, and
+    # the element ratios in the gas are the feed's (by hand: CH4 1 + H2O 3 + N2 0.02 mol)
+    rows = md_table(reports[DESIGN.stem][".md"], "Restrictions counted in r")
+    assert rows[1][1] == "with the next 2: the feed fixes H:C = 10, O:C = 3 and N:C = 0.04 in the gas"
+    x = reports[DESIGN.stem]["doc"]["equilibrium"]["phases"][0]["mole_fractions"]
+    for text, _ in rows[1:]:
+        assert relation_value(text, x) == pytest.approx(0, abs=1e-9), text
+    carbon = x["CH4"] + x["CO"] + x["CO2"]
+    assert (4 * x["CH4"] + 2 * x["H2O"] + 2 * x["H2"]) / carbon == pytest.approx(10, rel=1e-8)
+    assert (x["H2O"] + x["CO"] + 2 * x["CO2"]) / carbon == pytest.approx(3, rel=1e-8)
+    assert 2 * x["N2"] / carbon == pytest.approx(0.04, rel=1e-8)

@@ -77,24 +77,9 @@ def _spec_si(key: str, case) -> str:
     return "dimensionless, as written"
 
 
-def _file_rows(r: AuditResult, e: entered_mod.Entered) -> list[tuple[str, str, str]]:
+def _file_rows(doc: dict) -> list[tuple[str, str, str]]:
     """(role, path as given, SHA-256) of the case and every thermo or mechanism file read."""
-    from .document import _sha256
-    rows = [("case file", e.path, e.sha256 or "(could not be read again)")]
-    if r.system.source == "packaged":
-        from ..system import CONDENSED_DATABASE, GAS_DATABASE, shipped_data_file
-        wanted = []
-        if any(p.is_gas for p in r.system.phases):
-            wanted.append(GAS_DATABASE)
-        if any(not p.is_gas for p in r.system.phases):
-            wanted.append(CONDENSED_DATABASE)
-        for name in wanted:
-            found = shipped_data_file(name)
-            rows.append(("thermo data (ships with cantera)", name,
-                         (_sha256(found) or "(not readable)") if found else "(not found)"))
-    else:
-        rows.append(("mechanism", e.source, _sha256(r.system.source) or "(not readable)"))
-    return rows
+    return [(i.get("role", ""), i["path"], i["sha256"] or "(could not be read)") for i in doc.get("inputs", [])]
 
 
 def _errors_of(doc: dict, section: str) -> list[Block]:
@@ -256,7 +241,7 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
     # ---- provenance
     versions = doc.get("versions", {})
     sec.append(("Provenance", [
-        _table(("role", "path as given", "SHA-256"), _file_rows(r, e), "Files read"),
+        _table(("role", "path as given", "SHA-256"), _file_rows(doc), "Files read"),
         _table(("component", "version"), [("auditor (this tool)", doc["tool"]["version"]),
                                           ("cantera", versions.get("cantera") or "not installed")]
                + [(k, v) for k, v in sorted(versions.items()) if k not in ("auditor", "cantera")], "Software"),
@@ -311,9 +296,21 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
     pr = doc["phase_rule"]
     words = dict(r.phase_rule.feed_words)
     rel_rows = []
+    feed_rows = {}
+    for rel in r.phase_rule.relations:
+        if rel.origin == "feed":
+            feed_rows.setdefault(rel.phase, []).append(rel)
     for rel in r.phase_rule.relations:
         meaning = {"feed": "set by the feed", "electroneutrality": "the phase is electrically neutral",
                    "declared": "declared in the case"}.get(rel.origin, rel.origin)
+        if rel.origin == "feed" and rel.phase in words:
+            group = feed_rows[rel.phase]
+            if len(group) == 1:
+                meaning = f"the feed fixes {words[rel.phase]} in the {rel.phase}"
+            elif rel is group[0]:
+                meaning = (f"with the next {len(group) - 1}: the feed fixes {words[rel.phase]} in the {rel.phase}")
+            else:
+                meaning = "(with the rows above: the same element ratios)"
         rel_rows.append((rel.text, meaning))
     pblocks = _errors_of(doc, "Phase rule") + [
         _table(("term", "value"), [("N phase-species", pr["species"]), ("pi phases", pr["phases"]),
@@ -322,11 +319,6 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
                                    ("F degrees of freedom", pr["degrees_of_freedom"])], "Phase-rule count")]
     if rel_rows:
         pblocks.append(_table(("relation on mole fractions", "in words"), rel_rows, "Restrictions counted in r"))
-    for phase, text in r.phase_rule.feed_words:
-        n_rel = sum(1 for rel in r.phase_rule.relations if rel.origin == "feed" and rel.phase == phase)
-        pblocks.append(_para(f"In words: the feed fixes {text} in the {phase}; the {n_rel} feed relation"
-                             f"{'s' if n_rel > 1 else ''} of the {phase} above say{'' if n_rel > 1 else 's'} "
-                             "exactly this."))
     pblocks += [_para("How the count was made:"),
                 _list([ln.strip() for ln in pr["explanation"] if not ln.startswith("    ")])]
     if r.phase_rule.reactions_present and len(r.phase_rule.reactions_present) != len(eqs):
