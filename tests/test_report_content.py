@@ -508,11 +508,12 @@ def relation_value(text: str, x: dict) -> float:
 def test_feed_relation_words_beside_the_equation(reports):
     rows = md_table(reports[CARBON.stem][".md"], "Restrictions counted in r")
     assert rows[1] == ["in phase gas: - 3 x(CO) - 4 x(CO2) + x(H2) = 0",
-                       "with the next 1: the feed fixes H:C = 5 and O:C = 0.5 in the gas"]
+                       "these 2 relations together say: the feed fixes H:C = 5 and O:C = 0.5 in the gas"]
     # design point, gas only and confirmed: each relation holds at the equilibrium composition, and
     # the element ratios in the gas are the feed's (by hand: CH4 1 + H2O 3 + N2 0.02 mol)
     rows = md_table(reports[DESIGN.stem][".md"], "Restrictions counted in r")
-    assert rows[1][1] == "with the next 2: the feed fixes H:C = 10, O:C = 3 and N:C = 0.04 in the gas"
+    assert rows[1][1] == "these 3 relations together say: the feed fixes H:C = 10, O:C = 3 and N:C = 0.04 in the gas"
+    assert rows[2][1] == rows[3][1] == "(part of the same statement)"
     x = reports[DESIGN.stem]["doc"]["equilibrium"]["phases"][0]["mole_fractions"]
     for text, _ in rows[1:]:
         assert relation_value(text, x) == pytest.approx(0, abs=1e-9), text

@@ -308,19 +308,28 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
             if len(group) == 1:
                 meaning = f"the feed fixes {words[rel.phase]} in the {rel.phase}"
             elif rel is group[0]:
-                meaning = (f"with the next {len(group) - 1}: the feed fixes {words[rel.phase]} in the {rel.phase}")
+                meaning = (f"these {len(group)} relations together say: the feed fixes {words[rel.phase]} "
+                           f"in the {rel.phase}")
             else:
-                meaning = "(with the rows above: the same element ratios)"
+                meaning = "(part of the same statement)"
         rel_rows.append((rel.text, meaning))
+    how = {}
+    for line in pr["explanation"]:
+        if line.startswith("    "):
+            continue                                  # the relations: in their own table below
+        symbol = line.split(" ", 1)[0]
+        how[symbol] = line.split(": ", 1)[1] if symbol in ("N", "pi", "m", "r") else line
     pblocks = _errors_of(doc, "Phase rule") + [
-        _table(("term", "value"), [("N phase-species", pr["species"]), ("pi phases", pr["phases"]),
-                                   ("m independent reactions", pr["independent_reactions"]),
-                                   ("r restrictions", pr["restrictions"]), ("C components", pr["components"]),
-                                   ("F degrees of freedom", pr["degrees_of_freedom"])], "Phase-rule count")]
+        _table(("term", "value", "how it is counted"),
+               [("N phase-species", pr["species"], how.get("N", "")), ("pi phases", pr["phases"], how.get("pi", "")),
+                ("m independent reactions", pr["independent_reactions"], how.get("m", "")),
+                ("r restrictions", pr["restrictions"], how.get("r", "")),
+                ("C components", pr["components"], how.get("C", "")),
+                ("F degrees of freedom", pr["degrees_of_freedom"], how.get("F", ""))], "Phase-rule count")]
     if rel_rows:
         pblocks.append(_table(("relation on mole fractions", "in words"), rel_rows, "Restrictions counted in r"))
-    pblocks += [_para("How the count was made:"),
-                _list([ln.strip() for ln in pr["explanation"] if not ln.startswith("    ")])]
+    if "Duhem:" in how:
+        pblocks.append(_para(how["Duhem:"]))
     if r.phase_rule.reactions_present and len(r.phase_rule.reactions_present) != len(eqs):
         pblocks.append(_para("Independent reactions among the species of the coexisting phases (m): "
                              + "; ".join(x.equation for x in r.phase_rule.reactions_present)))
