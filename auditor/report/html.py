@@ -70,8 +70,16 @@ def _rows(rows) -> list[str]:
     n = max((len(r) for r in rows), default=0)
     num = [all(_numeric(r[j]) for r in rows if j < len(r) and r[j]) and any(j < len(r) and r[j] for r in rows)
            for j in range(n)]
-    return ["<tr>" + "".join(f'<td class="num">{escape(c)}</td>' if num[j] else f"<td>{escape(c)}</td>"
+    return ["<tr>" + "".join(f'<td class="num">{escape(c)}</td>' if num[j] else f"<td>{_linked(c)}</td>"
                              for j, c in enumerate(row)) + "</tr>" for row in rows]
+
+
+def _linked(c: str) -> str:
+    """A finding stated in another section links to it."""
+    if c.startswith("stated under "):
+        where = c[len("stated under "):]
+        return f'stated under <a href="#{escape(where.lower().replace(" ", "-"))}">{escape(where)}</a>'
+    return escape(c)
 
 
 def render(r: AuditResult) -> str:
