@@ -142,7 +142,7 @@ def _cmd_check(args) -> int:
             print(f"auditor: error: {exc}", file=sys.stderr)
             return EXIT_INPUT
     results, docs, status = [], [], EXIT_OK
-    with progress_bar(len(paths), "case", args.quiet or len(paths) == 1) as bar:
+    with progress_bar(len(paths), "case", args.quiet or len(paths) == 1, every_update=True) as bar:
         for path, result in _audit_all(paths, args, tick=lambda: bar.update(1)):
             if isinstance(result, InputError):
                 if args.debug:
@@ -216,12 +216,14 @@ PREFIX.svg; finished points are journalled in PREFIX.partial.jsonl so that --res
 continue a run that was stopped."""
 
 
-def progress_bar(total: int, unit: str, quiet: bool, initial: int = 0):
+def progress_bar(total: int, unit: str, quiet: bool, initial: int = 0, every_update: bool = False):
     """A progress bar (points done, rate, time left) on stderr, drawn only when stdout and stderr are
     both terminals and --quiet is off; otherwise a bar that draws nothing."""
     from tqdm import tqdm
     show = not quiet and sys.stdout.isatty() and sys.stderr.isatty()
+    # a few slow cases: draw each one; many fast sweep points: at most ten redraws a second
     return tqdm(total=total, initial=initial, unit=unit, file=sys.stderr, disable=not show, leave=False,
+                mininterval=0 if every_update else 0.1,
                 dynamic_ncols=True, bar_format="{desc}{percentage:3.0f}% |{bar}| {n_fmt}/{total_fmt} {unit}s "
                                               "[{elapsed} elapsed, {remaining} left, {rate_fmt}]")
 
