@@ -192,17 +192,16 @@ def colourise(text: str) -> str:
     import os
     if os.environ.get("NO_COLOR") or not sys.stdout.isatty():
         return text
-    colours = {"WELL-POSED": "32", "UNDER-SPECIFIED": "33", "OVER-SPECIFIED": "33",
-               "INCONSISTENT": "31", "NOT-CONFIRMED": "31"}
+    from .report.style import TERMINAL_SEVERITY, TERMINAL_VERDICT
     out = []
     for line in text.splitlines(keepends=True):
         if line.startswith("Verdict: "):
             word = line.split()[1]
-            line = f"Verdict: \033[1;{colours.get(word, '0')}m{word}\033[0m\n"
+            line = f"Verdict: \033[{TERMINAL_VERDICT.get(word, '1')}m{word}\033[0m\n"
         elif line.lstrip().startswith("[error]"):
-            line = line.replace("[error]", "\033[31m[error]\033[0m", 1)
+            line = line.replace("[error]", f"\033[{TERMINAL_SEVERITY['error']}m[error]\033[0m", 1)
         elif line.lstrip().startswith("[warning]"):
-            line = line.replace("[warning]", "\033[33m[warning]\033[0m", 1)
+            line = line.replace("[warning]", f"\033[{TERMINAL_SEVERITY['warning']}m[warning]\033[0m", 1)
         out.append(line)
     return "".join(out)
 

@@ -39,6 +39,11 @@ VERDICT = {
     "not-confirmed": ("#f2e0db", "#8e3b46"),
 }
 
+# Terminal (ANSI SGR codes): verdict words and finding severities on a colour terminal.
+TERMINAL_VERDICT = {"WELL-POSED": "1;32", "UNDER-SPECIFIED": "1;33", "OVER-SPECIFIED": "1;33",
+                    "INCONSISTENT": "1;31", "NOT-CONFIRMED": "1;31"}
+TERMINAL_SEVERITY = {"error": "31", "warning": "33"}
+
 
 def series(i: int) -> str:
     """Colour of series ``i`` (0-based), cycling through ``SERIES``."""
