@@ -11,6 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..audit import AuditResult, show_value
+from ..exact import format_fraction
 from . import entered as entered_mod
 from . import svg
 from .document import check_document
@@ -97,7 +98,6 @@ def _incidence(r: AuditResult) -> list[Block]:
     rows = [dict(x.stoich) for x in reactions]
     used = sorted({k for row in rows for k in row})
     if len(used) <= INCIDENCE_TABLE_MAX_SPECIES and len(rows) <= INCIDENCE_TABLE_MAX_REACTIONS:
-        from ..exact import format_fraction
         body = []
         for i, row in enumerate(rows):
             kind = "independent" if i in independent else "dependent"
@@ -259,7 +259,6 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
     # ---- reactions (numbered from 1)
     rd = doc["reactions"]
     eqs = [x.equation for x in r.reactions.reactions]
-    number = {q: i + 1 for i, q in reversed(list(enumerate(eqs)))}
     state = "complete" if rd["complete"] else ("not defined (unbalanced reactions)" if rd["unbalanced"]
                                                else "incomplete")
     rblocks = _errors_of(doc, "Reactions") + [
@@ -269,19 +268,20 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
         rblocks.append(_table(("reaction", "equation", "role"),
                               [(i + 1, q, "independent" if i in set(r.reactions.independent) else "dependent")
                                for i, q in enumerate(eqs)], "Reactions (numbered from 1)"))
-    if rd["dependent"]:
+    an = r.reactions                        # indices from the analysis itself (equations may repeat)
+    if an.dependent:
         rblocks.append(_table(("reaction", "exact combination of independent reactions"),
-                              [(number[d["equation"]], " + ".join(f"({c['coefficient']}) x reaction {number[c['equation']]}"
-                                                                  for c in d["combination"])) for d in rd["dependent"]],
+                              [(d.index + 1, " + ".join(f"({format_fraction(c)}) x reaction {j + 1}"
+                                                        for j, c in d.combination)) for d in an.dependent],
                               "Dependent reactions"))
-    if rd["unbalanced"]:
+    if an.unbalanced:
         rblocks.append(_table(("reaction", "imbalance, products minus reactants"),
-                              [(number[u["equation"]], ", ".join(f"{el} {v}" for el, v in u["imbalance"].items()))
-                               for u in rd["unbalanced"]], "Unbalanced reactions"))
-    if rd["duplicates"]:
+                              [(u.index + 1, ", ".join(f"{el} {format_fraction(v)}" for el, v in u.imbalance))
+                               for u in an.unbalanced], "Unbalanced reactions"))
+    if an.duplicates:
         rblocks.append(_table(("reaction", "repeated by"),
-                              [(number[g["equation"]], "; ".join(f"reaction {number[m['equation']]} (x {m['factor']})"
-                                                                 for m in g["members"])) for g in rd["duplicates"]],
+                              [(g.representative + 1, "; ".join(f"reaction {i + 1} (x {format_fraction(f)})"
+                                                                for i, f in g.members)) for g in an.duplicates],
                               "Duplicates (same net change)"))
     if rd["frozen_directions"]:
         rblocks += [_para("Frozen directions (reactions the list cannot produce):"), _list(rd["frozen_directions"])]
