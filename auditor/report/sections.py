@@ -269,10 +269,12 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
                               [(i + 1, q, "independent" if i in set(r.reactions.independent) else "dependent")
                                for i, q in enumerate(eqs)], "Reactions (numbered from 1)"))
     an = r.reactions                        # indices from the analysis itself (equations may repeat)
-    if an.dependent:
+    repeats = {i for g in an.duplicates for i, _ in g.members}
+    dependent = [d for d in an.dependent if d.index not in repeats]   # repeats: in their own table
+    if dependent:
         rblocks.append(_table(("reaction", "exact combination of independent reactions"),
                               [(d.index + 1, " + ".join(f"({format_fraction(c)}) x reaction {j + 1}"
-                                                        for j, c in d.combination)) for d in an.dependent],
+                                                        for j, c in d.combination)) for d in dependent],
                               "Dependent reactions"))
     if an.unbalanced:
         rblocks.append(_table(("reaction", "imbalance, products minus reactants"),
