@@ -525,3 +525,15 @@ def test_feed_relation_words_beside_the_equation(reports):
     assert (4 * x["CH4"] + 2 * x["H2O"] + 2 * x["H2"]) / carbon == pytest.approx(10, rel=1e-8)
     assert (x["H2O"] + x["CO"] + 2 * x["CO2"]) / carbon == pytest.approx(3, rel=1e-8)
     assert 2 * x["N2"] / carbon == pytest.approx(0.04, rel=1e-8)
+
+
+def test_several_cases_one_line_each_saying_why():
+    rc, out, _ = run(["check", DESIGN, CARBON, HINDERED, SHIFT, UNBALANCED, "--jobs", "1"])
+    assert rc == 1
+    lines = out.splitlines()
+    assert len(lines) == 5
+    assert lines[1].endswith(f"{CARBON}: graphite forms at equilibrium: carbon deposition expected, "
+                             "not the gas-only state assumed")
+    assert lines[2].startswith("well-posed") and ": warning: CH4 (methane) holds " in lines[2]
+    assert lines[3].endswith(": over-specified: drop one of T, P, x(CO) (F = 2 allows 2 intensive)")
+    assert lines[4].endswith(": reaction 4 'CO + 3 H2 <=> CH4 + H2' does not balance (O -1): correct the equation")
