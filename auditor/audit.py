@@ -37,6 +37,8 @@ class AuditResult:
     claims: tuple[ClaimCheck, ...]
     findings: tuple[Finding, ...]
     verdict: str
+    reason: str = ""             # the verdict's reason in one plain sentence
+
 
     @property
     def exit_status(self) -> int:
@@ -47,18 +49,18 @@ def _reaction_findings(a: ReactionAnalysis) -> list[Finding]:
     out = []
     for u in a.unbalanced:
         imb = ", ".join(f"{e} {'+' if v > 0 else ''}{format_fraction(v)}" for e, v in u.imbalance)
-        out.append(Finding("error", "reactions", f"reaction #{u.index} '{a.reactions[u.index].equation}' does not "
+        out.append(Finding("error", "reactions", f"reaction {u.index + 1} '{a.reactions[u.index].equation}' does not "
                            f"balance (products - reactants: {imb})", tuple(e for e, _ in u.imbalance)))
     dup = {i for g in a.duplicates for i, _ in g.members}
     for d in a.dependent:
         if d.index in dup:
             continue
-        combo = " ".join(f"{'+' if c > 0 else '-'} {format_fraction(abs(c))} x #{j}" for j, c in d.combination)
-        out.append(Finding("note", "reactions", f"reaction #{d.index} '{a.reactions[d.index].equation}' is "
+        combo = " ".join(f"{'+' if c > 0 else '-'} {format_fraction(abs(c))} x reaction {j + 1}" for j, c in d.combination)
+        out.append(Finding("note", "reactions", f"reaction {d.index + 1} '{a.reactions[d.index].equation}' is "
                            f"redundant: it equals {combo.lstrip('+ ')}"))
     for g in a.duplicates:
-        out.append(Finding("note", "reactions", f"reactions {', '.join('#' + str(i) for i, _ in g.members)} repeat the "
-                           f"net change of #{g.representative} '{a.reactions[g.representative].equation}'"))
+        out.append(Finding("note", "reactions", f"reactions {', '.join(str(i + 1) for i, _ in g.members)} repeat the "
+                           f"net change of reaction {g.representative + 1} '{a.reactions[g.representative].equation}'"))
     if a.frozen:
         extra = [c.name for c in a.conserved if not c.is_element]
         out.append(Finding("warning", "reactions", f"the listed reactions are incomplete: {len(a.frozen)} composition "
@@ -101,9 +103,18 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     for rel in count.double_counted:
         findings.append(Finding("warning", "phase-rule", f"declared restriction '{rel.text}' ({rel.key_path}) is "
                                 f"already {rel.origin}: counted once, not twice", (rel.key_path,)))
+    words = dict(count.feed_words)
+    by_phase: dict[str, list] = {}
     for rel in count.relations:
         if rel.origin == "feed":
-            findings.append(Finding("note", "phase-rule", f"the feed imposes {rel.text}", (rel.phase,)))
+            by_phase.setdefault(rel.phase, []).append(rel)
+    for phase, rels in by_phase.items():
+        if phase in words:
+            findings.append(Finding("note", "phase-rule", f"the feed fixes {words[phase]} in the {phase} "
+                                    f"({len(rels)} relation{'s' if len(rels) > 1 else ''} on its mole fractions, "
+                                    "counted in r)", (phase,)))
+        else:
+            findings += [Finding("note", "phase-rule", f"the feed imposes {rel.text}", (rel.phase,)) for rel in rels]
     if spec.status != "well-posed":
         findings.append(Finding("error", "specification", f"{spec.status}: {spec.reasons[-1] if len(spec.reasons) > 1 else spec.reasons[0]}"
                                 + (f"; {spec.suggestion}" if spec.suggestion else ""),
@@ -125,6 +136,8 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
                                     f"{actual.independent_reactions}, r = {actual.restrictions}, F = "
                                     f"{actual.degrees_of_freedom}; revise 'coexisting' or the specifications",
                                     tuple(found)))
+        if case.reactions == "complete":
+            findings.extend(hindered_product_findings(case, system, equilibrium))
 
     # verdict before claims
     verdict = spec.status
@@ -156,7 +169,123 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
                                     "(no equilibrium was computed)", (name,)))
     if any(c.held is False for c in checks):
         verdict = "inconsistent"
-    return AuditResult(case, system, analysis, count, spec, equilibrium, tuple(checks), tuple(findings), verdict)
+    reason = verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks)
+    return AuditResult(case, system, analysis, count, spec, equilibrium, tuple(checks), tuple(findings), verdict,
+                       reason)
+
+
+def hindered_product_findings(case: Case, system: ChemicalSystem, equilibrium) -> list[Finding]:
+    """Warn when most of an element ends in a product the feed lacks and practice treats as hindered."""
+    from .hindered import HINDERED
+    from .settings import HINDERED_ELEMENT_SHARE
+    if equilibrium is None or not equilibrium.solved:
+        return []
+    fed = {system.species[k].name for name, _ in case.feed or () for k in system.find(name)}
+    amounts: dict[int, float] = {}
+    for p in equilibrium.phases:
+        for name, x in p.mole_fractions:
+            amounts[system.index_in(name, p.name)] = p.moles * x
+    totals = {e: sum(float(row[k]) * n for k, n in amounts.items())
+              for e, row in zip(system.elements, system.formula_matrix) if e != "charge"}
+    out = []
+    for k, n in sorted(amounts.items()):
+        sp = system.species[k]
+        if sp.name not in HINDERED or sp.name in fed:
+            continue
+        shares = [(e, float(row[k]) * n / totals[e]) for e, row in zip(system.elements, system.formula_matrix)
+                  if e in totals and totals[e] > 0 and row[k]]
+        most = [(e, x) for e, x in shares if x > HINDERED_ELEMENT_SHARE]
+        if most:
+            common, why = HINDERED[sp.name]
+            held = " and ".join(f"{x:.0%} of the {e}" for e, x in most)
+            out.append(Finding("warning", "equilibrium", f"{sp.label} ({common}) holds {held} at equilibrium "
+                               f"({n:.4g} mol), although the feed holds none; {why}. 'reactions: complete' lets it "
+                               "form: if it is kinetically hindered in this unit, list the intended reactions "
+                               "instead of 'complete'", (sp.label, *(e for e, _ in most))))
+    return out
+
+
+def short_name(spec: str) -> str:
+    """A specification's short symbol for a sentence: T, P, x(CO2), x(H2)/x(N2), or the name."""
+    import re
+    if spec == "temperature":
+        return "T"
+    if spec == "pressure":
+        return "P"
+    m = re.match(r"mole fraction (x\([^)]*\))", spec)
+    if m:
+        return m.group(1)
+    m = re.match(r"ratio (x\([^)]*\)/x\([^)]*\))", spec)
+    if m:
+        return m.group(1)
+    m = re.match(r"phase fraction of (\S+)", spec)
+    if m:
+        return f"the {m.group(1)} fraction"
+    return "the enthalpy balance" if spec.startswith("adiabatic") else spec
+
+
+def _one_of(names) -> str:
+    names = list(names)
+    return names[0] if len(names) == 1 else ", ".join(names[:-1]) + " and " + names[-1]
+
+
+def verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks) -> str:
+    """Why the verdict is what it is, in one sentence an engineer would use."""
+    eqs = [x.equation for x in analysis.reactions]
+    if verdict == "inconsistent":
+        if analysis.unbalanced:
+            u = analysis.unbalanced[0]
+            imb = ", ".join(f"{e} {'+' if v > 0 else ''}{format_fraction(v)}" for e, v in u.imbalance)
+            more = f" (and {len(analysis.unbalanced) - 1} more)" if len(analysis.unbalanced) > 1 else ""
+            return f"reaction {u.index + 1} '{eqs[u.index]}' does not balance ({imb}){more}: correct the equation"
+        if count.empty_phases:
+            return (f"{_one_of(count.empty_phases)} cannot form from this feed, yet the case assumes "
+                    f"{'it' if len(count.empty_phases) == 1 else 'them'} present")
+        if count.degrees_of_freedom < 0:
+            return (f"the phases assumed to coexist ({', '.join(count.coexisting)}) cannot coexist: the phase rule "
+                    f"gives F = {count.degrees_of_freedom}")
+        bad = [c for c in checks if c.held is False]
+        if bad:
+            c = bad[0]
+            return f"the case claims {c.name} = {show_value(c.claimed)}, but the audit finds {show_value(c.found)}"
+    if verdict == "over-specified":
+        names = [short_name(s) for s in (spec.conflicting or spec.intensive + spec.extensive)]
+        n_intensive, n_all = len(spec.intensive), len(spec.intensive) + len(spec.extensive)
+        excess = max(n_intensive - count.degrees_of_freedom, n_all - 2 if count.has_feed else 0, 1)
+        what = "one" if excess == 1 else str(excess)
+        why = (f"F = {count.degrees_of_freedom} allows {max(count.degrees_of_freedom, 0)} intensive"
+               if n_intensive > count.degrees_of_freedom else "a known feed takes exactly two")
+        return f"over-specified: drop {what} of {', '.join(names)} ({why})"
+    if verdict == "under-specified":
+        return "under-specified: " + (spec.suggestion or "fix more variables")
+    if verdict == "not-confirmed" and equilibrium is not None:
+        assumed = tuple(count.coexisting)
+        found = tuple(equilibrium.phases_present)
+        appeared = [p for p in found if p not in assumed]
+        vanished = [p for p in assumed if p not in found]
+        state = (f"the {'-'.join(assumed)}-only state assumed" if len(assumed) == 1
+                 else f"the assumed {' + '.join(assumed)} state")
+        if appeared:
+            carbon = [p for p in appeared if all(set(system.species[k].formula) == {"C"}
+                                                 for k in system.phase_indices(p))]
+            if carbon:
+                return f"{_one_of(carbon)} forms at equilibrium: carbon deposition expected, not {state}"
+            return f"{_one_of(appeared)} form{'s' if len(appeared) == 1 else ''} at equilibrium, not {state}"
+        if vanished:
+            return f"{_one_of(vanished)} {'is' if len(vanished) == 1 else 'are'} absent at equilibrium, not {state}"
+        errors = [f.message for f in equilibrium.findings if f.severity == "error"]
+        if not equilibrium.solved:
+            return "the Gibbs minimisation did not solve: " + (errors[0] if errors else "see the equilibrium section")
+        return "the Gibbs minimisation's certificate fails: " + (errors[0] if errors else "see the equilibrium section")
+    given = [short_name(s) for s in spec.intensive + spec.extensive]
+    fixed = f"{_one_of(given)} fix{'es' if len(given) == 1 else ''}" if given else "nothing fixes"
+    if count.has_feed:
+        text = f"{fixed} the state (Duhem's two for a known feed; F = {count.degrees_of_freedom})"
+    else:
+        text = f"{fixed} the intensive state (F = {count.degrees_of_freedom})"
+    if equilibrium is not None and equilibrium.confirmed:
+        text += f", and the Gibbs minimisation confirms the assumed phases ({', '.join(count.coexisting)})"
+    return text
 
 
 def show_value(v) -> str:

@@ -72,9 +72,11 @@ def _parser() -> argparse.ArgumentParser:
     n.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
     q = sub.add_parser("species", help="search the packaged thermo databases by name or formula",
                        epilog="examples:\n  auditor species CaCO3\n  auditor species 'C(gr)'\n  auditor species methanol"
-                              "\n  auditor species H2O --json",
+                              "\n  auditor species steam\n  auditor species graphite\n  auditor species H2O --json\n"
+                              "A QUERY is a common name (methanol, steam, lime), part of a database name, or a formula.",
                        formatter_class=argparse.RawDescriptionHelpFormatter)
-    q.add_argument("query", metavar="QUERY", help="part of a name, or a formula such as CH4O")
+    q.add_argument("query", metavar="QUERY", help="a common name (methanol, steam, graphite), part of a "
+                   "database name, or a formula such as CH4O")
     q.add_argument("--limit", type=int, default=40, metavar="N")
     q.add_argument("--json", action="store_true")
     q.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
@@ -97,14 +99,17 @@ exit status: 0 well posed and every claim holds, 1 the audit found a problem,
 2 an input could not be read or is invalid."""
 
 
-def _audit_all(paths, args):
-    """(path, AuditResult or InputError) in the order given; several cases go to an executor."""
+def _audit_all(paths, args, tick=lambda: None):
+    """(path, AuditResult or InputError) in the order given; several cases go to an executor.
+    ``tick`` is called once per finished case (the progress bar)."""
     from .audit import audit_for_batch
     confirm = not args.no_confirm
     jobs = args.jobs if args.jobs is not None else (1 if len(paths) <= 2 else None)
     if len(paths) == 1 or (jobs == 1 and not args.scheduler) or args.debug:
         for path in paths:
-            yield path, audit_for_batch(path, confirm, raise_errors=args.debug)
+            result = audit_for_batch(path, confirm, raise_errors=args.debug)
+            tick()
+            yield path, result
         return
     from .executors import make_executor
     executor = make_executor(jobs, args.scheduler)
@@ -112,6 +117,7 @@ def _audit_all(paths, args):
         done = {}
         for (path, _), result in executor.map_blocks(audit_for_batch, [(p, confirm) for p in paths]):
             done[path] = result
+            tick()
         for path in paths:
             yield path, done[path]
     finally:
@@ -136,17 +142,19 @@ def _cmd_check(args) -> int:
             print(f"auditor: error: {exc}", file=sys.stderr)
             return EXIT_INPUT
     results, docs, status = [], [], EXIT_OK
-    for path, result in _audit_all(paths, args):
-        if isinstance(result, InputError):
-            if args.debug:
+    with progress_bar(len(paths), "case", args.quiet or len(paths) == 1, every_update=True) as bar:
+        for path, result in _audit_all(paths, args, tick=lambda: bar.update(1)):
+            if isinstance(result, InputError):
+                if args.debug:
+                    raise result
+                bar.clear()
+                print(f"auditor: error: {result}", file=sys.stderr)
+                status = max(status, EXIT_INPUT)
+                continue
+            if isinstance(result, BaseException):
                 raise result
-            print(f"auditor: error: {result}", file=sys.stderr)
-            status = max(status, EXIT_INPUT)
-            continue
-        if isinstance(result, BaseException):
-            raise result
-        results.append(result)
-        status = max(status, result.exit_status)
+            results.append(result)
+            status = max(status, result.exit_status)
     if args.report and results:
         from .report.files import write_atomic
         write_atomic(args.report, render_report(results[0], Path(args.report).suffix.lower()))
@@ -184,17 +192,16 @@ def colourise(text: str) -> str:
     import os
     if os.environ.get("NO_COLOR") or not sys.stdout.isatty():
         return text
-    colours = {"WELL-POSED": "32", "UNDER-SPECIFIED": "33", "OVER-SPECIFIED": "33",
-               "INCONSISTENT": "31", "NOT-CONFIRMED": "31"}
+    from .report.style import TERMINAL_SEVERITY, TERMINAL_VERDICT
     out = []
     for line in text.splitlines(keepends=True):
         if line.startswith("Verdict: "):
             word = line.split()[1]
-            line = f"Verdict: \033[1;{colours.get(word, '0')}m{word}\033[0m\n"
+            line = f"Verdict: \033[{TERMINAL_VERDICT.get(word, '1')}m{word}\033[0m\n"
         elif line.lstrip().startswith("[error]"):
-            line = line.replace("[error]", "\033[31m[error]\033[0m", 1)
+            line = line.replace("[error]", f"\033[{TERMINAL_SEVERITY['error']}m[error]\033[0m", 1)
         elif line.lstrip().startswith("[warning]"):
-            line = line.replace("[warning]", "\033[33m[warning]\033[0m", 1)
+            line = line.replace("[warning]", f"\033[{TERMINAL_SEVERITY['warning']}m[warning]\033[0m", 1)
         out.append(line)
     return "".join(out)
 
@@ -208,15 +215,16 @@ PREFIX.svg; finished points are journalled in PREFIX.partial.jsonl so that --res
 continue a run that was stopped."""
 
 
-def _progress(done: int, total: int) -> None:
-    if not sys.stderr.isatty():
-        return
-    width = 40
-    fill = int(width * done / max(total, 1))
-    sys.stderr.write(f"\r[{'#' * fill}{'.' * (width - fill)}] {done}/{total}")
-    if done == total:
-        sys.stderr.write("\n")
-    sys.stderr.flush()
+def progress_bar(total: int, unit: str, quiet: bool, initial: int = 0, every_update: bool = False):
+    """A progress bar (points done, rate, time left) on stderr, drawn only when stdout and stderr are
+    both terminals and --quiet is off; otherwise a bar that draws nothing."""
+    from tqdm import tqdm
+    show = not quiet and sys.stdout.isatty() and sys.stderr.isatty()
+    # a few slow cases: draw each one; many fast sweep points: at most ten redraws a second
+    return tqdm(total=total, initial=initial, unit=unit, file=sys.stderr, disable=not show, leave=False,
+                mininterval=0 if every_update else 0.1,
+                dynamic_ncols=True, bar_format="{desc}{percentage:3.0f}% |{bar}| {n_fmt}/{total_fmt} {unit}s "
+                                              "[{elapsed} elapsed, {remaining} left, {rate_fmt}]")
 
 
 def _file_sha256(path) -> str:
@@ -273,21 +281,21 @@ def _cmd_sweep(args) -> int:
     except BaseException:
         executor.close()
         raise
-    counter = [len(done)]
     try:
-        with open(journal, "a", encoding="utf-8") as jf:
+        with open(journal, "a", encoding="utf-8") as jf, \
+                progress_bar(total, "point", args.quiet, initial=len(done)) as bar:
             def on_result(r):
                 jf.write(r.to_json() + "\n")
                 jf.flush()
-                counter[0] += 1
-                _progress(counter[0], total)
+                bar.update(1)
             results = run_sweep(str(Path(args.case)), axes, executor, done=done, on_result=on_result,
                                 block_size=args.block_size, workers=executor.workers)
     finally:
         executor.close()
     assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
     write_atomic(csv_path, csv_text(results))
-    write_atomic(svg_path, sweep_svg(results, axes, assumed))
+    from .report.sweep_plot import unit_of
+    write_atomic(svg_path, sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary]))
     journal.unlink(missing_ok=True)
     failed = [r for r in results if r.verdict == "failed"]
     off = [r for r in results if r.verdict != "well-posed"]
@@ -311,17 +319,30 @@ def _cmd_new(args) -> int:
 
 
 def _cmd_species(args) -> int:
+    from .common_names import lookup
     from .system import search_species
-    hits = search_species(args.query, limit=args.limit)
+    hits, seen = [], set()
+    for common, name in lookup(args.query):
+        for h in search_species(name, limit=args.limit):
+            if h["name"] == name and name not in seen:
+                seen.add(name)
+                hits.append(dict(h, common_name=common))
+    for h in search_species(args.query, limit=args.limit):
+        if h["name"] not in seen:
+            seen.add(h["name"])
+            hits.append(h)
+    hits = hits[:args.limit]
     if args.json:
         print(json.dumps(hits, indent=1))
         return EXIT_OK if hits else EXIT_PROBLEM
     if not hits:
         print(f"no species in the packaged databases matches {args.query!r}")
         return EXIT_PROBLEM
-    print(f"{'name':<22} {'kind':<10} {'formula':<18} {'charge':>6}  thermo range, K")
+    print(f"{'name':<22} {'kind':<10} {'formula':<18} {'charge':>6}  {'thermo range, K':<18} common name")
     for h in hits:
-        print(f"{h['name']:<22} {h['kind']:<10} {h['formula']:<18} {h['charge']:>6}  {h['t_min']:g} - {h['t_max']:g}")
+        span = f"{h['t_min']:g} - {h['t_max']:g}"
+        print(f"{h['name']:<22} {h['kind']:<10} {h['formula']:<18} {h['charge']:>6}  {span:<18} "
+              f"{h.get('common_name', '')}".rstrip())
     return EXIT_OK
 
 

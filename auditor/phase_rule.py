@@ -57,6 +57,7 @@ class PhaseRuleCount:
     has_feed: bool
     excluded: tuple[str, ...] = ()            # species that need an element the feed lacks
     empty_phases: tuple[str, ...] = ()        # assumed phases none of whose species can exist
+    feed_words: tuple[tuple[str, str], ...] = ()  # (phase, the feed relations of it as ratios in words)
 
     @property
     def restrictions(self) -> int:
@@ -108,6 +109,36 @@ def relation_text(phase: str, coeffs: dict[int, Fraction | int], labels: Sequenc
     text = " ".join(terms)
     text = text[2:] if text.startswith("+ ") else text
     return f"in phase {phase}: {text} = {rhs}"
+
+
+def _ratio_text(x: Fraction) -> str:
+    f = float(x)
+    if Fraction(repr(round(f, 6))) == x:
+        return f"{f:g}"
+    return exact.format_fraction(x) if x.denominator <= 1000 else f"{f:.4g}"
+
+
+def feed_ratios(W, names, b, idx, outside, relations, readable=None) -> str:
+    """The feed relations of one phase as ratios of conserved quantities ("H:C = 4"), when the
+    ratios span exactly the same relations; "" otherwise (the equations then stand alone)."""
+    if not relations:
+        return ""
+    readable = readable or [True] * len(W)   # quantities with a short name (the elements)
+    order = sorted((i for i in range(len(W)) if b[i] != 0 and readable[i]), key=lambda i: (names[i] != "C", i))
+    inside, kept = set(idx), []
+    ech = exact.RowEchelon(track=False)
+    for pos, j in enumerate(order):            # j the reference (carbon first when fed)
+        for i in order[pos + 1:]:
+            v = {k: b[j] * Fraction(W[i].get(k, 0)) - b[i] * Fraction(W[j].get(k, 0)) for k in set(W[i]) | set(W[j])}
+            if any(v.get(k, 0) != 0 for k in outside):
+                continue
+            v = {k: c for k, c in v.items() if c != 0 and k in inside}
+            if v and ech.add(v) is None:
+                kept.append((i, j))
+    if len(kept) != len(relations) or any(ech.reduce(dict(u))[0] for u in relations):
+        return ""
+    parts = [f"{names[i]}:{names[j]} = {_ratio_text(Fraction(b[i]) / b[j])}" for i, j in kept]
+    return parts[0] if len(parts) == 1 else ", ".join(parts[:-1]) + " and " + parts[-1]
 
 
 def _exact_amount(x) -> Fraction:
@@ -169,6 +200,7 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
     double: list[Relation] = []
     r_feed = r_declared = 0
     declared_by_phase: dict[str, list[tuple[dict, str, str]]] = {}
+    feed_words: list[tuple[str, str]] = []
     for r in case.restrictions:
         if r.kind == "ratio":
             rr = r.ratio
@@ -205,8 +237,13 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
                 if u:
                     feed_vectors.append(u)
             # same span, written with small integer coefficients a reviewer can read
-            for u in exact.small_integer_basis(feed_vectors):
+            basis_small = exact.small_integer_basis(feed_vectors)
+            for u in basis_small:
                 found.append((u, "feed", relation_text(phase, u, labels), "feed"))
+            words = feed_ratios(W, [c.name for c in analysis.conserved], b, idx, outside, basis_small,
+                                [c.is_element for c in analysis.conserved])
+            if words:
+                feed_words.append((phase, words))
         # independent feed/electroneutrality relations of this phase
         for u, origin, text, kp in found:
             feed_only.add(u)
@@ -243,4 +280,5 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
         coexisting=tuple(coexisting), present_species=present, n_species=len(present),
         n_phases=len(coexisting), independent_reactions=m, reactions_present=reactions_present,
         r_feed=r_feed, r_declared=r_declared, relations=tuple(relations), double_counted=tuple(double),
-        has_feed=case.feed is not None, excluded=tuple(system.labels[k] for k in excluded), empty_phases=empty)
+        has_feed=case.feed is not None, excluded=tuple(system.labels[k] for k in excluded), empty_phases=empty,
+        feed_words=tuple(feed_words))

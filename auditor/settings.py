@@ -33,6 +33,10 @@ LNK_ADDITIVITY_TOLERANCE = 1e-9
 # square system is called numerically singular.
 JACOBIAN_RANK_TOLERANCE = 1e-10
 
+# A product the feed does not hold and that practice treats as kinetically hindered is
+# reported when it holds more than this share of an element at equilibrium ("most of it").
+HINDERED_ELEMENT_SHARE = 0.5
+
 # Limits against hostile input.
 MAX_CASE_FILE_BYTES = 1_000_000
 MAX_YAML_DEPTH = 20
@@ -57,4 +61,5 @@ TOLERANCES = {
     "phase_amount_rcond_tolerance": PHASE_AMOUNT_RCOND_TOLERANCE,
     "lnK_additivity_tolerance": LNK_ADDITIVITY_TOLERANCE,
     "jacobian_rank_tolerance": JACOBIAN_RANK_TOLERANCE,
+    "hindered_element_share": HINDERED_ELEMENT_SHARE,
 }

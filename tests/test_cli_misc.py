@@ -223,7 +223,8 @@ def test_quiet_still_reports_an_unreadable_case(capsys, tmp_path):
     assert rc == 2 and out == "" and str(missing) in err and "Traceback" not in err
 
 
-SUMMARY = re.compile(r"^(?P<verdict>[a-z-]+) +F=(?P<F>-?\d+) +m=(?P<m>\d+) +(?P<path>.+)$")
+# verdict, F, m, the case path, then why in words (the verdict's reason, or a well-posed case's first warning)
+SUMMARY = re.compile(r"^(?P<verdict>[a-z-]+) +F=(?P<F>-?\d+) +m=(?P<m>\d+) +(?P<path>.+?\.yaml): (?P<why>\S.*)$")
 
 SEVERAL = {
     # name: (cases, expected exit status, expected verdicts of the readable cases, or None)

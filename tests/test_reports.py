@@ -39,10 +39,12 @@ DESIGN = REPO / "cases" / "reformer_design_point.yaml"       # well posed, solve
 OVERSPEC = REPO / "cases" / "lime_kiln_overspecified.yaml"   # exit status 1
 
 # Section titles of a filed report and the ids the HTML gives them (title, lower case, '-').
-SECTIONS = ("Verdict", "Inputs", "System", "Reactions", "Phase rule", "Specification audit",
-            "Equilibrium and certificate", "Claims", "Assumptions", "Findings", "Cautions")
-SECTION_IDS = ("verdict", "inputs", "system", "reactions", "phase-rule", "specification-audit",
-               "equilibrium-and-certificate", "claims", "assumptions", "findings", "cautions")
+SECTIONS = ("Verdict", "Case as entered", "Provenance", "System", "Reactions", "Phase rule", "Specification audit",
+            "Equilibrium and certificate", "Claims", "Assumptions", "Findings", "Cautions", "Sign-off")
+SECTION_IDS = ("verdict", "case-as-entered", "provenance", "system", "reactions", "phase-rule", "specification-audit",
+               "equilibrium-and-certificate", "claims", "assumptions", "findings", "cautions", "sign-off")
+# the Markdown report moves the embedded case file to an appendix just before the sign-off
+MD_HEADINGS = SECTIONS[:-1] + ("Appendix: case file", "Sign-off")
 CONTEXT_KEYS = ("inputs", "versions", "generated")   # only in filed reports (check_document with_context)
 
 # HTML void elements (WHATWG HTML, "void elements"): never closed.
@@ -281,11 +283,10 @@ def test_html_report_parses_and_is_self_contained(rendered):
     assert f"Verdict: {doc['verdict']}" in "".join(p.text.get("span", []))
     for picture in re.findall(r"<svg\b.*?</svg>", text, flags=re.S):   # inline SVG is well-formed XML too
         assert ET.fromstring(picture).tag == "{http://www.w3.org/2000/svg}svg"
+    # the composition is a table (one row per species), not a picture: no list printed twice
+    assert "equilibrium-and-certificate" not in p.svg_labels
     if solved(doc):
-        labels = p.svg_labels.get("equilibrium-and-certificate", [])
-        assert any(lab.startswith("mole fractions in ") for lab in labels), labels
-    else:
-        assert "equilibrium-and-certificate" not in p.svg_labels
+        assert "Equilibrium composition" in "".join(p.text.get("caption", []))
 
 
 def test_json_report_validates_and_hashes_the_case(rendered):
@@ -308,11 +309,11 @@ def test_markdown_report_tables_and_headings(rendered):
     lines = text.split("\n")
     assert md_unescape(lines[0]) == f"# Equilibrium-problem audit: {doc['title']}"
     headings = [ln[3:] for ln in lines if ln.startswith("## ")]
-    assert headings == list(SECTIONS)
+    assert headings == list(MD_HEADINGS)
     tables = md_tables(text)     # asserts every table is well formed
     assert tables, "a filed report has at least the inputs and tolerances tables"
-    inputs = next(t for t in tables if t[0] == ["file", "SHA-256"])
-    assert [md_unescape(c) for c in inputs[1]] == [str(rendered["case"]),
+    inputs = next(t for t in tables if t[0] == ["role", "path as given", "SHA-256"])
+    assert [md_unescape(c) for c in inputs[1]] == ["case file", str(rendered["case"]),
                                                     hashlib.sha256(rendered["case"].read_bytes()).hexdigest()]
     assert f"Verdict: {doc['verdict']}" in [md_unescape(ln) for ln in lines]
     assert "<svg" not in text, "pictures belong to the HTML report only"
@@ -337,8 +338,8 @@ def test_awkward_names_are_escaped_in_every_format(tmp_path):
     assert "".join(p.text["h1"]) == f"Equilibrium-problem audit: {ODD_TITLE}"
     assert str(case) in p.text["td"]
     md = (tmp_path / "odd.md").read_text(encoding="utf-8")
-    inputs = next(t for t in md_tables(md) if t[0] == ["file", "SHA-256"])
-    assert md_unescape(inputs[1][0]) == str(case)
+    inputs = next(t for t in md_tables(md) if t[0] == ["role", "path as given", "SHA-256"])
+    assert md_unescape(inputs[1][1]) == str(case)
     doc = json.loads((tmp_path / "odd.json").read_text(encoding="utf-8"))
     assert doc["title"] == ODD_TITLE and schema_errors(doc) == []
 
@@ -352,8 +353,11 @@ def test_markdown_report_escapes_inline_html(tmp_path):
     assert run(["check", case, "--report", tmp_path / "r.md"])[0] == 0
     md = (tmp_path / "r.md").read_text(encoding="utf-8")
     assert md.startswith("# Equilibrium-problem audit: Odd ")
-    # a CommonMark renderer passes raw '<tag' through as HTML; '&lt;' or '\\<' would show the text instead
-    assert "<script" not in md and "<b>" not in md
+    # a CommonMark renderer passes raw '<tag' through as HTML; '&lt;' or '\\<' would show the text instead.
+    # The case file is embedded verbatim in a fenced code block (CommonMark: contents are literal text).
+    outside = re.sub(r"(?ms)^(`{3,})yaml\n.*?^\1$", "", md)
+    assert outside.count("```") == 0, "every fence closed"
+    assert "<script" not in outside and "<b>" not in outside
 
 
 def test_check_json_for_several_cases_is_a_list_of_valid_documents():

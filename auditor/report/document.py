@@ -55,6 +55,22 @@ def system_block(r: AuditResult) -> dict:
     }
 
 
+def thermo_inputs(r: AuditResult) -> list[dict]:
+    """Every thermo or mechanism file the audit read: path as the case gives it, SHA-256, role."""
+    if r.system.source != "packaged":
+        from .entered import read
+        return [{"path": read(r.case).source, "sha256": _sha256(r.system.source), "role": "mechanism"}]
+    from ..system import CONDENSED_DATABASE, GAS_DATABASE, shipped_data_file
+    out = []
+    for name, wanted in ((GAS_DATABASE, any(p.is_gas for p in r.system.phases)),
+                         (CONDENSED_DATABASE, any(not p.is_gas for p in r.system.phases))):
+        if wanted:
+            found = shipped_data_file(name)
+            out.append({"path": name, "sha256": _sha256(found) if found else None,
+                        "role": "thermo data (ships with cantera)"})
+    return out
+
+
 def check_document(r: AuditResult, with_context: bool = False) -> dict:
     """The audit as one JSON-ready dict.  ``with_context`` adds inputs, versions and the date
     (for filed reports); the ``generated`` timestamp is the only field that varies between runs."""
@@ -115,6 +131,8 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
         "claims": [{"claim": c.name, "claimed": _claim_value(c.claimed), "found": _claim_value(c.found),
                     "held": c.held} for c in r.claims],
         "findings": [{"severity": f.severity, "topic": f.topic, "message": f.message} for f in r.findings],
+        # additive: the verdict's reason in one plain sentence
+        "reason": r.reason,
         "tolerances": dict(TOLERANCES),
         "tool": {"name": "auditor", "version": __version__},
         "cautions": list(CAUTIONS),
@@ -126,9 +144,8 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
     doc["system"] = system_block(r)
     if with_context:
         import datetime
-        inputs = [{"path": str(r.case.path), "sha256": _sha256(r.case.path)}]
-        if r.system.source not in ("packaged",):
-            inputs.append({"path": r.system.source, "sha256": _sha256(r.system.source)})
+        inputs = [{"path": str(r.case.path), "sha256": _sha256(r.case.path), "role": "case file"}]
+        inputs += thermo_inputs(r)
         doc["inputs"] = inputs
         doc["versions"] = versions()
         doc["generated"] = datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds")

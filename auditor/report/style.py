@@ -26,6 +26,9 @@ INK = "#1d232a"                # body text
 RULE = "#8a9099"               # table and heading rules
 HEADER_FILL = "#e8ebe4"        # table header cells
 GRID = "#d5d9de"               # chart gridlines
+PAPER_TINT = "#f4f3ee"         # background of embedded files
+AXIS = INK                     # chart frames, axes and legend outlines
+LABEL_HALO = "#ffffff"         # outline behind labels drawn over coloured regions
 
 # Verdict box: (fill, border) per verdict.
 VERDICT = {
@@ -35,6 +38,11 @@ VERDICT = {
     "inconsistent": ("#f2e0db", "#8e3b46"),
     "not-confirmed": ("#f2e0db", "#8e3b46"),
 }
+
+# Terminal (ANSI SGR codes): verdict words and finding severities on a colour terminal.
+TERMINAL_VERDICT = {"WELL-POSED": "1;32", "UNDER-SPECIFIED": "1;33", "OVER-SPECIFIED": "1;33",
+                    "INCONSISTENT": "1;31", "NOT-CONFIRMED": "1;31"}
+TERMINAL_SEVERITY = {"error": "31", "warning": "33"}
 
 
 def series(i: int) -> str:

@@ -1,11 +1,54 @@
-"""Pictures of a sweep: compositions against the swept variable, or a phase-presence map."""
+"""Pictures of a sweep: compositions against the swept variable, or a phase-presence map.
+
+Each picture carries the case title, the conditions held fixed, gridlines at round values,
+and the swept variable in the unit the user gave on the command line (``degC`` stays degC).
+"""
 from __future__ import annotations
 
 from typing import Sequence
 
 from . import svg
 
-UNITS = {"temperature": ("temperature_K", 1.0, "temperature, K"), "pressure": ("pressure_Pa", 1e-5, "pressure, bar")}
+DEFAULT_UNIT = {"temperature": "K", "pressure": "bar"}
+SI_UNIT = {"temperature": "K", "pressure": "Pa"}
+FIELD = {"temperature": "temperature_K", "pressure": "pressure_Pa"}
+
+
+def unit_of(vary_text: str) -> str:
+    """The unit written after STEP in ``NAME=START:STOP:STEP [UNIT]`` (the default when none)."""
+    name, _, rng = vary_text.partition("=")
+    last = rng.split(":")[-1].strip().split(None, 1)
+    return last[1].strip() if len(last) > 1 else DEFAULT_UNIT.get(name.strip(), "")
+
+
+def convert(values, name: str, unit: str) -> list[float]:
+    """SI values of a swept variable in ``unit`` (K to degC, Pa to bar, ...)."""
+    if unit == SI_UNIT[name]:
+        return [float(v) for v in values]
+    from ..case import _units
+    q = _units().Quantity
+    return [float(q(v, SI_UNIT[name]).to(unit).magnitude) for v in values]
+
+
+def _label(name: str, unit: str) -> str:
+    return f"{name}, {unit}"
+
+
+def _fixed(case, axes) -> list[str]:
+    """The conditions the sweep holds fixed, as the case file writes them."""
+    if case is None:
+        return []
+    from .entered import read
+    e = read(case)
+    swept = {a.name for a in axes}
+    held = [f"{k} = {v}" for k, v in e.specified if k.split(".")[0] not in swept]
+    feed = ", ".join(f"{s} {t}" for s, t in e.feed)
+    lines = []
+    if held:
+        lines.append("held fixed: " + "; ".join(held))
+    if feed:
+        lines.append(f"feed: {feed}" + ("" if any(c.isalpha() for _, t in e.feed for c in t) else " (mol)"))
+    return lines
 
 
 def _stack(parts: list[str]) -> str:
@@ -21,24 +64,29 @@ def _stack(parts: list[str]) -> str:
     return (f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" height="{y}">\n' + "\n".join(body) + "\n</svg>\n")
 
 
-def sweep_svg(results, axes: Sequence, assumed: Sequence[str]) -> str:
+def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units: Sequence[str] | None = None) -> str:
+    """The sweep's picture; ``units`` are the units the user gave per axis (default K and bar)."""
+    units = list(units or [DEFAULT_UNIT[a.name] for a in axes])
+    title = case.title if case is not None else "sweep"
+    fixed = _fixed(case, axes)
     if len(axes) == 2:
         a0, a1 = axes
-        f0, s0, l0 = UNITS[a0.name]
-        f1, s1, l1 = UNITS[a1.name]
-        xs = [v * s0 for v in a0.values]
-        ys = [v * s1 for v in a1.values]
+        xs, ys = convert(a0.values, a0.name, units[0]), convert(a1.values, a1.name, units[1])
         cells = {}
         for r in results:
             i, j = r.index % len(xs), r.index // len(xs)
             cells[(i, j)] = " + ".join(r.phases_present) if r.phases_present else r.verdict
-        return _stack([svg.presence_map(f"phases present (assumed: {' + '.join(assumed)})", xs, ys, cells, l0, l1)])
-    axis = axes[0]
-    field, scale, label = UNITS[axis.name]
-    xs = [getattr(r, field) * scale if getattr(r, field) else float("nan") for r in results]
+        sub = [f"phases present (assumed: {' + '.join(assumed)}) at equilibrium"] + fixed
+        return _stack([svg.presence_map(title, xs, ys, cells, _label(a0.name, units[0]), _label(a1.name, units[1]),
+                                        subtitle=sub)])
+    axis, unit = axes[0], units[0]
+    label = _label(axis.name, unit)
+    si = [getattr(r, FIELD[axis.name]) for r in results]
+    xs = convert([v if v else float("nan") for v in si], axis.name, unit)
     bad = [x for x, r in zip(xs, results) if r.verdict != "well-posed" or set(r.phases_present) != set(assumed)]
     step = (xs[1] - xs[0]) if len(xs) > 1 else 1.0
     shade = [(x - step / 2, x + step / 2) for x in bad]
+    note = "shaded: the assumed phases are not found" if bad else f"assumed phases ({', '.join(assumed)}) found throughout"
     by_phase: dict[str, dict[str, list[float]]] = {}
     for r in results:
         for key, _ in r.mole_fractions:
@@ -51,14 +99,19 @@ def sweep_svg(results, axes: Sequence, assumed: Sequence[str]) -> str:
     for phase, series in by_phase.items():
         if len(series) > 1:
             top = dict(sorted(series.items(), key=lambda kv: -max([v for v in kv[1] if v == v] or [0]))[:10])
-            parts.append(svg.line_chart(f"{phase}: mole fractions (shaded: assumptions do not hold)", label, xs, top,
-                                        shade=shade))
-    moles = {}
+            parts.append(svg.line_chart(title, label, xs, top, shade=shade, y_label=f"mole fraction in {phase}",
+                                        subtitle=[f"{phase}: mole fractions; {note}"] + fixed))
+    moles, never = {}, []
     for r in results:
         for p, _ in r.phase_moles:
             moles.setdefault(p, [])
-    for p in moles:
+    for p in list(moles):
         moles[p] = [dict(r.phase_moles).get(p, float("nan")) for r in results]
+        if not any(v > 0 for v in moles[p] if v == v):
+            never.append(p)
+            del moles[p]
     if moles:
-        parts.append(svg.line_chart("phase amounts, mol (shaded: assumptions do not hold)", label, xs, moles, shade=shade))
-    return _stack(parts or [svg.line_chart("no solved points", label, xs, {})])
+        absent = f"; never present: {', '.join(never)}" if never else ""
+        parts.append(svg.line_chart(title, label, xs, moles, shade=shade, y_label="phase amount, mol",
+                                    subtitle=[f"phase amounts{absent}; {note}"] + fixed, y_from_zero=False))
+    return _stack(parts or [svg.line_chart(title, label, xs, {}, subtitle=["no solved points"] + fixed)])

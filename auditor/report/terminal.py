@@ -15,7 +15,9 @@ def _wrap(text: str, indent: str = "  ") -> list[str]:
 
 def audit_text(r: AuditResult, explain: bool = False) -> str:
     pr, sp, a = r.phase_rule, r.specification, r.reactions
-    out = [f"{r.case.title}  ({r.case.path})", f"Verdict: {r.verdict.upper()}", ""]
+    out = [f"{r.case.title}  ({r.case.path})", f"Verdict: {r.verdict.upper()}"]
+    out += _wrap(f"Why: {r.reason}", "") if r.reason else []
+    out.append("")
     out.append("Phase rule over the phases assumed to coexist:")
     rows = [("N  phase-species", pr.n_species), ("pi phases", pr.n_phases),
             ("m  independent reactions", pr.independent_reactions),
@@ -51,7 +53,7 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
     if sp.suggestion:
         out += _wrap("suggested fix: " + sp.suggestion)
     if r.equilibrium is not None:
-        out += [""] + [l for line in r.equilibrium.summary_lines() for l in _wrap(line, "")]
+        out += [""] + [l for line in equilibrium_lines(r) for l in _wrap(line, "")]
     if r.claims:
         out += ["", "Claims:"]
         for c in r.claims:
@@ -65,6 +67,52 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
     return "\n".join(out) + "\n"
 
 
+def _fmt(x, why: str = "not computed") -> str:
+    return f"n/a ({why})" if x is None else f"{x:.2e}"
+
+
+def equilibrium_lines(r: AuditResult) -> list[str]:
+    """The minimisation in words: phases with amounts in the feed's unit, and the certificate."""
+    import math
+    from .entered import read
+    eq = r.equilibrium
+    if not eq.solved:
+        msgs = [f.message for f in eq.findings if f.topic == "equilibrium"][:3]
+        return msgs or ["Gibbs minimisation: not solved"]
+    e = read(r.case)
+    yes = {True: "yes", False: "no", None: "not decided"}
+    out = [f"Gibbs minimisation ({eq.solver}) at T = {eq.temperature_K:.2f} K ({eq.temperature_K - 273.15:.2f} degC), "
+           f"P = {eq.pressure_Pa / 1e5:.6g} bar: " + ("CONFIRMED" if eq.confirmed else "NOT CONFIRMED")]
+    for p in eq.phases:
+        if p.moles <= 0:
+            continue
+        major = sorted(p.mole_fractions, key=lambda kv: -kv[1])[:8]
+        out.append(f"  {p.name}: {p.moles / e.mol_per_unit:.6g} {e.amount_unit}; x: " + ", ".join(f"{k} {v:.4g}" for k, v in major))
+    unique = f"{yes[eq.unique]} ({eq.unique_basis})" if eq.unique_basis else yes[eq.unique]
+    out.append(f"  certificate: converged {yes[eq.converged]}; unique {unique}; balance error "
+               f"{_fmt(eq.element_balance_error)}; largest affinity {_fmt(eq.max_affinity_RT)} RT; potential residual "
+               f"{_fmt(eq.potential_residual_RT)} RT")
+    absent = ", ".join(f"{n} {d:+.3g}" if math.isfinite(d) else f"{n} cannot form (needs an element the feed lacks)"
+                       for n, d in eq.absent_phase_driving_force)
+    if absent:
+        out.append(f"  driving force to form absent phases (RT, must be positive): {absent}")
+    if eq.jacobian_rcond is not None:
+        out.append(f"  Jacobian smallest/largest singular value: {eq.jacobian_rcond:.3e}")
+    return out
+
+
+def why(r: AuditResult) -> str:
+    """Why, in one line: the verdict's reason for a problem; for a well-posed case its first
+    warning when it has one, else the reason."""
+    if r.verdict == "well-posed":
+        warnings_ = [f for f in r.findings if f.severity == "warning"]
+        if warnings_:
+            return f"warning: {warnings_[0].message.split('; ')[0]}"
+    return r.reason
+
+
 def summary_line(r: AuditResult) -> str:
     pr = r.phase_rule
-    return f"{r.verdict:<16} F={pr.degrees_of_freedom:<3} m={pr.independent_reactions:<3} {r.case.path}"
+    line = f"{r.verdict:<16} F={pr.degrees_of_freedom:<3} m={pr.independent_reactions:<3} {r.case.path}"
+    reason = " ".join(why(r).split())
+    return f"{line}: {reason}" if reason else line

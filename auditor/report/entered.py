@@ -1,0 +1,120 @@
+"""The case as the analyst entered it: each input's text as written, read from the case file.
+
+The validated ``Case`` holds SI values; a filed report also shows what was typed (``120 kmol``,
+``850 degC``), embeds the file and hashes it. This module reads the case file already on disk
+(the input of the audit) with the YAML composer, which keeps every scalar's source text.
+It also chooses the amount unit of the report: the feed's own molar unit when every feed
+amount is written in the same one (a feed in kmol gives results in kmol), else mol.
+"""
+from __future__ import annotations
+
+import hashlib
+import re
+from dataclasses import dataclass
+from pathlib import Path
+
+_NUMBER_UNIT = re.compile(r"^\s*[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?\s*(.*?)\s*$")
+
+
+@dataclass(frozen=True)
+class Entered:
+    path: str                                # the case path as given on the command line
+    text: str                                # the case file's text ("" when it cannot be read again)
+    sha256: str
+    source: str                              # "packaged", or the mechanism path as written in the file
+    feed: tuple[tuple[str, str], ...]        # (species, amount as written)
+    specified: tuple[tuple[str, str], ...]   # (key path, value as written)
+    restrictions: tuple[str, ...]            # each restriction as written (flow style)
+    claims: tuple[tuple[str, str], ...]      # (claim, value as written)
+    amount_unit: str                         # unit of amounts in the report
+    mol_per_unit: float                      # mol in one amount_unit
+
+
+def _flat(text: str) -> str:
+    return " ".join(text.split())
+
+
+def _snippet(text: str, node) -> str:
+    import yaml
+    if isinstance(node, yaml.ScalarNode):
+        return node.value
+    return _flat(text[node.start_mark.index:node.end_mark.index])
+
+
+def _leaves(text: str, node, prefix: str):
+    """(key path, text as written) of every scalar under a mapping node; lists stay whole."""
+    import yaml
+    if isinstance(node, yaml.MappingNode):
+        for k, v in node.value:
+            yield from _leaves(text, v, f"{prefix}.{k.value}" if prefix else k.value)
+    else:
+        yield prefix, _snippet(text, node)
+
+
+def _molar_unit(unit: str) -> float | None:
+    """mol per ``unit`` when it is an amount of substance (mol, kmol, lbmol), else None."""
+    if unit in ("", "mol"):
+        return 1.0
+    try:
+        from ..case import _units as registry     # the loader's registry (it defines lbmol)
+        ureg = registry()
+    except ImportError:                           # pragma: no cover - the loader always has one
+        import pint
+        ureg = pint.UnitRegistry()
+    try:
+        q = ureg.Quantity(1.0, unit)
+        if q.dimensionality != ureg.mol.dimensionality:
+            return None
+        return float(q.to("mol").magnitude)
+    except Exception:
+        return None
+
+
+def amount_unit(feed_texts) -> tuple[str, float]:
+    units = set()
+    for _, t in feed_texts:
+        m = _NUMBER_UNIT.match(t)
+        units.add(m.group(1) if m else None)
+    if len(units) == 1:
+        unit = units.pop()
+        if unit is not None:
+            scale = _molar_unit(unit)
+            if scale is not None:
+                return (unit or "mol"), scale
+    return "mol", 1.0
+
+
+def read(case) -> Entered:
+    """What the analyst wrote in ``case.path`` (falls back to the validated values if unreadable)."""
+    import yaml
+    path = str(case.path)
+    try:
+        raw = Path(case.path).read_bytes()
+        text = raw.decode("utf-8")
+        root = yaml.compose(text, Loader=yaml.SafeLoader)
+    except (OSError, UnicodeDecodeError, yaml.YAMLError):
+        raw, text, root = b"", "", None
+    top = {k.value: v for k, v in root.value} if isinstance(root, yaml.MappingNode) else {}
+    source = str(case.system.mechanism) if case.system.mechanism is not None else case.system.source
+    system = top.get("system")
+    if isinstance(system, yaml.MappingNode):
+        given = {k.value: v for k, v in system.value}
+        node = given.get("mechanism", given.get("source"))
+        if isinstance(node, yaml.ScalarNode):
+            source = node.value
+    feed: list[tuple[str, str]] = []
+    if isinstance(top.get("feed"), yaml.MappingNode):
+        feed = [(k.value, _snippet(text, v)) for k, v in top["feed"].value]
+    elif case.feed is not None:
+        feed = [(name, f"{float(a):g} mol") for name, a in case.feed]
+    specified = list(_leaves(text, top["specified"], "")) if isinstance(top.get("specified"), yaml.MappingNode) else []
+    restrictions = []
+    if isinstance(top.get("restrictions"), yaml.SequenceNode):
+        restrictions = [_snippet(text, n) for n in top["restrictions"].value]
+    claims = []
+    if isinstance(top.get("claims"), yaml.MappingNode):
+        claims = [(k.value, _snippet(text, v)) for k, v in top["claims"].value]
+    unit, scale = amount_unit(feed)
+    return Entered(path=path, text=text, sha256=hashlib.sha256(raw).hexdigest() if raw else "",
+                   source=source, feed=tuple(feed), specified=tuple(specified), restrictions=tuple(restrictions),
+                   claims=tuple(claims), amount_unit=unit, mol_per_unit=scale)
