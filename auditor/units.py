@@ -205,6 +205,13 @@ def _with_pint(number: float, unit: str, kinds: tuple[str, ...], what: str) -> t
     raise ValueError(f"unit {unit!r} is not a unit of {what} (expected e.g. {example(kinds)})")
 
 
+def from_si(values, unit: str, kind: str) -> list[float]:
+    """SI values expressed in ``unit`` (every accepted unit is linear in SI: scale and offset)."""
+    zero = parse(f"0 {unit}", kind).si
+    scale = parse(f"1 {unit}", kind).si - zero
+    return [(float(v) - zero) / scale for v in values]
+
+
 @functools.lru_cache(maxsize=1)
 def registry():
     """Pint's registry of the units a case may use (built from ``data/units.txt``)."""

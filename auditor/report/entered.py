@@ -55,18 +55,10 @@ def _molar_unit(unit: str) -> float | None:
     """mol per ``unit`` when it is an amount of substance (mol, kmol, lbmol), else None."""
     if unit in ("", "mol"):
         return 1.0
+    from ..units import parse
     try:
-        from ..case import _units as registry     # the loader's registry (it defines lbmol)
-        ureg = registry()
-    except ImportError:                           # pragma: no cover - the loader always has one
-        import pint
-        ureg = pint.UnitRegistry()
-    try:
-        q = ureg.Quantity(1.0, unit)
-        if q.dimensionality != ureg.mol.dimensionality:
-            return None
-        return float(q.to("mol").magnitude)
-    except Exception:
+        return parse(f"1 {unit}", "amount").si
+    except ValueError:
         return None
 
 

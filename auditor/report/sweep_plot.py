@@ -25,9 +25,8 @@ def convert(values, name: str, unit: str) -> list[float]:
     """SI values of a swept variable in ``unit`` (K to degC, Pa to bar, ...)."""
     if unit == SI_UNIT[name]:
         return [float(v) for v in values]
-    from ..case import _units
-    q = _units().Quantity
-    return [float(q(v, SI_UNIT[name]).to(unit).magnitude) for v in values]
+    from ..units import from_si
+    return from_si(values, unit, name)
 
 
 def _label(name: str, unit: str) -> str:
