@@ -32,7 +32,7 @@ import io
 import math
 import time
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -96,6 +96,8 @@ class EquilibriumCheck:
     element_potentials: tuple[tuple[str, float], ...] = ()
     unique_basis: str = ""                  # how ``unique`` was decided
     phase_amount_rcond: float | None = None  # present phases' conserved-quantity vectors: s_min/s_max
+    route: str = ""                         # the solve route whose state the certificate accepted
+    attempts: tuple[tuple[str, str], ...] = ()   # (route, outcome) in the order tried
 
     def document(self) -> dict:
         return {
@@ -123,6 +125,8 @@ class EquilibriumCheck:
             "element_potentials_RT": dict(self.element_potentials),
             "assumed_densities": [{"species": s, "density_kg_m3": d, "source": src}
                                   for s, d, src in self.assumed_densities],
+            "route": self.route or None,
+            "attempts": [{"route": r, "outcome": o} for r, o in self.attempts],
         }
 
     def summary_lines(self) -> list[str]:
@@ -294,6 +298,7 @@ class _Solution:
     converged: bool
     message: str = ""
     sides: tuple | None = None      # the two end states when the solve stopped on a univariant transition
+    route: str = ""                 # which route of ``_Solver.routes`` produced it
 
 
 @dataclass
@@ -419,6 +424,9 @@ class _Solver:
         self.static = static
         self.complete = analysis.complete
         self.calls = 0
+        self.first = 0                # index into ``routes`` where solves begin
+        self.failures: dict[str, str] = {}   # route -> its first failure in this pass
+        self._estimates: dict[str, np.ndarray | None] = {}
         self.log: list[str] = []      # what cantera's solver printed
         self.deadline = time.perf_counter() + settings.MINIMISATION_WALL_SECONDS
         key = candidate.tobytes()
@@ -476,7 +484,8 @@ class _Solver:
                 mix.equilibrate("TP", solver=solver, max_steps=2000, max_iter=200, estimate_equil=0)
             converged, msg = True, ""
         except Exception as exc:
-            converged, msg = False, " ".join(str(exc).split())[:300]
+            # cantera frames its message in rows of asterisks: keep the words
+            converged, msg = False, " ".join(str(exc).replace("*", " ").split())[:300]
         for line in log.getvalue().splitlines():
             if line.strip() and line.strip() not in self.log:
                 self.log.append(line.strip())
@@ -484,15 +493,109 @@ class _Solver:
         n[usable_mask] = mix.species_moles
         return _Solution(n, T, P, f"cantera {solver}", converged, msg)
 
+    # ---- routes: fixed, deterministic order; each tried only when the ones before it fail
+    @functools.cached_property
+    def routes(self) -> tuple[str, ...]:
+        """The routes this case may take, in order.  cantera's two multiphase solvers from the
+        feed, then from element-preserving starting estimates, then the project's own minimiser
+        (ideal phases only: it treats every phase as ideal).  An incomplete reaction list has
+        one route: only the own minimiser holds the extra conserved quantities."""
+        if not self.complete or not all(self.model.usable) or self._mixture is None:
+            return (ROUTE_OURS,)
+        return CANTERA_ROUTES + ((ROUTE_OURS,) if self.static.ideal else ())
+
+    def start_at(self, first: int) -> None:
+        """Later solves begin at route ``first`` (routes before it gave a state that failed its
+        certificate); forget what earlier passes recorded."""
+        self.first = first
+        self.failures = {}
+
+    def _estimate(self, kind: str) -> np.ndarray | None:
+        """Element-preserving starting estimates (same conserved quantities as the feed), cached
+        per solver: ``interior`` maximises the smallest amount of any candidate species (a
+        linear program), ``shifted`` moves the feed along the reaction directions."""
+        if kind not in self._estimates:
+            if kind == "interior":
+                self._estimates[kind] = _interior_estimate(self.static.W, self.n0, self.candidate & self._in_mixture)
+            else:
+                self._estimates[kind] = _perturbed_start(self.n0, *self.static.trial_directions[0]) \
+                    if self.static.directions.shape[0] else None
+        return self._estimates[kind]
+
+    def _run(self, route: str, T: float, P: float, start: np.ndarray | None) -> _Solution:
+        if route == ROUTE_OURS:
+            sol = self._ours(T, P)
+        else:
+            method, origin = ROUTE_PLAN[route]
+            if start is None:
+                start = self.n0 if origin == "feed" else self._estimate(origin)
+                if start is None:
+                    return _Solution(np.zeros(self.system.n_species), T, P, f"cantera {method}", False,
+                                     "no such starting estimate for this feed", route=route)
+            sol = self._cantera(T, P, start, method)
+        sol.route = route
+        if sol.converged:
+            W, b = self.static.W, self.static.W @ self.n0
+            if not np.isfinite(sol.n).all():
+                sol.converged, sol.message = False, "amounts that are not finite numbers"
+            elif b.size and np.abs(W @ np.maximum(sol.n, 0.0) - b).max() > \
+                    settings.ELEMENT_BALANCE_TOLERANCE * max(np.abs(b).max(), 1e-300):
+                sol.converged, sol.message = False, "amounts that break the conserved-quantity balance"
+        return sol
+
     def solve(self, T: float, P: float, start: np.ndarray | None = None) -> _Solution:
-        # the wall-clock bound is checked between solves (a running cantera call cannot be stopped)
-        if time.perf_counter() > self.deadline:
-            raise _SpecError(f"the minimisation exceeded its wall-clock bound of "
-                             f"{settings.MINIMISATION_WALL_SECONDS:g} s (settings.MINIMISATION_WALL_SECONDS)")
-        self.calls += 1
-        if not self.complete or not all(self.model.usable):
-            return self._ours(T, P)
-        return self._cantera(T, P, self.n0 if start is None else start)
+        """The first route from ``self.first`` on that converges (``start``, when given, replaces
+        the routes' own starting estimates: a uniqueness restart)."""
+        failed = None
+        for route in self.routes[self.first:]:
+            # the wall-clock bound is checked between solves (a running cantera call cannot be stopped)
+            if time.perf_counter() > self.deadline:
+                raise _SpecError(f"the minimisation exceeded its wall-clock bound of "
+                                 f"{settings.MINIMISATION_WALL_SECONDS:g} s (settings.MINIMISATION_WALL_SECONDS)")
+            if start is not None and ROUTE_PLAN.get(route, ("", "feed"))[1] != "feed":
+                continue                      # a restart keeps its own starting estimate
+            self.calls += 1
+            sol = self._run(route, T, P, start)
+            if sol.converged:
+                return sol
+            self.failures.setdefault(route, sol.message or "did not converge")
+            failed = failed or sol
+        return failed
+
+
+ROUTE_OURS = "element-potential minimiser"
+# route -> (cantera's MultiPhase.equilibrate solver, starting estimate)
+ROUTE_PLAN = {
+    "cantera vcs from the feed": ("vcs", "feed"),
+    "cantera gibbs from the feed": ("gibbs", "feed"),
+    "cantera vcs from an interior estimate": ("vcs", "interior"),
+    "cantera gibbs from an interior estimate": ("gibbs", "interior"),
+    "cantera vcs from a shifted estimate": ("vcs", "shifted"),
+}
+CANTERA_ROUTES = tuple(ROUTE_PLAN)
+
+
+def _interior_estimate(W: np.ndarray, n0: np.ndarray, usable: np.ndarray) -> np.ndarray | None:
+    """Amounts with the feed's conserved quantities, every usable species as far from zero as
+    possible: maximise t subject to W n = W n0, n_k >= t (k usable), n_k = 0 otherwise
+    (a linear program; scipy's HiGHS).  None when no such point exists."""
+    from scipy.optimize import linprog
+    idx = np.flatnonzero(usable)
+    if idx.size == 0:
+        return None
+    k = idx.size
+    total = float(n0.sum())
+    A_eq = np.hstack((W[:, idx], np.zeros((W.shape[0], 1))))
+    A_ub = np.hstack((-np.eye(k), np.ones((k, 1))))          # t - n_k <= 0
+    c = np.zeros(k + 1)
+    c[-1] = -1.0
+    res = linprog(c, A_ub=A_ub, b_ub=np.zeros(k), A_eq=A_eq, b_eq=W @ n0,
+                  bounds=[(0, None)] * k + [(0, total)], method="highs")
+    if res.status != 0 or res.x[-1] <= 0:
+        return None
+    n = np.zeros_like(n0, dtype=float)
+    n[idx] = res.x[:k]
+    return n
 
 
 # ------------------------------------------------------------------ certificate
@@ -568,8 +671,9 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
     t0 = time.perf_counter()
     findings: list[Finding] = []
 
-    def not_solved(message: str, severity="error", assumed=()):
+    def not_solved(message: str, severity="error", assumed=(), extra=()):
         findings.append(Finding(severity, "equilibrium", message))
+        findings.extend(extra)
         return EquilibriumCheck(False, False, "", None, None, (), (), None, None, None, (), None, 0, None, None,
                                 tuple(assumed), tuple(findings), False, time.perf_counter() - t0)
 
@@ -599,20 +703,78 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
     candidate = ~(rows[rows @ n0 == 0] != 0).any(axis=0)
     solver = _Solver(model, system, analysis, n0, candidate)
 
-    try:
-        sol = _solve_specified(case, solver, spec)
-    except _SpecError as exc:
-        return not_solved(str(exc), assumed=model.assumed)
-    except Exception as exc:
-        return not_solved(f"the minimisation failed: {type(exc).__name__}: {' '.join(str(exc).split())[:300]}",
-                          assumed=model.assumed)
-    if sol is None or not sol.converged:
-        return not_solved("the minimisation did not converge" + (f": {sol.message}" if sol and sol.message else ""),
-                          assumed=model.assumed)
-    try:
-        return _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0)
-    except _SpecError as exc:
-        return not_solved(str(exc), assumed=model.assumed)
+    # every route in turn until one gives a state whose certificate holds (fallbacks cost time
+    # only where the first route fails)
+    attempts: list[tuple[str, str]] = []
+    first_check = None
+    first = 0
+    while first < len(solver.routes):
+        solver.start_at(first)
+        sol, stop = None, False
+        try:
+            sol = _solve_specified(case, solver, spec)
+        except _SpecError as exc:
+            failure, stop = str(exc), "wall-clock" in str(exc)
+        except Exception as exc:
+            failure = f"{type(exc).__name__}: {' '.join(str(exc).split())[:300]}"
+        else:
+            failure = "" if sol is not None and sol.converged else \
+                "did not converge" + (f": {sol.message}" if sol is not None and sol.message else "")
+        attempts.extend((r, "failed: " + m) for r, m in solver.failures.items() if r != getattr(sol, "route", None))
+        route = sol.route if sol is not None and sol.route else solver.routes[first]
+        if failure:
+            if not any(r == route for r, _ in attempts):
+                attempts.append((route, "failed: " + failure))
+            if stop or sol is None or not sol.route:
+                break
+        else:
+            try:
+                check = _certify(case, system, analysis, count, spec, model, solver, sol, list(findings), t0)
+            except _SpecError as exc:
+                attempts.append((route, f"failed: {exc}"))
+            else:
+                if certificate_holds(check):
+                    attempts.append((route, "certified"))
+                    return _with_route(check, route, attempts)
+                attempts.append((route, "certificate failed: " + (_certificate_failure(check) or "see findings")))
+                first_check = first_check or check
+        # the next pass starts after the route that produced this state
+        first = max(first, solver.routes.index(route)) + 1
+    tried = ", ".join(dict.fromkeys(r for r, _ in attempts))
+    if first_check is not None:
+        notes = [Finding("error", "equilibrium", f"route {r}: {o}") for r, o in attempts]
+        return _with_route(replace(first_check, findings=first_check.findings + tuple(notes)), "", attempts)
+    notes = [Finding("error", "equilibrium", f"route {r}: {o}") for r, o in attempts]
+    return _with_route(not_solved(f"the minimisation did not reach a certified state on any route ({tried})",
+                                  assumed=model.assumed, extra=notes), "", attempts)
+
+
+def certificate_holds(check: EquilibriumCheck) -> bool:
+    """The numerical certificate holds (whatever the phases assumed): balance, zero affinity,
+    no absent phase that should form, and restarts that agree (an indeterminate split
+    between phases is a property of the problem, not of the solver, and does not count)."""
+    return check.solved and not _certificate_failure(check)
+
+
+def _certificate_failure(check: EquilibriumCheck) -> str:
+    if not check.solved:
+        return "not solved"
+    tol = settings.AFFINITY_TOLERANCE_RT
+    if check.element_balance_error is None or not check.element_balance_error <= settings.ELEMENT_BALANCE_TOLERANCE:
+        return f"conserved-quantity balance error {check.element_balance_error}"
+    if check.max_affinity_RT is None or not check.max_affinity_RT <= tol:
+        return f"affinity {check.max_affinity_RT} RT"
+    bad = [n for n, d in check.absent_phase_driving_force if d < -tol]
+    if bad:
+        return f"absent phase(s) {', '.join(bad)} should form"
+    indeterminate = check.phase_amount_rcond is not None and check.phase_amount_rcond < settings.PHASE_AMOUNT_RCOND_TOLERANCE
+    if check.unique is False and not indeterminate:
+        return "starting estimates disagree"
+    return ""
+
+
+def _with_route(check: EquilibriumCheck, route: str, attempts) -> EquilibriumCheck:
+    return replace(check, route=route, attempts=tuple(attempts))
 
 
 class _SpecError(Exception):
@@ -709,7 +871,7 @@ def _on_transition(solver, resid, x, T, P):
     Tm, Pm = (x, P) if T is None else (T, x)
 
     def mix(t):
-        return _Solution((1 - t) * lo.n + t * hi.n, Tm, Pm, lo.solver, True, "", (lo.n, hi.n))
+        return _Solution((1 - t) * lo.n + t * hi.n, Tm, Pm, lo.solver, True, "", (lo.n, hi.n), lo.route)
 
     if resid(mix(0.0)) * resid(mix(1.0)) > 0:
         return None
