@@ -423,6 +423,7 @@ class _Solver:
         static = _static_for(system, analysis)
         self.static = static
         self.complete = analysis.complete
+        self.reactions = analysis.reactions
         self.calls = 0
         self.first = 0                # index into ``routes`` where solves begin
         self.failures: dict[str, str] = {}   # route -> its first failure in this pass
@@ -875,7 +876,51 @@ def _on_transition(solver, resid, x, T, P):
 
     if resid(mix(0.0)) * resid(mix(1.0)) > 0:
         return None
-    return mix(brentq(lambda t: resid(mix(t)), 0.0, 1.0, xtol=1e-15))
+    guess = mix(brentq(lambda t: resid(mix(t)), 0.0, 1.0, xtol=1e-15))
+    return _refine_transition(solver, resid, guess, T is None) or guess
+
+
+def _refine_transition(solver, resid, guess: _Solution, t_free: bool) -> _Solution | None:
+    """Solve the state on the transition directly: the T,P solver sets phase boundaries only
+    to its own tolerance (about 1e-4 K for ice/water), too coarse for the certificate.  On the
+    transition the phases of both sides coexist, and the state is fixed by the conserved
+    quantities, zero affinity of every independent reaction among their species, and the
+    extensive specification: as many equations as unknowns (the amounts and T, or P).
+    Solved by least squares (scipy's Levenberg-Marquardt) in ln n and ln T (or ln P)
+    from the mixture of the two sides; None when it does not converge."""
+    from scipy.optimize import least_squares
+    st, model = solver.static, solver.model
+    n_g = np.maximum(guess.n, 0.0)
+    totals = n_g @ st.membership
+    phase_present = totals > settings.PHASE_PRESENCE_FRACTION * max(totals.sum(), 1e-300)
+    present = phase_present[st.phase_of] & (n_g > 0) & solver.candidate
+    idx = np.flatnonzero(present)
+    basis = _present_set(st, solver.reactions, present).basis[:, idx]
+    W = st.W[:, idx]
+    b = st.W @ solver.n0
+    b_scale = max(float(np.abs(b).max()), 1e-300)
+
+    def state(z):
+        n = np.zeros_like(n_g)
+        n[idx] = np.exp(z[:-1])
+        x = math.exp(z[-1])
+        T, P = (x, guess.P) if t_free else (guess.T, x)
+        return _Solution(n, T, P, guess.solver, True, "", guess.sides, guess.route)
+
+    def equations(z):
+        sol = state(z)
+        mu = model.at_state(sol.T, sol.P, sol.n)[0][idx]
+        return np.concatenate(((W @ sol.n[idx] - b) / b_scale, basis @ mu, [resid(sol)]))
+
+    z0 = np.concatenate((np.log(np.maximum(n_g[idx], 1e-300)), [math.log(guess.T if t_free else guess.P)]))
+    try:
+        res = least_squares(equations, z0, method="lm", xtol=1e-15, ftol=1e-15, gtol=1e-15, max_nfev=200 * z0.size)
+    except Exception:
+        return None
+    out = state(res.x)
+    if np.max(np.abs(equations(res.x))) > 1e-9:
+        return None
+    return out
 
 
 def _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0) -> EquilibriumCheck:
