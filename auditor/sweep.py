@@ -187,29 +187,34 @@ def _feed_points(case: Case, axes: Sequence[Axis]) -> list[tuple[tuple, tuple]] 
 
 
 def _ratio_feed(feed: dict, elements_of: dict, ratios: list) -> dict:
-    """The feed nearest to ``feed`` (least squares in mol over the same species, the total
-    amount unchanged) whose element ratios X/Y take the values asked; exact rational
-    arithmetic (the KKT system of an equality-constrained least-squares problem)."""
+    """The feed with the element ratios X/Y asked: species holding none of the ratios' elements
+    keep their amounts; the others change as little as possible (least squares in mol) with
+    their total amount unchanged.  Exact rational arithmetic (the KKT system of an
+    equality-constrained least-squares problem)."""
     from .exact import solve_rational
-    labels = list(feed)
-    rows, rhs = [[Fraction(1)] * len(labels)], [sum(feed.values())]
-    for (x, y), r in ratios:
-        x, y = x.strip(), y.strip()
-        if not any(x in elements_of.get(lab, {}) for lab in labels) or not any(y in elements_of.get(lab, {}) for lab in labels):
+    ratios = [((x.strip(), y.strip()), _as_fraction(r)) for (x, y), r in ratios]
+    involved = {e for (x, y), _ in ratios for e in (x, y)}
+    for (x, y), _ in ratios:
+        if not any(x in elements_of[lab] for lab in feed) or not any(y in elements_of[lab] for lab in feed):
             raise InputError(Problem("--vary", f"ratio.{x}/{y}: the case's feed must hold both {x} and {y}"))
-        r = _as_fraction(r)
+    labels = [lab for lab in feed if involved & set(elements_of[lab])]
+    fixed = {lab: v for lab, v in feed.items() if lab not in labels}
+    rows, rhs = [[Fraction(1)] * len(labels)], [sum(feed[lab] for lab in labels)]
+    for (x, y), r in ratios:
+        # atoms of x from the fixed species count too: sum (A_x - r A_y) n = -(fixed part)
         rows.append([Fraction(elements_of[lab].get(x, 0)) - r * Fraction(elements_of[lab].get(y, 0)) for lab in labels])
-        rhs.append(Fraction(0))
+        rhs.append(-sum((Fraction(elements_of[lab].get(x, 0)) - r * Fraction(elements_of[lab].get(y, 0))) * v
+                        for lab, v in fixed.items()))
     k, m = len(labels), len(rows)
     # [I A^T; A 0] [n; mu] = [n0; rhs]
     kkt = [[Fraction(int(i == j)) for j in range(k)] + [rows[q][i] for q in range(m)] for i in range(k)]
     kkt += [rows[q] + [Fraction(0)] * m for q in range(m)]
     sol = solve_rational(kkt, [feed[lab] for lab in labels] + rhs)
     if sol is None or any(v < 0 for v in sol[:k]):
-        asked = ", ".join(f"{x.strip()}/{y.strip()} = {float(r):g}" for (x, y), r in ratios)
-        raise InputError(Problem("--vary", f"no feed of the case's species ({', '.join(labels)}) with the same total "
-                                 f"amount has {asked} with every amount non-negative"))
-    return dict(zip(labels, sol[:k]))
+        asked = ", ".join(f"{x}/{y} = {float(r):g}" for (x, y), r in ratios)
+        raise InputError(Problem("--vary", f"no feed of the species {', '.join(labels)} with their total amount "
+                                 f"unchanged has {asked} with every amount non-negative"))
+    return {lab: (fixed[lab] if lab in fixed else sol[labels.index(lab)]) for lab in feed}
 
 
 def grid(case: Case, axes: Sequence[Axis]) -> list[Point]:

@@ -8,6 +8,19 @@ from . import svg
 UNITS = {"temperature": ("temperature_K", 1.0, "temperature, K"), "pressure": ("pressure_Pa", 1e-5, "pressure, bar")}
 
 
+def _units(name: str) -> tuple[str, float, str]:
+    """(where a point keeps the value, scale, axis label); feed axes keep theirs in coordinates."""
+    if name in UNITS:
+        return UNITS[name]
+    if name.startswith("feed."):
+        return name, 1.0, f"{name[5:]} in the feed, mol"
+    return name, 1.0, f"{name[6:]} in the feed, atoms per atom"
+
+
+def _value(r, field: str):
+    return getattr(r, field) if field in ("temperature_K", "pressure_Pa") else dict(r.coordinates).get(field)
+
+
 def _stack(parts: list[str]) -> str:
     """One SVG holding several pictures one below the other."""
     import re
@@ -24,8 +37,8 @@ def _stack(parts: list[str]) -> str:
 def sweep_svg(results, axes: Sequence, assumed: Sequence[str]) -> str:
     if len(axes) == 2:
         a0, a1 = axes
-        f0, s0, l0 = UNITS[a0.name]
-        f1, s1, l1 = UNITS[a1.name]
+        f0, s0, l0 = _units(a0.name)
+        f1, s1, l1 = _units(a1.name)
         xs = [v * s0 for v in a0.values]
         ys = [v * s1 for v in a1.values]
         cells = {}
@@ -34,8 +47,8 @@ def sweep_svg(results, axes: Sequence, assumed: Sequence[str]) -> str:
             cells[(i, j)] = " + ".join(r.phases_present) if r.phases_present else r.verdict
         return _stack([svg.presence_map(f"phases present (assumed: {' + '.join(assumed)})", xs, ys, cells, l0, l1)])
     axis = axes[0]
-    field, scale, label = UNITS[axis.name]
-    xs = [getattr(r, field) * scale if getattr(r, field) else float("nan") for r in results]
+    field, scale, label = _units(axis.name)
+    xs = [_value(r, field) * scale if _value(r, field) is not None else float("nan") for r in results]
     bad = [x for x, r in zip(xs, results) if r.verdict != "well-posed" or set(r.phases_present) != set(assumed)]
     step = (xs[1] - xs[0]) if len(xs) > 1 else 1.0
     shade = [(x - step / 2, x + step / 2) for x in bad]
