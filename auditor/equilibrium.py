@@ -721,12 +721,15 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
         else:
             failure = "" if sol is not None and sol.converged else \
                 "did not converge" + (f": {sol.message}" if sol is not None and sol.message else "")
-        attempts.extend((r, "failed: " + m) for r, m in solver.failures.items() if r != getattr(sol, "route", None))
+        tried = {r for r, _ in attempts}
+        attempts.extend((r, "failed: " + m) for r, m in solver.failures.items()
+                        if r != getattr(sol, "route", None) and r not in tried)
         route = sol.route if sol is not None and sol.route else solver.routes[first]
         if failure:
             if not any(r == route for r, _ in attempts):
                 attempts.append((route, "failed: " + failure))
-            if stop or sol is None or not sol.route:
+            # a T,P solve that failed has already tried every route from ``first`` on
+            if stop or sol is None or not sol.route or route in solver.failures:
                 break
         else:
             try:
