@@ -268,7 +268,8 @@ def _cmd_sweep(args) -> int:
         check_target(target, [args.case], args.force or args.resume)
     # the journal's first line says which case and grid it belongs to
     header = json.dumps({"journal": 1, "case_sha256": _file_sha256(args.case),
-                         "grid": [[a.name, list(a.values)] for a in axes]}, sort_keys=True)
+                         "grid": [[a.name + (":" + ",".join(a.elements) if a.elements else ""), list(a.values)]
+                                  for a in axes]}, sort_keys=True)
     done = []
     if args.resume and journal.exists():
         lines = journal.read_text(encoding="utf-8").splitlines()

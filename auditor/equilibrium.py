@@ -149,6 +149,9 @@ class EquilibriumCheck:
             out.append(f"  driving force to form absent phases (RT, must be >= 0): {absent}")
         if self.jacobian_rcond is not None:
             out.append(f"  Jacobian smallest/largest singular value: {self.jacobian_rcond:.3e}")
+        if len(self.attempts) > 1:
+            out.append(f"  solve route: {self.route or 'none certified'}, after " + "; ".join(
+                f"{r} {o}" for r, o in self.attempts if o != "certified"))
         return out
 
 

@@ -276,3 +276,20 @@ def test_bad_sweep_input_is_one_message_and_exit_2(tmp_path, extra, message):
     assert rc == 2, (out, err)
     assert message in err and "Traceback" not in err
     assert list(tmp_path.iterdir()) == []
+
+
+def test_ternary_journal_of_another_element_order_is_refused(tmp_path):
+    """A journal names its map's elements: C,H,O points must not resume an H,C,O map."""
+    import hashlib
+    import json
+    header = json.dumps({"journal": 1, "case_sha256": hashlib.sha256(MAP_CASE.read_bytes()).hexdigest(),
+                         "grid": [["ternary:C,H,O", [list(v) for v in parse_ternary("C,H,O", 6).values]]]},
+                        sort_keys=True)
+    (tmp_path / "m.partial.jsonl").write_text(header + "\n")
+    rc, out, err = run(["sweep", MAP_CASE, "--ternary", "H,C,O", "--divisions", "6", "--out", "m", "--resume"],
+                       tmp_path)
+    assert rc == 2 and "belongs to another case file or grid" in err
+    rc, out, err = run(["sweep", MAP_CASE, "--ternary", "C,H,O", "--divisions", "6", "--out", "m", "--resume",
+                        "--jobs", "1"], tmp_path)
+    assert rc == 0, err
+    assert len(read_csv(tmp_path / "m.csv")) == 10                     # 5 * 4 / 2
