@@ -125,7 +125,7 @@ def test_graphite_present_exactly_where_the_gas_alone_is_supersaturated_in_carbo
     graphite = {s.name: s for s in ct.Species.list_from_file("nasa_condensed.yaml")}["C(gr)"]
     g_graphite_RT = graphite.thermo.h(923.0) / (ct.gas_constant * 923.0) - graphite.thermo.s(923.0) / ct.gas_constant
     checked = 0
-    for r in grid20["rows"][::3]:          # every third point keeps the test fast
+    for r in grid20["rows"]:
         c, h, o = (float(r[f"atoms[{e}]"]) for e in "CHO")
         margin = _carbon_potential_gas_alone(c, h, o) - g_graphite_RT
         if abs(margin) < 1e-6:
@@ -133,7 +133,7 @@ def test_graphite_present_exactly_where_the_gas_alone_is_supersaturated_in_carbo
         present_found = "graphite" in r["phases_present"].split()
         assert present_found == (margin > 0), (c, h, o, margin)
         checked += 1
-    assert checked >= 50
+    assert checked >= 150
 
 
 def test_ternary_svg_is_a_labelled_triangle_in_our_colours(grid20):
