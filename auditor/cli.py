@@ -54,8 +54,7 @@ def _parser() -> argparse.ArgumentParser:
     w.add_argument("case", metavar="CASE")
     w.add_argument("--vary", action="append", metavar="NAME=START:STOP:STEP",
                    help="temperature (K), pressure (bar), feed.SPECIES (mol of a feed species) or ratio.X/Y "
-                        "(atoms of element X per atom of Y in the feed, total feed amount fixed); repeat for a "
-                        "two-dimensional grid")
+                        "(atoms of element X per atom of Y in the feed); repeat for a two-dimensional grid")
     w.add_argument("--ternary", metavar="X,Y,Z", help="map three elements' feed composition at the case's T and P "
                    "(each fed as the case's single-element feed species, e.g. C(gr), H2, O2)")
     w.add_argument("--divisions", type=int, default=20, metavar="N",
@@ -215,10 +214,11 @@ EPILOG_SWEEP = """examples:
   auditor sweep my_case.yaml --vary ratio.O/C=0.5:3:0.25 --vary ratio.H/C=2:4:0.5
   auditor sweep chem.yaml --ternary C,H,O --divisions 20     a C-H-O map at the case's T, P
 Temperature is in K, pressure in bar and feed amounts in mol unless a unit follows STEP.
-A ratio axis changes the case's feed species as little as possible (least squares, in mol)
-while the total feed amount stays the same. A ternary point feeds each element as the
-case's single-element feed species (e.g. C(gr), H2, O2) with the case's total atoms;
-without --edges every element is present: (N-1)(N-2)/2 points, else (N+1)(N+2)/2.
+A ratio axis leaves the feed species holding neither element as they are and changes the
+others as little as possible (least squares, in mol) with their total amount kept.
+A ternary point feeds each element as the case's single-element feed species (e.g.
+C(gr), H2, O2) with the case's total atoms; without --edges every element is present:
+(N-1)(N-2)/2 points, else (N+1)(N+2)/2.
 Writes PREFIX.csv and PREFIX.svg (for --ternary: a labelled triangle marking the phases
 present and their boundaries); finished points are journalled in PREFIX.partial.jsonl so
 that --resume can continue a run that was stopped."""
@@ -318,16 +318,22 @@ def _cmd_sweep(args) -> int:
     failed = [r for r in results if r.verdict == "failed"]
     off = [r for r in results if r.verdict != "well-posed"]
     certified = [r for r in results if r.certified]
-    if not args.quiet:
+    if not args.quiet and args.ternary:   # a map asks which phases are present, not whether the assumed ones are
+        from collections import Counter
+        sets = Counter(" + ".join(r.phases_present) or "none" for r in results if r.verdict != "failed")
+        print(f"{len(results)} points: " + ", ".join(f"{n} with {k}" for k, n in sets.most_common())
+              + f", {len(failed)} failed; wrote {csv_path} and {svg_path}")
+    elif not args.quiet:
         print(f"{len(results)} points: {len(results) - len(off)} confirmed, {len(off) - len(failed)} not confirmed, "
               f"{len(failed)} failed; wrote {csv_path} and {svg_path}")
+    if not args.quiet:
         print(f"  certificate holds at {len(certified)} of {len(results)} points; "
               f"{sum(r.fallback for r in certified)} needed a fallback route"
               + "".join(f"; {n} by {route}" for route, n in _route_counts(certified)))
         reasons = sorted({r.message for r in failed})
         for m in reasons[:5]:
             print(f"  failure: {m}")
-    if args.ternary:   # a map asks which phases are present, not whether the assumed ones are
+    if args.ternary:
         return EXIT_OK if len(certified) == len(results) else EXIT_PROBLEM
     return EXIT_OK if not off else EXIT_PROBLEM
 
