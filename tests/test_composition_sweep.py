@@ -104,6 +104,21 @@ def test_ternary_csv_coordinates_are_exact_atom_fractions(grid20):
         assert float(r["temperature_K"]) == 923.0 and float(r["pressure_Pa"]) == 101325.0
 
 
+CARBON_IN = {"CH4": 1, "CO": 1, "CO2": 1, "C2H4": 2, "C2H6": 2, "CH3OH": 1}
+HYDROGEN_IN = {"CH4": 4, "H2O": 2, "H2": 2, "C2H4": 4, "C2H6": 6, "H": 1, "OH": 1, "HO2": 1, "H2O2": 2, "CH3OH": 4}
+
+
+def test_ternary_points_hold_the_atoms_they_were_fed(grid20):
+    """The map case feeds 4 mol of atoms (graphite 1, H2 1, O2 0.5); a point at atom
+    fractions (c, h) must end with 4c mol of C and 4h mol of H (element balance)."""
+    for r in grid20["rows"]:
+        gas = float(r["moles[gas]"])
+        c_found = gas * sum(float(r[f"x[gas:{sp}]"]) * k for sp, k in CARBON_IN.items()) + float(r["moles[graphite]"])
+        h_found = gas * sum(float(r[f"x[gas:{sp}]"]) * k for sp, k in HYDROGEN_IN.items())
+        assert c_found == pytest.approx(4 * float(r["atoms[C]"]), rel=1e-9)
+        assert h_found == pytest.approx(4 * float(r["atoms[H]"]), rel=1e-9)
+
+
 def _carbon_potential_gas_alone(c: float, h: float, o: float) -> float:
     """mu_C/RT of the gas equilibrated alone (no graphite allowed) at 923 K, 1 atm, from the
     element potentials that fit the chemical potentials of its species."""
