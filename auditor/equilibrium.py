@@ -6,7 +6,15 @@ with cantera's multiphase solver (``vcs``; D. G. Goodwin et al., Cantera, www.ca
 when the reaction list is complete, and with the element-potential minimiser of
 :mod:`auditor.minimiser` holding the extra conserved quantities fixed when it is not.
 Specifications other than temperature and pressure are met by a bracketed scalar solve
-(``scipy.optimize.brentq``) on T or P around the T,P minimisation.
+(``scipy.optimize.brentq``) on T or P around the T,P minimisation; where the answer sits on
+a univariant transition (the residual jumps: ice melting, a solid decomposing) the state
+is solved there directly, amounts and T (or P) together (``_refine_transition``).
+
+No single solver call is trusted to succeed.  Routes are tried in a fixed order
+(``_Solver.routes``): cantera's ``vcs`` and ``gibbs`` solvers from the feed, both from an
+element-preserving interior estimate (a linear program), ``vcs`` from a shifted estimate,
+then the element-potential minimiser; the first state whose certificate holds is kept and
+its route reported, and only when every route fails is the case not confirmed.
 
 The answer is not trusted: a certificate is checked instead.
 * balance: ``|W n - W n0| / |W n0|`` for every conserved quantity;

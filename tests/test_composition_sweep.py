@@ -309,3 +309,9 @@ def test_ternary_journal_of_another_element_order_is_refused(tmp_path):
                         "--jobs", "1"], tmp_path)
     assert rc == 0, err
     assert len(read_csv(tmp_path / "m.csv")) == 10                     # 5 * 4 / 2
+
+
+def test_exact_square_solve():
+    from auditor.exact import solve_rational
+    assert solve_rational([[2, 1], [1, 3]], [3, 5]) == [Fraction(4, 5), Fraction(7, 5)]   # by hand
+    assert solve_rational([[1, 2], [2, 4]], [1, 2]) is None                               # singular
