@@ -49,11 +49,18 @@ def _parser() -> argparse.ArgumentParser:
     c.add_argument("--scheduler", metavar="ADDRESS", help="audit several cases on a Dask cluster: tcp://HOST:PORT "
                    "or local:N (needs the cluster extra)")
     c.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
-    w = sub.add_parser("sweep", help="run the confirmation over a grid of temperature and pressure",
+    w = sub.add_parser("sweep", help="run the confirmation over a grid of temperature, pressure or feed composition",
                        epilog=EPILOG_SWEEP, formatter_class=argparse.RawDescriptionHelpFormatter)
     w.add_argument("case", metavar="CASE")
-    w.add_argument("--vary", action="append", required=True, metavar="NAME=START:STOP:STEP",
-                   help="temperature (K) or pressure (bar); repeat for a two-dimensional grid")
+    w.add_argument("--vary", action="append", metavar="NAME=START:STOP:STEP",
+                   help="temperature (K), pressure (bar), feed.SPECIES (mol of a feed species) or ratio.X/Y "
+                        "(atoms of element X per atom of Y in the feed); repeat for a two-dimensional grid")
+    w.add_argument("--ternary", metavar="X,Y,Z", help="map three elements' feed composition at the case's T and P "
+                   "(each fed as the case's single-element feed species, e.g. C(gr), H2, O2)")
+    w.add_argument("--divisions", type=int, default=20, metavar="N",
+                   help="ternary: atom ratios i:j:k with i + j + k = N (default 20)")
+    w.add_argument("--edges", action="store_true", help="ternary: include the sides of the triangle "
+                   "(compositions lacking an element)")
     w.add_argument("--out", metavar="PREFIX", help="output prefix (default: CASE name + _sweep)")
     w.add_argument("--jobs", type=int, default=None, metavar="N", help="worker processes (default: all cores)")
     w.add_argument("--scheduler", metavar="ADDRESS", help="a Dask scheduler tcp://HOST:PORT, or local:N "
@@ -210,9 +217,18 @@ EPILOG_SWEEP = """examples:
   auditor sweep cases/reformer_design_point.yaml --vary temperature=600:1400:25
   auditor sweep my_case.yaml --vary temperature=500:900:50 --vary pressure=1:40:5 --out envelope
   auditor sweep my_case.yaml --vary "temperature=400:700:10 degC" --jobs 2
-Temperature is in K and pressure in bar unless a unit follows STEP. Writes PREFIX.csv and
-PREFIX.svg; finished points are journalled in PREFIX.partial.jsonl so that --resume can
-continue a run that was stopped."""
+  auditor sweep my_case.yaml --vary feed.H2O=1:5:0.5         mol of H2O in the feed
+  auditor sweep my_case.yaml --vary ratio.O/C=0.5:3:0.25 --vary ratio.H/C=2:4:0.5
+  auditor sweep chem.yaml --ternary C,H,O --divisions 20     a C-H-O map at the case's T, P
+Temperature is in K, pressure in bar and feed amounts in mol unless a unit follows STEP.
+A ratio axis leaves the feed species holding neither element as they are and changes the
+others as little as possible (least squares, in mol) with their total amount kept.
+A ternary point feeds each element as the case's single-element feed species (e.g.
+C(gr), H2, O2) with the case's total atoms; without --edges every element is present:
+(N-1)(N-2)/2 points, else (N+1)(N+2)/2.
+Writes PREFIX.csv and PREFIX.svg (for --ternary: a labelled triangle marking the phases
+present and their boundaries); finished points are journalled in PREFIX.partial.jsonl so
+that --resume can continue a run that was stopped."""
 
 
 def progress_bar(total: int, unit: str, quiet: bool, initial: int = 0, every_update: bool = False):
@@ -240,8 +256,10 @@ def _cmd_sweep(args) -> int:
     from .executors import make_executor
     from .report.files import check_target, write_atomic
     from .report.sweep_plot import sweep_svg
-    from .sweep import PointResult, csv_text, grid, parse_vary, run_sweep
-    axes = [parse_vary(v) for v in args.vary]
+    from .sweep import PointResult, csv_text, grid, parse_ternary, parse_vary, run_sweep
+    if bool(args.vary) == bool(args.ternary):
+        raise InputError.single("--vary", "give --vary (one or two axes) or --ternary, not both and not neither")
+    axes = [parse_vary(v) for v in args.vary] if args.vary else [parse_ternary(args.ternary, args.divisions, args.edges)]
     for name in ("jobs", "block_size"):
         value = getattr(args, name)
         if value is not None and value < 1:
@@ -258,7 +276,8 @@ def _cmd_sweep(args) -> int:
         check_target(target, [args.case], args.force or args.resume)
     # the journal's first line says which case and grid it belongs to
     header = json.dumps({"journal": 1, "case_sha256": _file_sha256(args.case),
-                         "grid": [[a.name, list(a.values)] for a in axes]}, sort_keys=True)
+                         "grid": [[a.name + (":" + ",".join(a.elements) if a.elements else ""), list(a.values)]
+                                  for a in axes]}, sort_keys=True)
     done = []
     if args.resume and journal.exists():
         lines = journal.read_text(encoding="utf-8").splitlines()
@@ -294,18 +313,43 @@ def _cmd_sweep(args) -> int:
         executor.close()
     assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
     write_atomic(csv_path, csv_text(results))
-    from .report.sweep_plot import unit_of
-    write_atomic(svg_path, sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary]))
+    if args.ternary:
+        from .report.ternary import ternary_svg
+        s, written = case.specified, case.as_written       # T and P as the case file writes them
+        picture = ternary_svg(results, axes[0].elements, args.divisions,
+                              f"{case.title}: T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
+                              f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}")
+    else:
+        from .report.sweep_plot import unit_of
+        picture = sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary])
+    write_atomic(svg_path, picture)
     journal.unlink(missing_ok=True)
     failed = [r for r in results if r.verdict == "failed"]
     off = [r for r in results if r.verdict != "well-posed"]
-    if not args.quiet:
+    certified = [r for r in results if r.certified]
+    if not args.quiet and args.ternary:   # a map asks which phases are present, not whether the assumed ones are
+        from collections import Counter
+        sets = Counter(" + ".join(r.phases_present) or "none" for r in results if r.verdict != "failed")
+        print(f"{len(results)} points: " + ", ".join(f"{n} with {k}" for k, n in sets.most_common())
+              + f", {len(failed)} failed; wrote {csv_path} and {svg_path}")
+    elif not args.quiet:
         print(f"{len(results)} points: {len(results) - len(off)} confirmed, {len(off) - len(failed)} not confirmed, "
               f"{len(failed)} failed; wrote {csv_path} and {svg_path}")
+    if not args.quiet:
+        print(f"  certificate holds at {len(certified)} of {len(results)} points; "
+              f"{sum(r.fallback for r in certified)} needed a fallback route"
+              + "".join(f"; {n} by {route}" for route, n in _route_counts(certified)))
         reasons = sorted({r.message for r in failed})
         for m in reasons[:5]:
             print(f"  failure: {m}")
+    if args.ternary:
+        return EXIT_OK if len(certified) == len(results) else EXIT_PROBLEM
     return EXIT_OK if not off else EXIT_PROBLEM
+
+
+def _route_counts(results):
+    from collections import Counter
+    return sorted(Counter(r.route for r in results if r.fallback).items())
 
 
 def _cmd_new(args) -> int:

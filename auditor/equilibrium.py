@@ -6,7 +6,15 @@ with cantera's multiphase solver (``vcs``; D. G. Goodwin et al., Cantera, www.ca
 when the reaction list is complete, and with the element-potential minimiser of
 :mod:`auditor.minimiser` holding the extra conserved quantities fixed when it is not.
 Specifications other than temperature and pressure are met by a bracketed scalar solve
-(``scipy.optimize.brentq``) on T or P around the T,P minimisation.
+(``scipy.optimize.brentq``) on T or P around the T,P minimisation; where the answer sits on
+a univariant transition (the residual jumps: ice melting, a solid decomposing) the state
+is solved there directly, amounts and T (or P) together (``_refine_transition``).
+
+No single solver call is trusted to succeed.  Routes are tried in a fixed order
+(``_Solver.routes``): cantera's ``vcs`` and ``gibbs`` solvers from the feed, both from an
+element-preserving interior estimate (a linear program), ``vcs`` from a shifted estimate,
+then the element-potential minimiser; the first state whose certificate holds is kept and
+its route reported, and only when every route fails is the case not confirmed.
 
 The answer is not trusted: a certificate is checked instead.
 * balance: ``|W n - W n0| / |W n0|`` for every conserved quantity;
@@ -32,7 +40,7 @@ import io
 import math
 import time
 import warnings
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -96,6 +104,8 @@ class EquilibriumCheck:
     element_potentials: tuple[tuple[str, float], ...] = ()
     unique_basis: str = ""                  # how ``unique`` was decided
     phase_amount_rcond: float | None = None  # present phases' conserved-quantity vectors: s_min/s_max
+    route: str = ""                         # the solve route whose state the certificate accepted
+    attempts: tuple[tuple[str, str], ...] = ()   # (route, outcome) in the order tried
 
     def document(self) -> dict:
         return {
@@ -123,6 +133,8 @@ class EquilibriumCheck:
             "element_potentials_RT": dict(self.element_potentials),
             "assumed_densities": [{"species": s, "density_kg_m3": d, "source": src}
                                   for s, d, src in self.assumed_densities],
+            "route": self.route or None,
+            "attempts": [{"route": r, "outcome": o} for r, o in self.attempts],
         }
 
     def summary_lines(self) -> list[str]:
@@ -145,6 +157,9 @@ class EquilibriumCheck:
             out.append(f"  driving force to form absent phases (RT, must be >= 0): {absent}")
         if self.jacobian_rcond is not None:
             out.append(f"  Jacobian smallest/largest singular value: {self.jacobian_rcond:.3e}")
+        if len(self.attempts) > 1:
+            out.append(f"  solve route: {self.route or 'none certified'}, after " + "; ".join(
+                f"{r} {o}" for r, o in self.attempts if o != "certified"))
         return out
 
 
@@ -294,6 +309,7 @@ class _Solution:
     converged: bool
     message: str = ""
     sides: tuple | None = None      # the two end states when the solve stopped on a univariant transition
+    route: str = ""                 # which route of ``_Solver.routes`` produced it
 
 
 @dataclass
@@ -418,7 +434,12 @@ class _Solver:
         static = _static_for(system, analysis)
         self.static = static
         self.complete = analysis.complete
+        self.reactions = analysis.reactions
         self.calls = 0
+        self.first = 0                # index into ``routes`` where solves begin
+        self.failures: dict[str, str] = {}   # route -> its first failure in this pass
+        self.attempts: tuple = ()     # (route, outcome) of the passes before the current one
+        self._estimates: dict[str, np.ndarray | None] = {}
         self.log: list[str] = []      # what cantera's solver printed
         self.deadline = time.perf_counter() + settings.MINIMISATION_WALL_SECONDS
         key = candidate.tobytes()
@@ -476,7 +497,8 @@ class _Solver:
                 mix.equilibrate("TP", solver=solver, max_steps=2000, max_iter=200, estimate_equil=0)
             converged, msg = True, ""
         except Exception as exc:
-            converged, msg = False, " ".join(str(exc).split())[:300]
+            # cantera frames its message in rows of asterisks: keep the words
+            converged, msg = False, " ".join(str(exc).replace("*", " ").split())[:300]
         for line in log.getvalue().splitlines():
             if line.strip() and line.strip() not in self.log:
                 self.log.append(line.strip())
@@ -484,15 +506,106 @@ class _Solver:
         n[usable_mask] = mix.species_moles
         return _Solution(n, T, P, f"cantera {solver}", converged, msg)
 
+    # ---- routes: fixed, deterministic order; each tried only when the ones before it fail
+    @functools.cached_property
+    def routes(self) -> tuple[str, ...]:
+        """The routes this case may take, in order.  cantera's two multiphase solvers from the
+        feed, then from element-preserving starting estimates, then the project's own minimiser
+        (ideal phases only: it treats every phase as ideal).  An incomplete reaction list has
+        one route: only the own minimiser holds the extra conserved quantities."""
+        if not self.complete or not all(self.model.usable) or self._mixture is None:
+            return (ROUTE_OURS,)
+        return CANTERA_ROUTES + ((ROUTE_OURS,) if self.static.ideal else ())
+
+    def start_at(self, first: int) -> None:
+        """Later solves begin at route ``first`` (routes before it gave a state that failed its
+        certificate); forget what earlier passes recorded."""
+        self.first = first
+        self.failures = {}
+
+    def _estimate(self, kind: str) -> np.ndarray | None:
+        """Element-preserving starting estimates (same conserved quantities as the feed), cached
+        per solver: ``interior`` maximises the smallest amount of any candidate species (a
+        linear program), ``shifted`` moves the feed along the reaction directions."""
+        if kind not in self._estimates:
+            if kind == "interior":
+                self._estimates[kind] = _interior_estimate(self.static.W, self.n0, self.candidate & self._in_mixture)
+            else:
+                self._estimates[kind] = _perturbed_start(self.n0, *self.static.trial_directions[0]) \
+                    if self.static.directions.shape[0] else None
+        return self._estimates[kind]
+
+    def _run(self, route: str, T: float, P: float, start: np.ndarray | None) -> _Solution:
+        if route == ROUTE_OURS:
+            sol = self._ours(T, P)
+        else:
+            method, origin = ROUTE_PLAN[route]
+            if start is None:
+                start = self.n0 if origin == "feed" else self._estimate(origin)
+                if start is None:
+                    return _Solution(np.zeros(self.system.n_species), T, P, f"cantera {method}", False,
+                                     "no such starting estimate for this feed", route=route)
+            sol = self._cantera(T, P, start, method)
+        sol.route = route
+        # a state that breaks a balance is caught by the certificate, which sends the
+        # confirmation on to the next route; here only what no certificate can read
+        if sol.converged and not np.isfinite(sol.n).all():
+            sol.converged, sol.message = False, "amounts that are not finite numbers"
+        return sol
+
     def solve(self, T: float, P: float, start: np.ndarray | None = None) -> _Solution:
-        # the wall-clock bound is checked between solves (a running cantera call cannot be stopped)
-        if time.perf_counter() > self.deadline:
-            raise _SpecError(f"the minimisation exceeded its wall-clock bound of "
-                             f"{settings.MINIMISATION_WALL_SECONDS:g} s (settings.MINIMISATION_WALL_SECONDS)")
-        self.calls += 1
-        if not self.complete or not all(self.model.usable):
-            return self._ours(T, P)
-        return self._cantera(T, P, self.n0 if start is None else start)
+        """The first route from ``self.first`` on that converges (``start``, when given, replaces
+        the routes' own starting estimates: a uniqueness restart)."""
+        failed = None
+        for route in self.routes[self.first:]:
+            # the wall-clock bound is checked between solves (a running cantera call cannot be stopped)
+            if time.perf_counter() > self.deadline:
+                raise _SpecError(f"the minimisation exceeded its wall-clock bound of "
+                                 f"{settings.MINIMISATION_WALL_SECONDS:g} s (settings.MINIMISATION_WALL_SECONDS)")
+            if start is not None and ROUTE_PLAN.get(route, ("", "feed"))[1] != "feed":
+                continue                      # a restart keeps its own starting estimate
+            self.calls += 1
+            sol = self._run(route, T, P, start)
+            if sol.converged:
+                return sol
+            self.failures.setdefault(route, sol.message or "did not converge")
+            failed = failed or sol
+        return failed
+
+
+ROUTE_OURS = "element-potential minimiser"
+# route -> (cantera's MultiPhase.equilibrate solver, starting estimate)
+ROUTE_PLAN = {
+    "cantera vcs from the feed": ("vcs", "feed"),
+    "cantera gibbs from the feed": ("gibbs", "feed"),
+    "cantera vcs from an interior estimate": ("vcs", "interior"),
+    "cantera gibbs from an interior estimate": ("gibbs", "interior"),
+    "cantera vcs from a shifted estimate": ("vcs", "shifted"),
+}
+CANTERA_ROUTES = tuple(ROUTE_PLAN)
+
+
+def _interior_estimate(W: np.ndarray, n0: np.ndarray, usable: np.ndarray) -> np.ndarray | None:
+    """Amounts with the feed's conserved quantities, every usable species as far from zero as
+    possible: maximise t subject to W n = W n0, n_k >= t (k usable), n_k = 0 otherwise
+    (a linear program; scipy's HiGHS).  None when no such point exists."""
+    from scipy.optimize import linprog
+    idx = np.flatnonzero(usable)
+    if idx.size == 0:
+        return None
+    k = idx.size
+    total = float(n0.sum())
+    A_eq = np.hstack((W[:, idx], np.zeros((W.shape[0], 1))))
+    A_ub = np.hstack((-np.eye(k), np.ones((k, 1))))          # t - n_k <= 0
+    c = np.zeros(k + 1)
+    c[-1] = -1.0
+    res = linprog(c, A_ub=A_ub, b_ub=np.zeros(k), A_eq=A_eq, b_eq=W @ n0,
+                  bounds=[(0, None)] * k + [(0, total)], method="highs")
+    if res.status != 0 or res.x[-1] <= 0:
+        return None
+    n = np.zeros_like(n0, dtype=float)
+    n[idx] = res.x[:k]
+    return n
 
 
 # ------------------------------------------------------------------ certificate
@@ -568,8 +681,9 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
     t0 = time.perf_counter()
     findings: list[Finding] = []
 
-    def not_solved(message: str, severity="error", assumed=()):
+    def not_solved(message: str, severity="error", assumed=(), extra=()):
         findings.append(Finding(severity, "equilibrium", message))
+        findings.extend(extra)
         return EquilibriumCheck(False, False, "", None, None, (), (), None, None, None, (), None, 0, None, None,
                                 tuple(assumed), tuple(findings), False, time.perf_counter() - t0)
 
@@ -599,20 +713,81 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
     candidate = ~(rows[rows @ n0 == 0] != 0).any(axis=0)
     solver = _Solver(model, system, analysis, n0, candidate)
 
-    try:
-        sol = _solve_specified(case, solver, spec)
-    except _SpecError as exc:
-        return not_solved(str(exc), assumed=model.assumed)
-    except Exception as exc:
-        return not_solved(f"the minimisation failed: {type(exc).__name__}: {' '.join(str(exc).split())[:300]}",
-                          assumed=model.assumed)
-    if sol is None or not sol.converged:
-        return not_solved("the minimisation did not converge" + (f": {sol.message}" if sol and sol.message else ""),
-                          assumed=model.assumed)
-    try:
-        return _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0)
-    except _SpecError as exc:
-        return not_solved(str(exc), assumed=model.assumed)
+    # every route in turn until one gives a state whose certificate holds (fallbacks cost time
+    # only where the first route fails)
+    attempts: list[tuple[str, str]] = []
+    first_check = None
+    first = 0
+    while first < len(solver.routes):
+        solver.start_at(first)
+        sol, stop = None, False
+        try:
+            sol = _solve_specified(case, solver, spec)
+        except _SpecError as exc:
+            failure, stop = str(exc), "wall-clock" in str(exc)
+        except Exception as exc:
+            failure = f"{type(exc).__name__}: {' '.join(str(exc).split())[:300]}"
+        else:
+            failure = "" if sol is not None and sol.converged else \
+                "did not converge" + (f": {sol.message}" if sol is not None and sol.message else "")
+        tried = {r for r, _ in attempts}
+        attempts.extend((r, "failed: " + m) for r, m in solver.failures.items()
+                        if r != getattr(sol, "route", None) and r not in tried)
+        route = sol.route if sol is not None and sol.route else solver.routes[first]
+        if failure:
+            if not any(r == route for r, _ in attempts):
+                attempts.append((route, "failed: " + failure))
+            # a T,P solve that failed has already tried every route from ``first`` on
+            if stop or sol is None or not sol.route or route in solver.failures:
+                break
+        else:
+            solver.attempts = tuple(attempts)   # the certified check carries them (no copy on the common path)
+            try:
+                check = _certify(case, system, analysis, count, spec, model, solver, sol, list(findings), t0)
+            except _SpecError as exc:
+                attempts.append((route, f"failed: {exc}"))
+            else:
+                if certificate_holds(check):
+                    return check
+                attempts.append((route, "certificate failed: " + (_certificate_failure(check) or "see findings")))
+                first_check = first_check or check
+        # the next pass starts after the route that produced this state
+        first = max(first, solver.routes.index(route)) + 1
+    tried = ", ".join(dict.fromkeys(r for r, _ in attempts))
+    if first_check is not None:
+        notes = [Finding("error", "equilibrium", f"route {r}: {o}") for r, o in attempts]
+        return _with_route(replace(first_check, findings=first_check.findings + tuple(notes)), "", attempts)
+    notes = [Finding("error", "equilibrium", f"route {r}: {o}") for r, o in attempts]
+    return _with_route(not_solved(f"the minimisation did not reach a certified state on any route ({tried})",
+                                  assumed=model.assumed, extra=notes), "", attempts)
+
+
+def certificate_holds(check: EquilibriumCheck) -> bool:
+    """The numerical certificate holds (whatever the phases assumed): balance, zero affinity,
+    no absent phase that should form, and restarts that agree (an indeterminate split
+    between phases is a property of the problem, not of the solver, and does not count)."""
+    return check.solved and not _certificate_failure(check)
+
+
+def _certificate_failure(check: EquilibriumCheck) -> str:
+    if not check.solved:
+        return "not solved"
+    tol = settings.AFFINITY_TOLERANCE_RT
+    if check.element_balance_error is None or not check.element_balance_error <= settings.ELEMENT_BALANCE_TOLERANCE:
+        return f"conserved-quantity balance error {check.element_balance_error}"
+    if check.max_affinity_RT is None or not check.max_affinity_RT <= tol:
+        return f"affinity {check.max_affinity_RT} RT"
+    bad = [n for n, d in check.absent_phase_driving_force if d < -tol]
+    if bad:
+        return f"absent phase(s) {', '.join(bad)} should form"
+    indeterminate = check.phase_amount_rcond is not None and check.phase_amount_rcond < settings.PHASE_AMOUNT_RCOND_TOLERANCE
+    if check.unique is False and not indeterminate:
+        return "starting estimates disagree"
+    return ""
+
+
+def _with_route(check: EquilibriumCheck, route: str, attempts) -> EquilibriumCheck:
+    return replace(check, route=route, attempts=tuple(attempts))
 
 
 class _SpecError(Exception):
@@ -709,11 +884,55 @@ def _on_transition(solver, resid, x, T, P):
     Tm, Pm = (x, P) if T is None else (T, x)
 
     def mix(t):
-        return _Solution((1 - t) * lo.n + t * hi.n, Tm, Pm, lo.solver, True, "", (lo.n, hi.n))
+        return _Solution((1 - t) * lo.n + t * hi.n, Tm, Pm, lo.solver, True, "", (lo.n, hi.n), lo.route)
 
     if resid(mix(0.0)) * resid(mix(1.0)) > 0:
         return None
-    return mix(brentq(lambda t: resid(mix(t)), 0.0, 1.0, xtol=1e-15))
+    guess = mix(brentq(lambda t: resid(mix(t)), 0.0, 1.0, xtol=1e-15))
+    return _refine_transition(solver, resid, guess, T is None) or guess
+
+
+def _refine_transition(solver, resid, guess: _Solution, t_free: bool) -> _Solution | None:
+    """Solve the state on the transition directly: the T,P solver sets phase boundaries only
+    to its own tolerance (about 1e-4 K for ice/water), too coarse for the certificate.  On the
+    transition the phases of both sides coexist, and the state is fixed by the conserved
+    quantities, zero affinity of every independent reaction among their species, and the
+    extensive specification: as many equations as unknowns (the amounts and T, or P).
+    Solved by least squares (scipy's Levenberg-Marquardt) in ln n and ln T (or ln P)
+    from the mixture of the two sides; None when it does not converge."""
+    from scipy.optimize import least_squares
+    st, model = solver.static, solver.model
+    n_g = np.maximum(guess.n, 0.0)
+    totals = n_g @ st.membership
+    phase_present = totals > settings.PHASE_PRESENCE_FRACTION * max(totals.sum(), 1e-300)
+    present = phase_present[st.phase_of] & (n_g > 0) & solver.candidate
+    idx = np.flatnonzero(present)
+    basis = _present_set(st, solver.reactions, present).basis[:, idx]
+    W = st.W[:, idx]
+    b = st.W @ solver.n0
+    b_scale = max(float(np.abs(b).max()), 1e-300)
+
+    def state(z):
+        n = np.zeros_like(n_g)
+        n[idx] = np.exp(z[:-1])
+        x = math.exp(z[-1])
+        T, P = (x, guess.P) if t_free else (guess.T, x)
+        return _Solution(n, T, P, guess.solver, True, "", guess.sides, guess.route)
+
+    def equations(z):
+        sol = state(z)
+        mu = model.at_state(sol.T, sol.P, sol.n)[0][idx]
+        return np.concatenate(((W @ sol.n[idx] - b) / b_scale, basis @ mu, [resid(sol)]))
+
+    z0 = np.concatenate((np.log(np.maximum(n_g[idx], 1e-300)), [math.log(guess.T if t_free else guess.P)]))
+    try:
+        res = least_squares(equations, z0, method="lm", xtol=1e-15, ftol=1e-15, gtol=1e-15, max_nfev=200 * z0.size)
+    except Exception:
+        return None
+    out = state(res.x)
+    if np.max(np.abs(equations(res.x))) > 1e-9:
+        return None
+    return out
 
 
 def _certify(case, system, analysis, count, spec, model, solver, sol, findings, t0) -> EquilibriumCheck:
@@ -835,7 +1054,8 @@ def _certify(case, system, analysis, count, spec, model, solver, sol, findings, 
         assumed_densities=tuple(model.assumed), findings=tuple(findings), confirmed=ok,
         seconds=time.perf_counter() - t0,
         element_potentials=tuple(zip(static.potential_names, lam.tolist())),
-        unique_basis=unique_basis, phase_amount_rcond=amount_rcond)
+        unique_basis=unique_basis, phase_amount_rcond=amount_rcond,
+        route=sol.route, attempts=solver.attempts + ((sol.route, "certified"),))
 
 
 def _max_abs(a: np.ndarray) -> float:

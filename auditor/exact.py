@@ -305,6 +305,16 @@ def rref(matrix: Sequence[Sequence[Number]]) -> tuple[list[list[Fraction]], list
     return rows, pivots
 
 
+def solve_rational(matrix: Sequence[Sequence[Number]], rhs: Sequence[Number]) -> list[Fraction] | None:
+    """The unique exact solution x of the square system ``matrix @ x = rhs``; None when the
+    matrix is singular."""
+    n = len(matrix)
+    reduced, pivots = rref([list(row) + [b] for row, b in zip(matrix, rhs)])
+    if pivots != list(range(n)):
+        return None
+    return [reduced[i][n] for i in range(n)]
+
+
 def nullspace(matrix: Sequence[Sequence[Number]], n_cols: int | None = None) -> list[list[int]]:
     """Primitive integer basis of ``{x : M x = 0}``, one vector per free column, in column order.
 

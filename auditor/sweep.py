@@ -1,4 +1,9 @@
-"""Envelope sweeps: the Gibbs confirmation of one case over a grid of temperature and pressure.
+"""Sweeps: the Gibbs confirmation of one case over a grid of temperature, pressure and feed.
+
+Axes are temperature, pressure, the amount of one feed species (``feed.H2O``), an element
+ratio of the feed at a fixed total feed amount (``ratio.O/C``), or a ternary grid of three
+elements at fixed T and P (``ternary``: the feed is made of one single-element species per
+element, e.g. graphite, H2 and O2, in every atom ratio i:j:k with i + j + k = divisions).
 
 The counting stages run once; each grid point re-runs only the minimisation and its
 certificate.  Points are grouped in blocks (one unit of work for an executor); every
@@ -12,6 +17,7 @@ from __future__ import annotations
 import functools
 import json
 import math
+from fractions import Fraction
 from dataclasses import dataclass, replace
 from typing import Callable, Iterable, Sequence
 
@@ -19,34 +25,49 @@ from .case import Case, load_case, parse_quantity
 from .errors import InputError, Problem
 
 VARIABLES = {"temperature": ("temperature", "K"), "pressure": ("pressure", "bar")}
+FEED, RATIO, TERNARY = "feed.", "ratio.", "ternary"
 
 
 @dataclass(frozen=True)
 class Axis:
-    name: str                  # temperature or pressure
-    values: tuple[float, ...]  # SI (K, Pa)
+    name: str                  # temperature, pressure, feed.SPECIES, ratio.X/Y, or ternary
+    values: tuple              # SI (K, Pa, mol), a plain ratio, or (i, j, k) atom counts for a ternary
+    elements: tuple[str, ...] = ()   # ternary: its three elements, in the order of (i, j, k)
 
 
 def parse_vary(text: str) -> Axis:
-    """``temperature=600:1400:25`` (K) or ``pressure=1:40:5`` (bar); a unit may follow the step,
-    e.g. ``temperature=500:900:50 degC``.  The end point is included when the steps reach it."""
+    """``temperature=600:1400:25`` (K), ``pressure=1:40:5`` (bar), ``feed.H2O=1:5:0.5`` (mol of a
+    feed species) or ``ratio.O/C=0.5:3:0.25`` (atoms of O per atom of C in the feed); a unit may
+    follow the step, e.g. ``temperature=500:900:50 degC``.  The end point is included when the
+    steps reach it."""
     def fail(msg):
         raise InputError(Problem("--vary", msg, text))
     if "=" not in text:
         fail("expected NAME=START:STOP:STEP, e.g. temperature=600:1400:25")
     name, rng = (t.strip() for t in text.split("=", 1))
-    if name not in VARIABLES:
-        fail(f"can vary only {', '.join(VARIABLES)}, not {name!r}")
+    if name.startswith(FEED) and name[len(FEED):]:
+        kind, default_unit = "amount", "mol"
+    elif name.startswith(RATIO):
+        pair = name[len(RATIO):].split("/")
+        if len(pair) != 2 or not all(p.strip() for p in pair) or pair[0].strip() == pair[1].strip():
+            fail(f"an element ratio is written ratio.X/Y with two different elements, e.g. ratio.O/C, not {name!r}")
+        kind, default_unit = "ratio", ""
+    elif name in VARIABLES:
+        kind, default_unit = VARIABLES[name]
+    else:
+        fail(f"can vary only {', '.join(VARIABLES)}, feed.SPECIES or ratio.X/Y, not {name!r}")
     parts = rng.split(":")
     if len(parts) != 3:
         fail("expected START:STOP:STEP")
-    kind, default_unit = VARIABLES[name]
     last = parts[2].strip().split(None, 1)
     unit = last[1] if len(last) > 1 else default_unit
+    if kind == "ratio" and len(last) > 1:
+        fail("an element ratio has no unit")
     try:
         start, stop, step = float(parts[0]), float(parts[1]), float(last[0])
     except ValueError:
-        fail(f"START, STOP and STEP must be numbers in {default_unit} (or give a unit after STEP)")
+        fail(f"START, STOP and STEP must be numbers{' in ' + default_unit if default_unit else ''}"
+             + (" (or give a unit after STEP)" if default_unit else ""))
     if not all(math.isfinite(v) for v in (start, stop, step)) or step <= 0 or stop < start:
         fail("need START <= STOP and STEP > 0, all finite")
     n = int(math.floor((stop - start) / step + 1e-9)) + 1
@@ -55,14 +76,35 @@ def parse_vary(text: str) -> Axis:
     values = []
     for i in range(n):
         v = start + i * step
-        try:
-            si = parse_quantity(f"{v!r} {unit}", kind)
-        except ValueError as exc:
-            fail(str(exc))
-        if si <= 0:
-            fail(f"{name} must stay above zero (got {v} {unit})")
+        if kind == "ratio":
+            si = v
+        else:
+            try:
+                si = parse_quantity(f"{v!r} {unit}", kind)
+            except ValueError as exc:
+                fail(str(exc))
+        if si < 0 or (si == 0 and kind in ("temperature", "pressure")):
+            fail(f"{name} must stay above zero (got {v} {unit})".rstrip() if kind in ("temperature", "pressure")
+                 else f"{name} must not be negative (got {v})")
         values.append(si)
     return Axis(name, tuple(values))
+
+
+def parse_ternary(text: str, divisions: int, edges: bool = False) -> Axis:
+    """``C,H,O`` with ``divisions`` N: every atom ratio i:j:k with i + j + k = N, each at least 1
+    (or 0 with ``edges``): (N - 1)(N - 2)/2 compositions, or (N + 1)(N + 2)/2 with the edges."""
+    elements = tuple(e.strip() for e in text.split(","))
+    if len(elements) != 3 or not all(elements) or len(set(elements)) != 3:
+        raise InputError(Problem("--ternary", "expected three different elements separated by commas, e.g. C,H,O", text))
+    if not 2 <= divisions <= 200:
+        raise InputError(Problem("--divisions", f"must be between 2 and 200, got {divisions}"))
+    lo = 0 if edges else 1
+    values = tuple((i, j, divisions - i - j) for j in range(lo, divisions + 1) for i in range(lo, divisions + 1)
+                   if divisions - i - j >= lo)
+    if not values:
+        raise InputError(Problem("--divisions", f"{divisions} divisions leave no composition with every element present; "
+                                 "use more divisions or --edges"))
+    return Axis(TERNARY, values, elements)
 
 
 @dataclass(frozen=True)
@@ -70,20 +112,141 @@ class Point:
     index: int
     temperature_K: float | None
     pressure_Pa: float | None
+    feed: tuple | None = None                        # (label, Fraction) replacing the case's feed
+    coordinates: tuple[tuple[str, float], ...] = ()  # feed-axis values of this point, for the CSV
+
+
+def _as_fraction(v) -> Fraction:
+    return v if isinstance(v, Fraction) else Fraction(repr(float(v)))
+
+
+def _feed_points(case: Case, axes: Sequence[Axis]) -> list[tuple[tuple, tuple]] | None:
+    """(feed, coordinates) for every combination of the feed axes, first axis fastest; None
+    when no axis touches the feed."""
+    feed_axes = [a for a in axes if a.name.startswith((FEED, RATIO)) or a.name == TERNARY]
+    if not feed_axes:
+        return None
+    from .case import build_system
+    system = build_system(case)
+    base = {label: Fraction(a) for label, a in case.feed}
+
+    def formula(label, where):
+        try:
+            ks = system.find(label)
+        except Exception:
+            ks = []
+        if not ks:
+            raise InputError(Problem(where, f"{label!r} is not a species of the case's system"))
+        return system.species[ks[0]].formula
+
+    if feed_axes[0].name == TERNARY:
+        ax = feed_axes[0]
+        pure = {}
+        for label in base:
+            f = formula(label, "feed")
+            if len(f) == 1 and next(iter(f)) in ax.elements:
+                pure.setdefault(next(iter(f)), (label, Fraction(next(iter(f.values())))))
+        missing = [e for e in ax.elements if e not in pure]
+        if missing:
+            raise InputError(Problem("--ternary", f"the case's feed needs a species made of {' / '.join(missing)} alone "
+                                     "(e.g. C(gr), H2, O2): a ternary point feeds each element as that species"))
+        rest = {k: v for k, v in base.items() if k not in {lab for lab, _ in pure.values()}}
+        atoms = sum(base[lab] * per for lab, per in pure.values())   # the total stays the case's
+        out = []
+        for ijk in ax.values:
+            n = sum(ijk)
+            feed = dict(rest)
+            for e, c in zip(ax.elements, ijk):
+                lab, per = pure[e]
+                if c:
+                    feed[lab] = atoms * Fraction(c, n) / per
+            coords = tuple((f"atoms[{e}]", float(Fraction(c, n))) for e, c in zip(ax.elements, ijk))
+            out.append((tuple(feed.items()), coords))
+        return out
+
+    combos: list[dict] = [{}]
+    for ax in feed_axes:      # the first axis varies fastest
+        combos = [{**c, ax.name: v} for v in ax.values for c in combos]
+    ratio_axes = [a.name for a in feed_axes if a.name.startswith(RATIO)]
+    labels = list(base)
+    elements_of = {lab: formula(lab, "feed") for lab in labels}
+    for a in feed_axes:
+        if a.name.startswith(FEED):
+            formula(a.name[len(FEED):], "--vary " + a.name)
+    out = []
+    for c in combos:
+        feed = dict(base)
+        for name, v in c.items():
+            if name.startswith(FEED):
+                label = name[len(FEED):]
+                feed[label] = _as_fraction(v)
+        if ratio_axes:
+            feed = _ratio_feed(feed, elements_of, [(n[len(RATIO):].split("/"), c[n]) for n in ratio_axes])
+        out.append((tuple((k, v) for k, v in feed.items() if v), tuple((n, float(v)) for n, v in c.items())))
+    return out
+
+
+def _ratio_feed(feed: dict, elements_of: dict, ratios: list) -> dict:
+    """The feed with the element ratios X/Y asked: species holding none of the ratios' elements
+    keep their amounts; the others change as little as possible (least squares in mol) with
+    their total amount unchanged.  Exact rational arithmetic (the KKT system of an
+    equality-constrained least-squares problem)."""
+    from .exact import solve_rational
+    ratios = [((x.strip(), y.strip()), _as_fraction(r)) for (x, y), r in ratios]
+    involved = {e for (x, y), _ in ratios for e in (x, y)}
+    for (x, y), _ in ratios:
+        if not any(x in elements_of[lab] for lab in feed) or not any(y in elements_of[lab] for lab in feed):
+            raise InputError(Problem("--vary", f"ratio.{x}/{y}: the case's feed must hold both {x} and {y}"))
+    labels = [lab for lab in feed if involved & set(elements_of[lab])]
+    fixed = {lab: v for lab, v in feed.items() if lab not in labels}
+    rows, rhs = [[Fraction(1)] * len(labels)], [sum(feed[lab] for lab in labels)]
+    for (x, y), r in ratios:
+        # atoms of x from the fixed species count too: sum (A_x - r A_y) n = -(fixed part)
+        rows.append([Fraction(elements_of[lab].get(x, 0)) - r * Fraction(elements_of[lab].get(y, 0)) for lab in labels])
+        rhs.append(-sum((Fraction(elements_of[lab].get(x, 0)) - r * Fraction(elements_of[lab].get(y, 0))) * v
+                        for lab, v in fixed.items()))
+    k, m = len(labels), len(rows)
+    # [I A^T; A 0] [n; mu] = [n0; rhs]
+    kkt = [[Fraction(int(i == j)) for j in range(k)] + [rows[q][i] for q in range(m)] for i in range(k)]
+    kkt += [rows[q] + [Fraction(0)] * m for q in range(m)]
+    sol = solve_rational(kkt, [feed[lab] for lab in labels] + rhs)
+    if sol is None or any(v < 0 for v in sol[:k]):
+        asked = ", ".join(f"{x}/{y} = {float(r):g}" for (x, y), r in ratios)
+        raise InputError(Problem("--vary", f"no feed of the species {', '.join(labels)} with their total amount "
+                                 f"unchanged has {asked} with every amount non-negative"))
+    return {lab: (fixed[lab] if lab in fixed else sol[labels.index(lab)]) for lab in feed}
 
 
 def grid(case: Case, axes: Sequence[Axis]) -> list[Point]:
     """Grid points in a fixed order (the first axis varies fastest)."""
     names = [a.name for a in axes]
     if not axes or len(axes) > 2 or len(set(names)) != len(names):
-        raise InputError(Problem("--vary", "vary temperature, pressure, or both, each once"))
-    if len(axes) == 1:
-        combos = [{axes[0].name: v} for v in axes[0].values]
-    else:
-        a0, a1 = axes
-        combos = [{a0.name: v0, a1.name: v1} for v1 in a1.values for v0 in a0.values]
-    return [Point(i, c.get("temperature", case.specified.temperature_K), c.get("pressure", case.specified.pressure_Pa))
-            for i, c in enumerate(combos)]
+        raise InputError(Problem("--vary", "vary one or two of temperature, pressure, feed.SPECIES, ratio.X/Y, "
+                                 "each once"))
+    if TERNARY in names and len(axes) > 1:
+        raise InputError(Problem("--ternary", "a ternary map runs at the case's temperature and pressure; drop --vary"))
+    if (any(n.startswith((FEED, RATIO)) for n in names) or TERNARY in names) and case.feed is None:
+        raise InputError(Problem("--vary", "feed axes need a case with a feed"))
+    for a in axes:
+        if a.name in VARIABLES:
+            continue
+        for tp, value in (("temperature", case.specified.temperature_K), ("pressure", case.specified.pressure_Pa)):
+            if value is None and tp not in names:
+                raise InputError(Problem("--vary", f"a feed axis runs at fixed temperature and pressure; the case does "
+                                         f"not fix the {tp} (vary it too, or specify it in the case)"))
+    feeds = _feed_points(case, axes)
+    tp_axes = [a for a in axes if a.name in VARIABLES]
+    tp_combos: list[dict] = [{}]
+    for ax in tp_axes:
+        tp_combos = [{**c, ax.name: v} for v in ax.values for c in tp_combos]
+    if feeds is None:
+        return [Point(i, c.get("temperature", case.specified.temperature_K),
+                      c.get("pressure", case.specified.pressure_Pa)) for i, c in enumerate(tp_combos)]
+    # the feed axis first (fastest), then temperature or pressure
+    order = [(f, c) for c in tp_combos for f in feeds] if names[0] not in VARIABLES else \
+        [(f, c) for f in feeds for c in tp_combos]
+    return [Point(i, c.get("temperature", case.specified.temperature_K), c.get("pressure", case.specified.pressure_Pa),
+                  f[0], f[1]) for i, (f, c) in enumerate(order)]
 
 
 @dataclass(frozen=True)
@@ -96,12 +259,18 @@ class PointResult:
     mole_fractions: tuple[tuple[str, float], ...]   # phase:species -> x
     phase_moles: tuple[tuple[str, float], ...]
     message: str = ""
+    coordinates: tuple[tuple[str, float], ...] = ()  # feed-axis values
+    certified: bool = False      # the certificate holds (whatever the phases assumed)
+    route: str = ""              # the solve route that produced the certified state
+    fallback: bool = False       # the first route failed and a later one was needed
 
     def to_json(self) -> str:
         return json.dumps({"index": self.index, "temperature_K": self.temperature_K, "pressure_Pa": self.pressure_Pa,
                            "verdict": self.verdict, "phases_present": list(self.phases_present),
                            "mole_fractions": [list(x) for x in self.mole_fractions],
-                           "phase_moles": [list(x) for x in self.phase_moles], "message": self.message},
+                           "phase_moles": [list(x) for x in self.phase_moles], "message": self.message,
+                           "coordinates": [list(x) for x in self.coordinates], "certified": self.certified,
+                           "route": self.route, "fallback": self.fallback},
                           sort_keys=True)
 
     @classmethod
@@ -109,7 +278,8 @@ class PointResult:
         d = json.loads(text)
         return cls(d["index"], d["temperature_K"], d["pressure_Pa"], d["verdict"], tuple(d["phases_present"]),
                    tuple((a, b) for a, b in d["mole_fractions"]), tuple((a, b) for a, b in d["phase_moles"]),
-                   d.get("message", ""))
+                   d.get("message", ""), tuple((a, b) for a, b in d.get("coordinates", ())),
+                   bool(d.get("certified", False)), d.get("route", ""), bool(d.get("fallback", False)))
 
 
 @functools.lru_cache(maxsize=8)
@@ -122,30 +292,39 @@ def _prepared(case_path: str, vary: tuple[str, ...]):
     spec = replace(spec, temperature_K=spec.temperature_K if spec.temperature_K or "temperature" not in vary else 300.0,
                    pressure_Pa=spec.pressure_Pa if spec.pressure_Pa or "pressure" not in vary else 1e5)
     case = replace(case, specified=spec)
-    system, _, analysis, count, structure = counting_stages(case)
-    return case, system, analysis, count, structure
+    system, reactions, analysis, count, structure = counting_stages(case)
+    return case, system, reactions, analysis, count, structure
 
 
 def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> PointResult:
-    from .equilibrium import confirm
-    case, system, analysis, count, structure = _prepared(case_path, vary)
+    from .equilibrium import certificate_holds, confirm
+    case, system, reactions, analysis, count, structure = _prepared(case_path, vary)
     spec = replace(case.specified, temperature_K=point.temperature_K, pressure_Pa=point.pressure_Pa)
     here = replace(case, specified=spec)
+    where = (point.index, point.temperature_K, point.pressure_Pa)
     try:
+        if point.feed is not None:
+            # the feed enters the restriction count; the system and reactions do not change
+            from .phase_rule import count as count_phase_rule
+            from .structure import audit as audit_specification
+            here = replace(here, feed=point.feed)
+            count = count_phase_rule(here, system, reactions, analysis)
+            structure = audit_specification(here, system, count)
         eq = confirm(here, system, analysis, count, structure)
     except Exception as exc:  # a point that fails is recorded, never fatal
-        return PointResult(point.index, point.temperature_K, point.pressure_Pa, "failed", (), (), (),
-                           f"{type(exc).__name__}: {exc}")
+        return PointResult(*where, "failed", (), (), (), f"{type(exc).__name__}: {exc}", point.coordinates)
     if not eq.solved:
         msg = "; ".join(f.message for f in eq.findings if f.severity != "note") or \
             "; ".join(f.message for f in eq.findings)
         verdict = structure.status if structure.status != "well-posed" else "not-confirmed"
-        return PointResult(point.index, point.temperature_K, point.pressure_Pa, verdict, (), (), (), msg)
+        return PointResult(*where, verdict, (), (), (), msg, point.coordinates)
     xs = tuple((f"{p.name}:{k}", round(v, 12)) for p in eq.phases for k, v in p.mole_fractions)
     moles = tuple((p.name, round(p.moles, 12)) for p in eq.phases)
     msg = "; ".join(f.message for f in eq.findings if f.severity == "error")
+    certified = certificate_holds(eq)
     return PointResult(point.index, eq.temperature_K, eq.pressure_Pa,
-                       "well-posed" if eq.confirmed else "not-confirmed", eq.phases_present, xs, moles, msg)
+                       "well-posed" if eq.confirmed else "not-confirmed", eq.phases_present, xs, moles, msg,
+                       point.coordinates, certified, eq.route if certified else "", len(eq.attempts) > 1)
 
 
 def evaluate_block(case_path: str, vary: tuple[str, ...], points: Sequence[Point]) -> list[PointResult]:
@@ -177,12 +356,19 @@ def csv_text(results: Sequence[PointResult]) -> str:
                 p_cols.append(k)
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
-    w.writerow(["index", "temperature_K", "pressure_Pa", "verdict", "phases_present"]
-               + [f"x[{c}]" for c in x_cols] + [f"moles[{c}]" for c in p_cols] + ["message"])
+    coord_cols: list[str] = []
+    for r in results:
+        for k, _ in r.coordinates:
+            if k not in coord_cols:
+                coord_cols.append(k)
+    w.writerow(["index"] + coord_cols + ["temperature_K", "pressure_Pa", "verdict", "phases_present"]
+               + [f"x[{c}]" for c in x_cols] + [f"moles[{c}]" for c in p_cols] + ["certified", "route", "message"])
     for r in sorted(results, key=lambda r: r.index):
-        xs, ps = dict(r.mole_fractions), dict(r.phase_moles)
-        w.writerow([r.index, _num(r.temperature_K), _num(r.pressure_Pa), r.verdict, " ".join(r.phases_present)]
-                   + [_num(xs.get(c)) for c in x_cols] + [_num(ps.get(c)) for c in p_cols] + [r.message])
+        xs, ps, cs = dict(r.mole_fractions), dict(r.phase_moles), dict(r.coordinates)
+        w.writerow([r.index] + [_num(cs.get(c)) for c in coord_cols]
+                   + [_num(r.temperature_K), _num(r.pressure_Pa), r.verdict, " ".join(r.phases_present)]
+                   + [_num(xs.get(c)) for c in x_cols] + [_num(ps.get(c)) for c in p_cols]
+                   + ["yes" if r.certified else "no", r.route, r.message])
     return buf.getvalue()
 
 
@@ -206,7 +392,7 @@ def run_sweep(case_path: str, axes: Sequence[Axis], executor, *, done: Iterable[
     for block, outcome in executor.map_blocks(evaluate_block, [(case_path, vary, b) for b in blocks]):
         if isinstance(outcome, BaseException):
             outcome = [PointResult(p.index, p.temperature_K, p.pressure_Pa, "failed", (), (), (),
-                                   f"{type(outcome).__name__}: {outcome}") for p in block[2]]
+                                   f"{type(outcome).__name__}: {outcome}", p.coordinates) for p in block[2]]
         for r in outcome:
             finished[r.index] = r
             if on_result:

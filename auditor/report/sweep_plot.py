@@ -18,18 +18,29 @@ def unit_of(vary_text: str) -> str:
     """The unit written after STEP in ``NAME=START:STOP:STEP [UNIT]`` (the default when none)."""
     name, _, rng = vary_text.partition("=")
     last = rng.split(":")[-1].strip().split(None, 1)
-    return last[1].strip() if len(last) > 1 else DEFAULT_UNIT.get(name.strip(), "")
+    name = name.strip()
+    return last[1].strip() if len(last) > 1 else DEFAULT_UNIT.get(name, "mol" if name.startswith("feed.") else "")
+
+
+def _kind(name: str) -> str | None:
+    """The unit kind of a swept variable: temperature, pressure, amount (a feed axis) or None (a ratio)."""
+    return name if name in SI_UNIT else "amount" if name.startswith("feed.") else None
 
 
 def convert(values, name: str, unit: str) -> list[float]:
-    """SI values of a swept variable in ``unit`` (K to degC, Pa to bar, ...)."""
-    if unit == SI_UNIT[name]:
+    """SI values of a swept variable in ``unit`` (K to degC, Pa to bar, mol to kmol, ...)."""
+    kind = _kind(name)
+    if kind is None or unit == SI_UNIT.get(kind, "mol"):
         return [float(v) for v in values]
     from ..units import from_si
-    return from_si(values, unit, name)
+    return from_si(values, unit, kind)
 
 
 def _label(name: str, unit: str) -> str:
+    if name.startswith("feed."):
+        return f"{name[5:]} in the feed, {unit}"
+    if name.startswith("ratio."):
+        return f"{name[6:]} in the feed, atoms per atom"
     return f"{name}, {unit}"
 
 
@@ -48,6 +59,15 @@ def _fixed(case, axes) -> list[str]:
     if feed:
         lines.append(f"feed: {feed}" + ("" if any(c.isalpha() for _, t in e.feed for c in t) else " (mol)"))
     return lines
+
+
+def _value(r, name: str) -> float:
+    """The swept variable at one point, in SI (K, Pa, mol) or as a plain ratio; NaN when unknown."""
+    if name in FIELD:
+        v = getattr(r, FIELD[name])
+        return float(v) if v else float("nan")       # a point that did not solve carries no state
+    v = dict(r.coordinates).get(name)
+    return float("nan") if v is None else float(v)
 
 
 def _stack(parts: list[str]) -> str:
@@ -80,8 +100,7 @@ def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units:
                                         subtitle=sub)])
     axis, unit = axes[0], units[0]
     label = _label(axis.name, unit)
-    si = [getattr(r, FIELD[axis.name]) for r in results]
-    xs = convert([v if v else float("nan") for v in si], axis.name, unit)
+    xs = convert([_value(r, axis.name) for r in results], axis.name, unit)
     bad = [x for x, r in zip(xs, results) if r.verdict != "well-posed" or set(r.phases_present) != set(assumed)]
     step = (xs[1] - xs[0]) if len(xs) > 1 else 1.0
     shade = [(x - step / 2, x + step / 2) for x in bad]

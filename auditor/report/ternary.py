@@ -1,0 +1,138 @@
+"""A ternary composition map of a sweep: which phases are present at each feed composition.
+
+The triangle's corners are the three elements; a point's position is its atom fractions
+(barycentric coordinates).  Each grid point owns the hexagon of the triangular lattice
+around it (its Voronoi cell), filled with the colour of the set of phases present there;
+where neighbouring points hold different phase sets, the shared hexagon side is drawn
+heavy, so the boundary (for C-H-O with graphite: where carbon deposits) reads as a line.
+Colours come from :mod:`auditor.report.style` only.
+"""
+from __future__ import annotations
+
+import math
+from html import escape
+from typing import Sequence
+
+from . import style
+
+WIDTH, HEIGHT = 720, 640
+SIDE = 460.0                      # triangle side, px
+LEFT, BASE = 70.0, 500.0          # bottom-left corner
+
+
+def _corners():
+    h = SIDE * math.sqrt(3) / 2
+    return (LEFT, BASE), (LEFT + SIDE, BASE), (LEFT + SIDE / 2, BASE - h)
+
+
+def _at(fr: Sequence[float]) -> tuple[float, float]:
+    (x0, y0), (x1, y1), (x2, y2) = _corners()
+    a, b, c = fr
+    return a * x0 + b * x1 + c * x2, a * y0 + b * y1 + c * y2
+
+
+def _label(r) -> str:
+    if r.verdict == "failed" or (not r.phases_present and not r.certified):
+        return "not solved"
+    return " + ".join(r.phases_present) + ("" if r.certified else " (not certified)")
+
+
+def ternary_svg(results, elements: Sequence[str], divisions: int, condition: str) -> str:
+    """The map as SVG text.  ``results`` carry coordinates ``atoms[E]`` (atom fractions of the
+    three elements); ``condition`` says at what T and P (shown in the title)."""
+    e0, e1, e2 = elements
+    pts = []
+    for r in sorted(results, key=lambda r: r.index):
+        c = dict(r.coordinates)
+        pts.append((tuple(round(c.get(f"atoms[{e}]", 0.0) * divisions) for e in elements), _label(r), r))
+    labels = list(dict.fromkeys(lab for _, lab, _ in pts))
+    # phase sets ordered by how often they occur (most common first), failures last
+    labels.sort(key=lambda lab: (lab == "not solved", "(not certified)" in lab, -sum(1 for p in pts if p[1] == lab)))
+    colour = {lab: style.series(i) for i, lab in enumerate(labels)}
+    if "not solved" in colour:
+        colour["not solved"] = style.VERDICT["not-confirmed"][1]
+
+    step = SIDE / divisions
+    radius = step / math.sqrt(3)            # hexagon of the triangular lattice: circumradius
+    corners = _corners()
+    tri = " ".join(f"{x:.2f},{y:.2f}" for x, y in corners)
+    out = [f'<svg xmlns="http://www.w3.org/2000/svg" width="{WIDTH}" height="{HEIGHT}" role="img" '
+           f'aria-label="ternary map of phases present" font-family="sans-serif" font-size="12" fill="{style.INK}">',
+           f'<defs><clipPath id="tri"><polygon points="{tri}"/></clipPath></defs>',
+           f'<text x="{WIDTH / 2:.0f}" y="22" text-anchor="middle" font-size="14" font-weight="bold">'
+           f'Phases present over the {escape(e0)}-{escape(e1)}-{escape(e2)} feed composition ({escape(condition)})</text>',
+           f'<text x="{WIDTH / 2:.0f}" y="40" text-anchor="middle">position = atom fractions of the feed; '
+           f'{len(pts)} compositions, {divisions} divisions per side</text>',
+           '<g clip-path="url(#tri)">']
+    where = {}
+    for ijk, lab, _ in pts:
+        x, y = _at([v / divisions for v in ijk])
+        where[ijk] = lab
+        hexagon = " ".join(f"{x + radius * math.cos(math.radians(30 + 60 * q)):.2f},"
+                           f"{y + radius * math.sin(math.radians(30 + 60 * q)):.2f}" for q in range(6))
+        out.append(f'<polygon points="{hexagon}" fill="{colour[lab]}" stroke="{colour[lab]}" stroke-width="0.5">'
+                   f'<title>{escape(e0)}:{escape(e1)}:{escape(e2)} = {ijk[0]}:{ijk[1]}:{ijk[2]} - {escape(lab)}</title>'
+                   '</polygon>')
+    # boundaries: the shared side of two neighbouring hexagons with different phase sets
+    for (i, j, k), lab in where.items():
+        for d in ((1, -1, 0), (1, 0, -1), (0, 1, -1)):
+            other = (i + d[0], j + d[1], k + d[2])
+            if other in where and where[other] != lab:
+                (xa, ya), (xb, yb) = _at([v / divisions for v in (i, j, k)]), _at([v / divisions for v in other])
+                mx, my = (xa + xb) / 2, (ya + yb) / 2
+                ux, uy = -(yb - ya) / step, (xb - xa) / step          # unit normal to the link
+                h = radius / 2
+                out.append(f'<line x1="{mx - ux * h:.2f}" y1="{my - uy * h:.2f}" x2="{mx + ux * h:.2f}" '
+                           f'y2="{my + uy * h:.2f}" stroke="{style.INK}" stroke-width="2.2" stroke-linecap="round"/>')
+    out.append('</g>')
+    # gridlines every 10 % and the frame
+    for t in range(1, 10):
+        f = t / 10
+        for a, b in ((0, 1), (1, 2), (2, 0)):
+            p = [0.0, 0.0, 0.0]
+            q = [0.0, 0.0, 0.0]
+            p[a], p[b] = f, 1 - f
+            c = 3 - a - b
+            q[a], q[c] = f, 1 - f
+            (x1, y1), (x2, y2) = _at(p), _at(q)
+            out.append(f'<line x1="{x1:.2f}" y1="{y1:.2f}" x2="{x2:.2f}" y2="{y2:.2f}" stroke="{style.GRID}" '
+                       'stroke-width="0.6" stroke-dasharray="3,3"/>')
+    out.append(f'<polygon points="{tri}" fill="none" stroke="{style.INK}" stroke-width="1.5"/>')
+    # tick labels: the fraction of each element along the side where it grows
+    for t in range(2, 10, 2):
+        f = t / 10
+        for a, b, dx, dy, anchor in ((0, 1, 0, 18, "middle"), (1, 2, 10, 4, "start"), (2, 0, -10, 4, "end")):
+            p = [0.0, 0.0, 0.0]
+            p[b], p[a] = f, 1 - f
+            x, y = _at(p)
+            out.append(f'<text x="{x + dx:.1f}" y="{y + dy:.1f}" text-anchor="{anchor}" font-size="10" '
+                       f'fill="{style.RULE}">{t * 10}</text>')
+    (x0, y0), (x1, y1), (x2, y2) = corners
+    out.append(f'<text x="{x0 - 8:.1f}" y="{y0 + 30:.1f}" text-anchor="end" font-size="15" font-weight="bold">'
+               f'{escape(e0)}</text>')
+    out.append(f'<text x="{x1 + 8:.1f}" y="{y1 + 30:.1f}" font-size="15" font-weight="bold">{escape(e1)}</text>')
+    out.append(f'<text x="{x2:.1f}" y="{y2 - 12:.1f}" text-anchor="middle" font-size="15" font-weight="bold">'
+               f'{escape(e2)}</text>')
+    out.append(f'<text x="{(x0 + x1) / 2:.1f}" y="{y0 + 38:.1f}" text-anchor="middle" font-size="11">'
+               f'atom % {escape(e1)}</text>')
+    for (xa, ya), (xb, yb), e, angle, dx in (((x1, y1), (x2, y2), e2, 60, 34), ((x2, y2), (x0, y0), e0, -60, -34)):
+        mx, my = (xa + xb) / 2 + dx, (ya + yb) / 2
+        out.append(f'<text transform="translate({mx:.1f},{my:.1f}) rotate({angle})" text-anchor="middle" '
+                   f'font-size="11">atom % {escape(e)}</text>')
+    edge_note = "the sides (an element absent) are included" if any(0 in ijk for ijk, _, _ in pts) else \
+        "the sides (an element absent) were not computed"
+    out.append(f'<text x="{WIDTH / 2:.0f}" y="{HEIGHT - 30:.0f}" text-anchor="middle" font-size="11">'
+               f'Each hexagon is one computed composition; {edge_note}. Heavy line: the phase set changes.</text>')
+    # legend
+    lx, ly = LEFT + SIDE + 30, 90.0
+    out.append(f'<text x="{lx:.0f}" y="{ly:.0f}" font-weight="bold">phases present</text>')
+    for n, lab in enumerate(labels):
+        y = ly + 22 * (n + 1)
+        count = sum(1 for p in pts if p[1] == lab)
+        out.append(f'<rect x="{lx:.0f}" y="{y - 11:.0f}" width="14" height="14" fill="{colour[lab]}"/>'
+                   f'<text x="{lx + 20:.0f}" y="{y:.0f}">{escape(lab)} ({count})</text>')
+    y = ly + 22 * (len(labels) + 1)
+    out.append(f'<line x1="{lx:.0f}" y1="{y - 4:.0f}" x2="{lx + 14:.0f}" y2="{y - 4:.0f}" stroke="{style.INK}" '
+               f'stroke-width="2.2"/><text x="{lx + 20:.0f}" y="{y:.0f}">boundary</text>')
+    out.append("</svg>")
+    return "\n".join(out) + "\n"
