@@ -487,8 +487,10 @@ def _library_note(message) -> str:
 
 def _cantera_message(exc: Exception) -> str:
     text = str(exc).strip()
-    # cantera's own words, without its banner lines
-    lines = [ln for ln in text.splitlines() if ln.strip() and not set(ln.strip()) <= set("*-")]
+    # cantera's own words, without its banner lines and without the excerpt of the file it
+    # quotes ("|  Line |", "|   12 | ...", ">   13 > ...", a caret line): the line number stays
+    lines = [ln for ln in text.splitlines() if ln.strip() and not set(ln.strip()) <= set("*-^ ")
+             and not ln.lstrip().startswith(("|", ">"))]
     return " ".join(ln.strip() for ln in lines[:6])
 
 
@@ -528,19 +530,21 @@ def load_phases(path: str | Path, phase_names: Sequence[str] | None = None, note
         except Exception as exc:  # cantera's error text is shown as it is
             raise MechanismError.single(path, f"cantera cannot build phase {n!r}: {_cantera_message(exc)}",
                                         f"phases[{n}]") from None
+        if sol.n_species == 0:   # cantera refuses this today; kept so a later version cannot slip it by
+            raise MechanismError.single(path, f"phase {n!r} has no species", f"phases[{n}]")
         loaded[n] = sol
         for adj_name, adj in getattr(sol, "adjacent", {}).items():
             loaded.setdefault(adj_name, adj)
     return list(loaded.items())
 
 
-def _exact_coefficient(value: float, path: Path, equation: str, species: str) -> Fraction:
+def _exact_coefficient(value: float, path: Path, equation: str, species: str, phase: str = "") -> Fraction:
     f = as_simple_fraction(value, COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE)
     if f is None:
         raise CoefficientError.single(
             path, f"stoichiometric coefficient {value!r} of {species} in reaction '{equation}' is not within "
             f"{COEFFICIENT_TOLERANCE:g} of a fraction with denominator <= {COEFFICIENT_MAX_DENOMINATOR}",
-            "reactions")
+            f"phases[{phase}].reactions" if phase else "reactions")
     return f
 
 
@@ -584,7 +588,7 @@ def _site_creating(ct, path: Path, loaded) -> set[str]:
         totals: dict[tuple[str, int], Fraction] = {}
         for k, (ph_name, size) in weights.items():
             for j, x in zip(net.indices[net.indptr[k]:net.indptr[k + 1]], net.data[net.indptr[k]:net.indptr[k + 1]]):
-                c = _exact_coefficient(float(x), path, equations[j], kin_names[k])
+                c = _exact_coefficient(float(x), path, equations[j], kin_names[k], name)
                 totals[ph_name, j] = totals.get((ph_name, j), Fraction(0)) + size * c
         creating |= {ph_name for (ph_name, _), t in totals.items() if t != 0}
     return creating
@@ -619,7 +623,7 @@ def _mechanism_reactions(ct, path: Path, pname: str, sol, offsets: dict[str, int
             if x == 0:
                 continue
             x = float(x)
-            c = int(x) if x.is_integer() else _exact_coefficient(x, path, equations[j], kin_names[k])
+            c = int(x) if x.is_integer() else _exact_coefficient(x, path, equations[j], kin_names[k], pname)
             pairs.append((kin_to_system[k], c if type(c) is int or c.denominator != 1 else c.numerator))
         pairs.sort()
         out.append(MechanismReaction(equations[j], tuple(pairs), pname))

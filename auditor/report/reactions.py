@@ -30,9 +30,11 @@ def _other_phases(system) -> list[dict]:
 def reactions_document(a: ReactionAnalysis, warnings_: tuple[str, ...] = (), system=None) -> dict:
     """The ``reactions --json`` document (design §4), plus additive fields.
 
-    Reaction ``index`` values are 0-based in file order (the contract); every place that
-    holds an index also carries the 1-based ``number`` shown to people (a sibling list
-    ``*_numbers`` where the contract's shape is a list of integers).
+    Reaction ``index`` values are 0-based in file order (the contract, whose objects keep
+    exactly their keys); the 1-based numbers shown to people come in sibling lists
+    (``independent_numbers``, ``dependent_numbers``, ``unbalanced_numbers``, parallel to the
+    contract lists; a combination's term ``index`` j is reaction number j + 1) and as a
+    ``number`` key in the additive objects.
     """
     return {
         "species": a.n_species,
@@ -41,14 +43,14 @@ def reactions_document(a: ReactionAnalysis, warnings_: tuple[str, ...] = (), sys
         "rank": a.rank,
         "max_independent": a.max_independent,
         "independent": list(a.independent),
-        "dependent": [{"index": d.index, "number": d.index + 1,
-                       "combination": [{"index": j, "number": j + 1, "coefficient": format_fraction(c)}
-                                       for j, c in d.combination]}
+        "dependent": [{"index": d.index,
+                       "combination": [{"index": j, "coefficient": format_fraction(c)} for j, c in d.combination]}
                       for d in a.dependent],
         "unbalanced": [u.index for u in a.unbalanced],
         "complete": a.complete,
         # additive fields
         "independent_numbers": [i + 1 for i in a.independent],
+        "dependent_numbers": [d.index + 1 for d in a.dependent],
         "unbalanced_numbers": [u.index + 1 for u in a.unbalanced],
         "imbalance": [{"index": u.index, "number": u.index + 1, "imbalance": {e: format_fraction(v) for e, v in u.imbalance}}
                       for u in a.unbalanced],
