@@ -84,6 +84,8 @@ def as_simple_fraction(value: float, max_denominator: int, tolerance: float) -> 
 
 def format_fraction(x: Number) -> str:
     """``"p/q"`` or ``"p"``: the exact text used in reports and JSON."""
+    if type(x) is int:
+        return str(x)
     x = Fraction(x)
     return str(x.numerator) if x.denominator == 1 else f"{x.numerator}/{x.denominator}"
 

@@ -97,6 +97,8 @@ class ReactionAnalysis:
 # ------------------------------------------------------------------ equations
 
 def format_coefficient(c: Fraction | int) -> str:
+    if type(c) is int:
+        return "" if c == 1 else f"{c} "
     c = Fraction(c)
     if c == 1:
         return ""

@@ -22,6 +22,8 @@ from fractions import Fraction
 from pathlib import Path
 from typing import Iterator, Mapping, Sequence
 
+import numpy as np
+
 from .cache import remember
 from .errors import CoefficientError, MechanismError, Problem
 from .settings import COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE
@@ -42,7 +44,8 @@ class Formula(Mapping[str, Fraction]):
 
     def __init__(self, items: Mapping[str, object] | Sequence[tuple[str, object]] = ()):
         pairs = items.items() if isinstance(items, Mapping) else items
-        self._items = tuple(sorted((str(k), Fraction(v)) for k, v in pairs if Fraction(v) != 0))
+        # whole amounts kept as int (equal, with equal hashes, to the Fraction): one exact form
+        self._items = tuple(sorted((str(k), _exact_value(v)) for k, v in pairs if v != 0))
 
     def __getitem__(self, key: str) -> Fraction:
         for k, v in self._items:
@@ -52,6 +55,19 @@ class Formula(Mapping[str, Fraction]):
 
     def __iter__(self) -> Iterator[str]:
         return (k for k, _ in self._items)
+
+    # direct versions of the Mapping mixins (which go through __getitem__, a linear search)
+    def get(self, key: str, default=None):
+        for k, v in self._items:
+            if k == key:
+                return v
+        return default
+
+    def items(self):
+        return self._items
+
+    def values(self):
+        return tuple(v for _, v in self._items)
 
     def __len__(self) -> int:
         return len(self._items)
@@ -68,6 +84,13 @@ class Formula(Mapping[str, Fraction]):
 
     def __repr__(self) -> str:
         return "Formula({" + ", ".join(f"{k!r}: {v}" for k, v in self._items) + "})"
+
+
+def _exact_value(v) -> int | Fraction:
+    if type(v) is int:
+        return v
+    f = Fraction(v)
+    return f.numerator if f.denominator == 1 else f
 
 
 @dataclass(frozen=True)
@@ -189,6 +212,9 @@ def _formula_and_charge(sp, source: str = "") -> tuple[Formula, Fraction]:
     comp = {k: v for k, v in sp.composition.items() if k not in ("E",)}
     formula = {}
     for k, v in comp.items():
+        if float(v).is_integer():
+            formula[k] = int(v)
+            continue
         f = as_simple_fraction(v, COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE)
         if f is None:
             raise MechanismError.single(source or "mechanism", f"species {sp.name}: element amount {v!r} of {k} is "
@@ -258,6 +284,8 @@ def _assemble(source: str, raw: list[tuple[str, str, bool, list]], reactions=(),
 
 
 def _norm(x: Fraction) -> Fraction | int:
+    if type(x) is int:
+        return x
     x = Fraction(x)
     return x.numerator if x.denominator == 1 else x
 
@@ -328,6 +356,7 @@ def shipped_data_file(name: str) -> Path | None:
 
 
 _TOP_KEY = re.compile(r"^[A-Za-z_][\w-]*\s*:")
+_TOP_KEY_ML = re.compile(r"^[A-Za-z_][\w-]*\s*:", re.M)
 
 
 def mechanism_phase_names(path: str | Path) -> list[str]:
@@ -360,13 +389,20 @@ def _phase_entries(path_text: str, _mtime: int, _size: int) -> tuple[dict, ...]:
         text = path.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as exc:
         raise MechanismError.single(path, f"cannot read mechanism file: {exc}") from None
-    lines = text.splitlines()
-    start = next((i for i, ln in enumerate(lines) if ln.startswith("phases:")), None)
-    if start is None:
+    # the block runs from a line starting 'phases:' to the next top-level key (found by
+    # searching the text: splitting an 8 MB file into lines costs more than the parse)
+    at = 0 if text.startswith("phases:") else text.find("\nphases:") + 1
+    if at == 0 and not text.startswith("phases:"):
         raise MechanismError.single(path, "no top-level 'phases:' section: not a Cantera-format mechanism")
-    end = next((j for j in range(start + 1, len(lines)) if _TOP_KEY.match(lines[j])), len(lines))
+    nl = text.find("\n", at)
+    nxt = _TOP_KEY_ML.search(text, nl + 1 if nl >= 0 else len(text))
+    block_text = text[at:nxt.start() if nxt else len(text)]
+    start = text.count("\n", 0, at)    # 0-based line of 'phases:'
     try:
-        block = yaml.safe_load("\n".join(lines[start:end]))
+        try:   # libyaml when present (same result, faster); errors are worded by the Python parser
+            block = yaml.load(block_text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))
+        except yaml.YAMLError:
+            block = yaml.safe_load(block_text)
         entries = tuple(dict(p) for p in block["phases"])
         for p in entries:
             p["name"] = str(p["name"])
@@ -614,19 +650,27 @@ def _mechanism_reactions(ct, path: Path, pname: str, sol, offsets: dict[str, int
             system_names[i] != nm for i, nm in zip(kin_to_system, kin_names)):
         raise MechanismError.single(path, f"cannot map the kinetics species of phase {pname!r} to its phases", "phases")
     net = _net_stoich(ct, sol).tocsc()
+    net.eliminate_zeros()
+    net.sort_indices()
     equations = sol.reaction_equations()
+    data = net.data
+    whole = np.round(data)
+    is_whole = whole == data
+    values = whole.astype(np.int64).tolist()
+    if not is_whole.all():   # fractional coefficients: exact, one by one (few in practice)
+        col = np.repeat(np.arange(n_rxn), np.diff(net.indptr))
+        for pos in np.flatnonzero(~is_whole).tolist():
+            c = _exact_coefficient(float(data[pos]), path, equations[col[pos]], kin_names[net.indices[pos]], pname)
+            values[pos] = c.numerator if c.denominator == 1 else c
+    mapping = np.asarray(kin_to_system)
+    columns = mapping[net.indices].tolist()
+    in_order = bool(np.all(np.diff(mapping) > 0))   # system order kept: pairs come out sorted
+    indptr = net.indptr.tolist()
     out = []
-    indptr, indices, data = net.indptr, net.indices, net.data
     for j in range(n_rxn):
-        pairs = []
-        for k, x in zip(indices[indptr[j]:indptr[j + 1]], data[indptr[j]:indptr[j + 1]]):
-            if x == 0:
-                continue
-            x = float(x)
-            c = int(x) if x.is_integer() else _exact_coefficient(x, path, equations[j], kin_names[k], pname)
-            pairs.append((kin_to_system[k], c if type(c) is int or c.denominator != 1 else c.numerator))
-        pairs.sort()
-        out.append(MechanismReaction(equations[j], tuple(pairs), pname))
+        a, b = indptr[j], indptr[j + 1]
+        pairs = tuple(zip(columns[a:b], values[a:b]))
+        out.append(MechanismReaction(equations[j], pairs if in_order else tuple(sorted(pairs)), pname))
     return out
 
 
