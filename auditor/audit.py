@@ -47,18 +47,18 @@ def _reaction_findings(a: ReactionAnalysis) -> list[Finding]:
     out = []
     for u in a.unbalanced:
         imb = ", ".join(f"{e} {'+' if v > 0 else ''}{format_fraction(v)}" for e, v in u.imbalance)
-        out.append(Finding("error", "reactions", f"reaction #{u.index} '{a.reactions[u.index].equation}' does not "
+        out.append(Finding("error", "reactions", f"reaction #{u.index + 1} '{a.reactions[u.index].equation}' does not "
                            f"balance (products - reactants: {imb})", tuple(e for e, _ in u.imbalance)))
     dup = {i for g in a.duplicates for i, _ in g.members}
     for d in a.dependent:
         if d.index in dup:
             continue
-        combo = " ".join(f"{'+' if c > 0 else '-'} {format_fraction(abs(c))} x #{j}" for j, c in d.combination)
-        out.append(Finding("note", "reactions", f"reaction #{d.index} '{a.reactions[d.index].equation}' is "
+        combo = " ".join(f"{'+' if c > 0 else '-'} {format_fraction(abs(c))} x #{j + 1}" for j, c in d.combination)
+        out.append(Finding("note", "reactions", f"reaction #{d.index + 1} '{a.reactions[d.index].equation}' is "
                            f"redundant: it equals {combo.lstrip('+ ')}"))
     for g in a.duplicates:
-        out.append(Finding("note", "reactions", f"reactions {', '.join('#' + str(i) for i, _ in g.members)} repeat the "
-                           f"net change of #{g.representative} '{a.reactions[g.representative].equation}'"))
+        out.append(Finding("note", "reactions", f"reactions {', '.join('#' + str(i + 1) for i, _ in g.members)} repeat the "
+                           f"net change of #{g.representative + 1} '{a.reactions[g.representative].equation}'"))
     if a.frozen:
         extra = [c.name for c in a.conserved if not c.is_element]
         out.append(Finding("warning", "reactions", f"the listed reactions are incomplete: {len(a.frozen)} composition "
