@@ -335,3 +335,26 @@ def test_bare_name_is_found_among_cantera_data(capsys, tmp_path, monkeypatch):
     # ohmech-RK is the same mixture under another model: the first phase of the file is used
     assert doc["species"] == ohmech.n_species
     assert doc["other_phases"] == [{"name": "ohmech-RK", "alternative_of": "ohmech"}]
+
+
+def test_json_is_compact_off_a_terminal_and_indented_with_pretty():
+    # stdout of a subprocess is a pipe, not a terminal: one compact line
+    compact = run_cli("reactions", str(GRI30), "--json")
+    assert compact.returncode == 0
+    assert compact.stdout.count("\n") == 1 and ", " not in compact.stdout[:200]
+    pretty = run_cli("reactions", str(GRI30), "--json", "--pretty")
+    assert pretty.stdout.startswith('{\n "species": 53,\n')
+    assert json.loads(compact.stdout) == json.loads(pretty.stdout)
+
+
+def test_reaction_numbers_shown_to_people_start_at_1(capsys):
+    # gri30's first reaction, '2 O + M <=> O2 + M', is #1 in text; JSON keeps index 0 and adds numbers
+    assert main(["reactions", str(GRI30), "--limit", "2"]) == 0
+    out = capsys.readouterr().out
+    assert "  #1: 2 O + M <=> O2 + M\n" in out
+    rc = main(["reactions", str(GRI30), "--json"])
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["independent"][0] == 0 and doc["independent_numbers"][0] == 1
+    assert doc["independent_numbers"] == [i + 1 for i in doc["independent"]]
+    assert doc["dependent_numbers"] == [d["index"] + 1 for d in doc["dependent"]]
+    assert doc["unbalanced_numbers"] == []

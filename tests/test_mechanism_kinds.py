@@ -148,6 +148,9 @@ def test_case_without_phases_uses_the_first_model(tmp_path):
     result = audit_file(tmp_path / "case.yaml", confirm=False)
     assert [p.name for p in result.system.phases] == ["ohmech"]
     assert result.system.set_aside == (("ohmech-RK", "ohmech"),)
+    assert [f.message for f in result.findings if "alternative" in f.message] == [
+        "the mechanism also defines phase ohmech-RK, an alternative model of the mixture of ohmech; ohmech is "
+        "used (name a phase under system.phases to choose)"]
 
 
 # ------------------------------------------------------------------ real-gas phase in a case
