@@ -436,18 +436,20 @@ def _canonical(value) -> str:
 GAS_MODELS = ("ideal-gas", "Redlich-Kwong", "Peng-Robinson", "plasma")
 
 
-def _alternative_key(entry: dict) -> tuple[str, str, bool]:
+def _alternative_key(entry: dict) -> tuple[str, str, bool, str]:
     species = _canonical(entry.get("species", "all"))
     kinetics = entry.get("kinetics")
     reactions = "none" if kinetics in (None, "none") else _canonical(entry.get("reactions", "all"))
-    return species, reactions, entry.get("thermo") in GAS_MODELS
+    return species, reactions, entry.get("thermo") in GAS_MODELS, str(entry.get("thermo"))
 
 
 def are_alternatives(a: dict, b: dict) -> bool:
-    """Two phase entries model one mixture when they list the same species and either the
-    same reactions or both are gases (a gas mixture never splits into two gas phases)."""
+    """Two phase entries model one mixture when they list the same species and either both
+    are gases (a gas mixture never splits into two gas phases) or they hold the same
+    reactions under different thermo models (an ideal and a real-fluid model).  Two
+    condensed phases defined alike may be the two liquids of a split, so they are not."""
     ka, kb = _alternative_key(a), _alternative_key(b)
-    return ka[0] == kb[0] and (ka[1] == kb[1] or (ka[2] and kb[2]))
+    return ka[0] == kb[0] and ((ka[2] and kb[2]) or (ka[1] == kb[1] and ka[3] != kb[3]))
 
 
 def default_phases(path: str | Path) -> tuple[list[str], list[tuple[str, str]]]:

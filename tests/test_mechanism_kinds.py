@@ -100,7 +100,8 @@ def test_two_alternatives_are_refused_as_a_pair(capsys):
 
 
 def test_two_gas_models_with_different_reaction_lists_are_alternatives(capsys):
-    # same 33 species, two reaction sets (common + one of two pressure-dependent variants)
+    # the same 42 species under two reaction sets (common reactions + one of two
+    # pressure-dependent variants), both ideal gases
     path = EXAMPLES / "ammonia-CO-H2-Alzueta-2023.yaml"
     rc, doc = reactions_json(capsys, str(path))
     assert rc == 0
@@ -109,6 +110,29 @@ def test_two_gas_models_with_different_reaction_lists_are_alternatives(capsys):
     err = one_error(capsys, ["reactions", str(path), "--phase", "baseline", "--phase", "linear-Burke"])
     assert "phases 'baseline' and 'linear-Burke' of ammonia-CO-H2-Alzueta-2023.yaml list the same species and " \
            "are both gases" in err
+
+
+def test_fluid_models_of_water_are_alternatives(capsys):
+    # liquidvapor.yaml: 'water' (pure-fluid) and 'liquid-water-IAPWS95' both model H2O alone
+    rc, doc = reactions_json(capsys, str(DATA / "liquidvapor.yaml"))
+    assert {"name": "liquid-water-IAPWS95", "alternative_of": "water"} in doc["other_phases"]
+
+
+def test_two_liquids_defined_alike_may_coexist(tmp_path, capsys):
+    # INVENTED: two ideal-condensed liquids over the same species and model (a liquid-liquid
+    # split is modelled so): not alternatives, both are used
+    species = "".join(f"""- name: {n}
+  composition: {{H: 2}}
+  thermo: {{model: constant-cp, T0: 298.15 K, h0: 0 J/mol, s0: 100 J/mol/K, cp0: 75 J/mol/K}}
+  equation-of-state: {{model: constant-volume, molar-volume: 0.02 m^3/kmol}}
+""" for n in "AB")
+    liquid = "  thermo: ideal-condensed\n  standard-concentration-basis: unity\n  species: [A, B]\n"
+    path = tmp_path / "two_liquids.yaml"
+    path.write_text(f"phases:\n- name: upper\n{liquid}- name: lower\n{liquid}species:\n{species}")
+    rc, doc = reactions_json(capsys, str(path))
+    assert [p["name"] for p in doc["phases"]] == ["upper", "lower"] and doc["other_phases"] == []
+    # N = 4 phase-species over one element: rank A = 1, N - rank A = 3, no reactions listed
+    assert counts(doc) == (4, 1, 3, 0, False)
 
 
 def test_phases_that_coexist_are_all_used_by_default(capsys):
