@@ -595,19 +595,19 @@ def _net_stoich(ct, sol):
         ct.use_sparse(False)
 
 
-def _site_creating(ct, path: Path, loaded) -> set[str]:
-    """Interfaces among ``loaded`` whose total site count some reaction changes.
+def _site_creating(ct, path: Path, loaded, kinetic) -> set[str]:
+    """Interfaces among ``loaded`` whose total site count some reaction of ``kinetic`` changes.
 
     Cantera checks the site balance of a reaction on its own interface only; a reaction
-    of an edge can still change the site total of an adjacent surface, and so can a
-    reaction file that skips the check.  Each interface is checked against every kinetics
-    object that holds its species, exactly (sizes and coefficients as fractions).
+    of an edge can still change the site total of an adjacent surface.  Each interface is
+    checked against every kinetics object that holds its species, exactly (sizes and
+    coefficients as fractions).
     """
     interfaces = {n for n, sol in loaded if sol.thermo_model in INTERFACE_MODELS}
     creating: set[str] = set()
     if not interfaces:
         return creating
-    for name, sol in loaded:
+    for name, sol in kinetic:
         if not getattr(sol, "n_reactions", 0):
             continue
         weights: dict[int, tuple[str, Fraction]] = {}
@@ -707,7 +707,12 @@ def from_mechanism(path: str | Path, phase_names: Sequence[str] | None = None,
         raw.append((name, sol.thermo_model, is_gas, sps))
     if problems:
         raise MechanismError(problems)
-    creating = _site_creating(ct, path, loaded)
+    # the kinetics whose reactions are the system's: not those of a phase brought in only
+    # as the neighbour of a named interface
+    kinetic = [(name, sol) for name, sol in loaded
+               if not (phase_names and name not in phase_names
+                       and any(name in getattr(s, "adjacent", {}) for _, s in loaded))]
+    creating = _site_creating(ct, path, loaded, kinetic)
     site_phases = [name for name, model, _, _ in raw if model in INTERFACE_MODELS and name not in creating]
     system = _assemble(str(path), raw, library_warnings=tuple(dict.fromkeys(notes)), site_phases=site_phases)
     system = dataclasses.replace(system, file_phases=tuple(mechanism_phase_names(path)), set_aside=tuple(aside),
@@ -719,9 +724,7 @@ def from_mechanism(path: str | Path, phase_names: Sequence[str] | None = None,
         offsets[name] = n
         n += len(sps)
     reactions = []
-    for name, sol in loaded:
-        if phase_names and name not in phase_names and any(name in getattr(s, "adjacent", {}) for _, s in loaded):
-            continue  # an adjacent phase brought in only to complete an interface
+    for name, sol in kinetic:
         reactions.extend(_mechanism_reactions(ct, path, name, sol, offsets, [sp.name for sp in system.species]))
     return dataclasses.replace(system, reactions=tuple(reactions))
 
