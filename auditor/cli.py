@@ -16,7 +16,10 @@ EXIT_OK, EXIT_PROBLEM, EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3,
 EPILOG_REACTIONS = """example:
   auditor reactions gri30.yaml
   auditor reactions ptcombust.yaml --phase Pt_surf --json
-A bare file name is also looked up among the data files that ship with cantera."""
+  auditor reactions h2o2.yaml --phase ohmech-RK      choose one of two models of a mixture
+A bare file name is also looked up among the data files that ship with cantera. Without
+--phase every phase is used except a later alternative model of a mixture already used
+(the output names it). Reactions are numbered from 1; JSON indices count from 0."""
 
 
 def _parser() -> argparse.ArgumentParser:
