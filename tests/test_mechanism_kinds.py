@@ -200,6 +200,35 @@ def test_real_gas_phase_is_confirmed_with_its_own_model(tmp_path):
     assert not [f for f in result.findings if "as ideal" in f.message]
 
 
+def test_peng_robinson_phase_is_confirmed_with_its_own_model(tmp_path):
+    # INVENTED: a dry reformer on a Peng-Robinson gas (cantera takes the critical properties of
+    # CH4, CO, CO2 and H2 from its critical-properties.yaml); mechanism written next to the case
+    mech = ("phases:\n- name: pr-gas\n  thermo: Peng-Robinson\n"
+            "  species: [{gri30.yaml/species: [CH4, CO, CO2, H2]}]\n  state: {T: 300, P: 1 atm}\n")
+    (tmp_path / "dry_reformer.yaml").write_text(mech)
+    case = tmp_path / "case.yaml"
+    case.write_text("""title: invented dry reformer on a real-gas model
+system:
+  mechanism: dry_reformer.yaml
+reactions: complete
+feed: {CH4: 1.0, CO2: 1.0}
+specified:
+  temperature: 900 K
+  pressure: 100 bar
+""")
+    result = audit_file(case, confirm=True)
+    assert result.verdict == "well-posed"
+    found = dict(result.equilibrium.document()["phases"][0]["mole_fractions"])
+    out = {}
+    for model in ("Peng-Robinson", "ideal-gas"):   # reference: cantera's own equilibrate
+        gas = ct.Solution(yaml=mech.replace("Peng-Robinson", model))
+        gas.TPX = 900.0, 100e5, "CH4:1, CO2:1"
+        gas.equilibrate("TP")
+        out[model] = gas["CO"].X[0]
+    assert abs(out["Peng-Robinson"] - out["ideal-gas"]) / out["ideal-gas"] > 0.01   # about 1.7 % apart
+    assert found["CO"] == pytest.approx(out["Peng-Robinson"], rel=1e-5)
+
+
 def test_real_gas_species_subset_keeps_its_model(tmp_path):
     path = _case(tmp_path, "{ohmech-RK: [H2, O2, H2O, OH, H, O, N2]}")
     result = audit_file(path, confirm=True)
