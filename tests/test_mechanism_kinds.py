@@ -316,6 +316,20 @@ def test_site_creating_surface_gets_no_row(capsys):
     assert doc["unbalanced"] == []      # with a terrace row, reaction #2 would show as unbalanced
 
 
+def test_site_rows_are_named_in_text_and_findings(tmp_path, capsys):
+    assert main(["reactions", str(HERE / "invented_step_edge.yaml")]) == 0
+    out = capsys.readouterr().out
+    assert "Site conservation counted in rank A: sites of step\n" in out
+    assert "No site-conservation row (reactions create or remove sites): terrace\n" in out
+    shutil.copy(HERE / "invented_step_edge.yaml", tmp_path / "edge.yaml")
+    case = tmp_path / "case.yaml"
+    case.write_text("title: invented step edge, counting only\nsystem:\n  mechanism: edge.yaml\n"
+                    "reactions: from-mechanism\nspecified:\n  temperature: 800 K\n  pressure: 1 bar\n")
+    result = audit_file(case, confirm=False)
+    assert "the mechanism's reactions create or remove sites of terrace, so its site total is not a conserved " \
+           "quantity" in [f.message for f in result.findings]
+
+
 def test_charge_stays_conserved_with_electrons(capsys):
     rc, doc = reactions_json(capsys, str(DATA / "sofc.yaml"))
     assert "charge" in doc["conserved_quantities"]
