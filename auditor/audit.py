@@ -87,6 +87,13 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     for w in system.library_warnings:
         severity = "warning" if "discontinuity" in w.lower() or "outside" in w.lower() else "note"
         findings.append(Finding(severity, "data", f"cantera: {w}"))
+    for aside, used in system.set_aside:
+        findings.append(Finding("note", "data", f"the mechanism also defines phase {aside}, an alternative model "
+                                f"of the mixture of {used}; {used} is used (name a phase under system.phases to "
+                                "choose)", (aside, used)))
+    for phase in system.site_creating:
+        findings.append(Finding("note", "reactions", f"the mechanism's reactions create or remove sites of {phase}, "
+                                "so its site total is not a conserved quantity", (phase,)))
     F = count.degrees_of_freedom
     for phase in count.empty_phases:
         findings.append(Finding("error", "phase-rule", f"phase {phase} is assumed to coexist but none of its species "

@@ -714,6 +714,11 @@ def build_system(case: Case):
                     kp = f"system.phases.{n}" if listed_as_mapping else f"system.phases[{i}]"
                     problems.append(Problem(str(case.path), unknown_name_message(
                         "phase", n, available, Path(spec.mechanism).name), kp, case.line(kp)))
+            # two models of one mixture (an ideal gas and its real-gas twin) are not two phases
+            from .system import alternative_pairs, alternatives_message
+            for a, b in ([] if problems else alternative_pairs(spec.mechanism, names)):
+                kp = f"system.phases.{b}" if listed_as_mapping else f"system.phases[{names.index(b)}]"
+                problems.append(Problem(str(case.path), alternatives_message(spec.mechanism, a, b), kp, case.line(kp)))
             if problems:
                 raise CaseError(problems)
         return from_mechanism(spec.mechanism, names, subsets or None, with_reactions=case.reactions == "from-mechanism")

@@ -238,12 +238,18 @@ class _Model:
             ok = sol.thermo_model not in ("pure-fluid", "liquid-water-IAPWS95", "ideal-surface", "edge",
                                           "coverage-dependent-surface", "electron-cloud")
             if ok and names != list(sol.species_names):
-                if sol.thermo_model == "ideal-gas":
+                # the same thermo model over the chosen species (a real-gas model keeps its own
+                # equation-of-state data, which each species carries)
+                try:
                     keep = [sol.species(n) for n in names]
-                    sol = ct.Solution(thermo="ideal-gas", species=keep)
-                else:
+                    with warnings.catch_warnings():
+                        warnings.simplefilter("ignore")
+                        sol = ct.Solution(thermo=sol.thermo_model, species=keep)
+                except Exception as exc:
                     ok = False
-                    self.problems.append(f"phase {ph.name}: a species subset of a {sol.thermo_model} phase cannot be minimised")
+                    self.problems.append(f"phase {ph.name}: cantera cannot build its {sol.thermo_model} model over the "
+                                         f"chosen species ({' '.join(str(exc).split())[:200]}); the phase is left out "
+                                         "of the minimisation rather than treated as ideal")
             if not ok and sol.thermo_model in ("pure-fluid", "liquid-water-IAPWS95"):
                 self.problems.append(f"phase {ph.name} ({sol.thermo_model}) cannot enter a multiphase minimisation; "
                                      "model the vapour and the liquid as two phases")
@@ -700,10 +706,14 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
     for p in model.problems:
         findings.append(Finding("warning", "equilibrium", p))
     non_ideal = [ph.name for ph, ok in zip(system.phases, model.usable) if ok and ph.model not in IDEAL_MODELS]
-    if non_ideal and not analysis.complete:
-        findings.append(Finding("warning", "equilibrium", "the reaction list is incomplete, so the element-potential "
-                                "minimiser holds the extra conserved quantities; it treats phase(s) "
-                                f"{', '.join(non_ideal)} as ideal", tuple(non_ideal)))
+    if non_ideal and (not analysis.complete or not all(model.usable)):
+        # the element-potential minimiser knows only standard potentials: say which model it drops
+        why = ("the reaction list is incomplete, so the element-potential minimiser holds the extra conserved "
+               "quantities" if not analysis.complete else "a phase cannot enter cantera's multiphase solver, so "
+               "the element-potential minimiser solves the rest")
+        models = ", ".join(f"{p} ({system.phase(p).model})" for p in non_ideal)
+        findings.append(Finding("warning", "equilibrium", f"{why}; it treats phase(s) {models} as ideal: their "
+                                "model is not used in the minimisation", tuple(non_ideal)))
     if not any(model.usable):
         return not_solved("no phase of this system can enter a Gibbs minimisation", assumed=model.assumed)
     n0 = _feed_vector(case, system)

@@ -84,6 +84,8 @@ def as_simple_fraction(value: float, max_denominator: int, tolerance: float) -> 
 
 def format_fraction(x: Number) -> str:
     """``"p/q"`` or ``"p"``: the exact text used in reports and JSON."""
+    if type(x) is int:
+        return str(x)
     x = Fraction(x)
     return str(x.numerator) if x.denominator == 1 else f"{x.numerator}/{x.denominator}"
 
@@ -163,10 +165,13 @@ class RowEchelon:
 
     def _combine(self, alpha: Mapping[int, Number]) -> dict[int, Number]:
         out: dict[int, Number] = {}
+        get = out.get
+        exprs = self._expr
         for p, a in alpha.items():
-            for i, c in self._expr[p].items():
-                out[i] = out.get(i, 0) + a * c
-        return {i: _norm(c) for i, c in out.items() if c != 0}
+            for i, c in exprs[p].items():
+                out[i] = get(i, 0) + a * c
+        # _norm inlined: this runs once per dependent row of a mechanism
+        return {i: c.numerator if type(c) is Fraction and c.denominator == 1 else c for i, c in out.items() if c}
 
     def add(self, row: Mapping[int, Number]) -> dict[int, Number] | None:
         v, alpha = self.reduce(row)

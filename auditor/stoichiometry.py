@@ -97,6 +97,8 @@ class ReactionAnalysis:
 # ------------------------------------------------------------------ equations
 
 def format_coefficient(c: Fraction | int) -> str:
+    if type(c) is int:
+        return "" if c == 1 else f"{c} "
     c = Fraction(c)
     if c == 1:
         return ""
@@ -260,7 +262,8 @@ def analyse(system: ChemicalSystem, reactions: Sequence[Reaction]) -> ReactionAn
         key, factor = exact.canonical_direction(vec)
         if key in groups:
             rep, rep_factor = groups[key]
-            member_of[i] = (rep, factor / rep_factor)
+            f = factor / rep_factor
+            member_of[i] = (rep, f.numerator if f.denominator == 1 else f)   # int when whole: cheap products
             continue
         groups[key] = (i, factor)
         combo = ech.add(vec)
@@ -271,6 +274,7 @@ def analyse(system: ChemicalSystem, reactions: Sequence[Reaction]) -> ReactionAn
 
     dependent = []
     dup_members: dict[int, list[tuple[int, Fraction]]] = {}
+    no_net_set = set(no_net)
     for i in range(len(reactions)):
         if i in combo_of:
             combo = combo_of[i]
@@ -278,7 +282,7 @@ def analyse(system: ChemicalSystem, reactions: Sequence[Reaction]) -> ReactionAn
             rep, f = member_of[i]
             dup_members.setdefault(rep, []).append((i, f))
             combo = {rep: f} if rep not in combo_of else {j: f * c for j, c in combo_of[rep].items()}
-        elif i in no_net:
+        elif i in no_net_set:
             combo = {}
         else:
             continue

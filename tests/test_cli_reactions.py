@@ -222,7 +222,8 @@ def test_unbalanced_reaction_exits_1(monkeypatch, capsys):
     assert rc == 1  # design §4: an audit finds a problem
     doc = json.loads(out)
     assert doc["unbalanced"] == [0]
-    assert doc["imbalance"] == [{"index": 0, "imbalance": {"H": "-2"}}]  # by hand: 4 H vs 6 H
+    assert doc["imbalance"] == [{"index": 0, "number": 1, "imbalance": {"H": "-2"}}]  # by hand: 4 H vs 6 H
+    assert doc["unbalanced_numbers"] == [1]
     assert doc["complete"] is False
 
 
@@ -260,7 +261,7 @@ def _bad_inputs(tmp_path: Path) -> dict[str, tuple[list[str], tuple[str, ...]]]:
         "unknown phase, small file": ([str(nonrational), "--phase", "gaz"],
                                       ("unknown phase 'gaz' in nonrational.yaml; closest names: gas",)),
         "non-rational coefficient": ([str(nonrational)], (
-            f"{nonrational}: reactions: stoichiometric coefficient -0.3183 of B in reaction "
+            f"{nonrational}: phases[gas].reactions: stoichiometric coefficient -0.3183 of B in reaction "
             "'A + 0.3183 B => 1.3183 C' is not within 1e-09 of a fraction with denominator <= 1000",)),
         # cantera refuses an unbalanced reaction itself; its message is passed on
         "unbalanced reaction": ([str(unbalanced)], (
@@ -331,4 +332,29 @@ def test_bare_name_is_found_among_cantera_data(capsys, tmp_path, monkeypatch):
     assert rc == 0 and err == ""
     ohmech = ct.Solution("h2o2.yaml", "ohmech", transport_model=None)
     doc = json.loads(out)
-    assert doc["species"] == 2 * ohmech.n_species  # two phases, ohmech and ohmech-RK, same species
+    # ohmech-RK is the same mixture under another model: the first phase of the file is used
+    assert doc["species"] == ohmech.n_species
+    assert doc["other_phases"] == [{"name": "ohmech-RK", "alternative_of": "ohmech"}]
+
+
+def test_json_is_compact_off_a_terminal_and_indented_with_pretty():
+    # stdout of a subprocess is a pipe, not a terminal: one compact line
+    compact = run_cli("reactions", str(GRI30), "--json")
+    assert compact.returncode == 0
+    assert compact.stdout.count("\n") == 1 and ", " not in compact.stdout[:200]
+    pretty = run_cli("reactions", str(GRI30), "--json", "--pretty")
+    assert pretty.stdout.startswith('{\n "species": 53,\n')
+    assert json.loads(compact.stdout) == json.loads(pretty.stdout)
+
+
+def test_reaction_numbers_shown_to_people_start_at_1(capsys):
+    # gri30's first reaction, '2 O + M <=> O2 + M', is #1 in text; JSON keeps index 0 and adds numbers
+    assert main(["reactions", str(GRI30), "--limit", "2"]) == 0
+    out = capsys.readouterr().out
+    assert "  #1: 2 O + M <=> O2 + M\n" in out
+    rc = main(["reactions", str(GRI30), "--json"])
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["independent"][0] == 0 and doc["independent_numbers"][0] == 1
+    assert doc["independent_numbers"] == [i + 1 for i in doc["independent"]]
+    assert doc["dependent_numbers"] == [d["index"] + 1 for d in doc["dependent"]]
+    assert doc["unbalanced_numbers"] == []

@@ -3,6 +3,7 @@ from __future__ import annotations
 
 from ..exact import format_fraction
 from ..stoichiometry import ReactionAnalysis
+from ..system import SITES_PREFIX
 
 
 def _combo_text(combination, prefix="#") -> str:
@@ -11,13 +12,30 @@ def _combo_text(combination, prefix="#") -> str:
         sign = "-" if c < 0 else "+"
         mag = abs(c)
         coef = "" if mag == 1 else f"{format_fraction(mag)} "
-        parts.append(f"{sign} {coef}{prefix}{j}")
+        parts.append(f"{sign} {coef}{prefix}{j + 1}")
     text = " ".join(parts)
     return text[2:] if text.startswith("+ ") else (text or "0 (no net change)")
 
 
-def reactions_document(a: ReactionAnalysis, warnings_: tuple[str, ...] = ()) -> dict:
-    """The ``reactions --json`` document (design §4), plus additive fields."""
+def _phases_used(system) -> list[dict]:
+    return [{"name": p.name, "model": p.model, "species": len(p.species)} for p in system.phases]
+
+
+def _other_phases(system) -> list[dict]:
+    used = {p.name for p in system.phases}
+    aside = dict(system.set_aside)
+    return [{"name": n, "alternative_of": aside.get(n)} for n in system.file_phases if n not in used]
+
+
+def reactions_document(a: ReactionAnalysis, warnings_: tuple[str, ...] = (), system=None) -> dict:
+    """The ``reactions --json`` document (design §4), plus additive fields.
+
+    Reaction ``index`` values are 0-based in file order (the contract, whose objects keep
+    exactly their keys); the 1-based numbers shown to people come in sibling lists
+    (``independent_numbers``, ``dependent_numbers``, ``unbalanced_numbers``, parallel to the
+    contract lists; a combination's term ``index`` j is reaction number j + 1) and as a
+    ``number`` key in the additive objects.
+    """
     return {
         "species": a.n_species,
         "reactions": len(a.reactions),
@@ -31,23 +49,49 @@ def reactions_document(a: ReactionAnalysis, warnings_: tuple[str, ...] = ()) -> 
         "unbalanced": [u.index for u in a.unbalanced],
         "complete": a.complete,
         # additive fields
-        "imbalance": [{"index": u.index, "imbalance": {e: format_fraction(v) for e, v in u.imbalance}}
+        "independent_numbers": [i + 1 for i in a.independent],
+        "dependent_numbers": [d.index + 1 for d in a.dependent],
+        "unbalanced_numbers": [u.index + 1 for u in a.unbalanced],
+        "imbalance": [{"index": u.index, "number": u.index + 1, "imbalance": {e: format_fraction(v) for e, v in u.imbalance}}
                       for u in a.unbalanced],
-        "duplicates": [{"representative": g.representative,
-                        "members": [{"index": i, "factor": format_fraction(f)} for i, f in g.members]}
+        "duplicates": [{"representative": g.representative, "representative_number": g.representative + 1,
+                        "members": [{"index": i, "number": i + 1, "factor": format_fraction(f)} for i, f in g.members]}
                        for g in a.duplicates],
         "no_net_change": list(a.no_net_change),
+        "no_net_change_numbers": [i + 1 for i in a.no_net_change],
         "frozen_directions": [r.equation for r in a.frozen],
         "derived_complete_set": [r.equation for r in a.derived_basis],
         "conserved_quantities": [c.name for c in a.conserved],
         "equations": [r.equation for r in a.reactions],
         "library_warnings": list(warnings_),
+        **({} if system is None else {
+            "phases": _phases_used(system),
+            "other_phases": _other_phases(system),
+            "site_conservation": [e for e in system.elements if e.startswith(SITES_PREFIX)],
+            "site_creating_phases": list(system.site_creating)}),
     }
 
 
-def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, warnings_: tuple[str, ...] = ()) -> str:
-    """Human-readable account; reaction numbers ``#i`` are 0-based, in file order."""
+def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, warnings_: tuple[str, ...] = (),
+                   system=None) -> str:
+    """Human-readable account; reaction numbers ``#n`` count from 1 in file order (the
+    mechanism's first reaction is #1; JSON's ``index`` is this number minus one)."""
     lines = [f"Stoichiometric analysis of {source}", ""]
+    if system is not None:
+        lines.append("Phases used: " + ", ".join(f"{p['name']} ({p['model']}, {p['species']} species)"
+                                                 for p in _phases_used(system)))
+        others = _other_phases(system)
+        if others:
+            lines.append("The file also defines: " + ", ".join(
+                o["name"] + (f" (an alternative model of {o['alternative_of']}, set aside)" if o["alternative_of"] else "")
+                for o in others) + "; choose phases with --phase NAME")
+        sites = [e for e in system.elements if e.startswith(SITES_PREFIX)]
+        if sites:
+            lines.append("Site conservation counted in rank A: " + ", ".join(sites))
+        if system.site_creating:
+            lines.append("No site-conservation row (reactions create or remove sites): "
+                         + ", ".join(system.site_creating))
+        lines.append("")
     rows = [("phase-species (N)", a.n_species), ("reactions listed", len(a.reactions)),
             ("formula-matrix rank (rank A)", a.formula_rank), ("rank of the reactions (m)", a.rank),
             ("most independent reactions possible (N - rank A)", a.max_independent)]
@@ -70,7 +114,7 @@ def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, w
 
     shown, more = cap(a.independent)
     lines.append(f"Independent reactions ({len(a.independent)}, earliest in file order):")
-    lines += [f"  #{i}: {a.reactions[i].equation}" for i in shown]
+    lines += [f"  #{i + 1}: {a.reactions[i].equation}" for i in shown]
     if more:
         lines.append(f"  ... and {more} more (use --json for all)")
     dup_members = {i for g in a.duplicates for i, _ in g.members}
@@ -79,7 +123,7 @@ def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, w
         lines += ["", f"Dependent reactions ({len(others)}, each an exact combination of independent ones):"]
         shown, more = cap(others)
         for d in shown:
-            lines.append(f"  #{d.index}: {a.reactions[d.index].equation}")
+            lines.append(f"  #{d.index + 1}: {a.reactions[d.index].equation}")
             lines.append(f"      = {_combo_text(d.combination)}")
         if more:
             lines.append(f"  ... and {more} more (use --json for all)")
@@ -88,18 +132,18 @@ def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, w
         lines += ["", f"Duplicates ({n} reactions with the same net change as an earlier one, in {len(a.duplicates)} groups):"]
         shown, more = cap(a.duplicates)
         for g in shown:
-            mem = ", ".join(f"#{i}" + ("" if f == 1 else f" (x {format_fraction(f)})") for i, f in g.members)
-            lines.append(f"  #{g.representative} {a.reactions[g.representative].equation}: {mem}")
+            mem = ", ".join(f"#{i + 1}" + ("" if f == 1 else f" (x {format_fraction(f)})") for i, f in g.members)
+            lines.append(f"  #{g.representative + 1} {a.reactions[g.representative].equation}: {mem}")
         if more:
             lines.append(f"  ... and {more} more groups")
     if a.no_net_change:
         lines += ["", "Reactions with no net change (catalytic or third-body only): "
-                  + ", ".join(f"#{i}" for i in a.no_net_change)]
+                  + ", ".join(f"#{i + 1}" for i in a.no_net_change)]
     if a.unbalanced:
         lines += ["", f"Unbalanced reactions ({len(a.unbalanced)}; imbalance = products - reactants):"]
         for u in a.unbalanced:
             imb = ", ".join(f"{e} {'+' if v > 0 else ''}{format_fraction(v)}" for e, v in u.imbalance)
-            lines.append(f"  #{u.index}: {a.reactions[u.index].equation}   [{imb}]")
+            lines.append(f"  #{u.index + 1}: {a.reactions[u.index].equation}   [{imb}]")
     if a.frozen:
         lines += ["", "Frozen directions (reactions the list cannot produce):"]
         lines += [f"  {r.equation}" for r in a.frozen]
