@@ -11,7 +11,7 @@ from .errors import InputError
 from .exact import format_fraction
 from .findings import Finding
 from .phase_rule import PhaseRuleCount, count as count_phase_rule
-from .stoichiometry import ReactionAnalysis, analyse
+from .stoichiometry import ReactionAnalysis, analyse, build_reactions
 from .structure import SpecificationAudit, audit as audit_specification
 from .system import ChemicalSystem
 
@@ -74,7 +74,7 @@ def counting_stages(case: Case, system: ChemicalSystem | None = None):
     if system is None:
         system = case_mod.build_system(case)
     case_mod.check_names(case, system)
-    reactions = case_mod.build_reactions(case, system)
+    reactions = build_reactions(case, system)
     analysis = analyse(system, reactions)
     count = count_phase_rule(case, system, reactions, analysis)
     return system, reactions, analysis, count, audit_specification(case, system, count)

@@ -849,21 +849,3 @@ def matching_species(system, first: str, other: str) -> list[tuple[int, int]]:
     """Pairs (k in first, k in other) of the same substance, matched by formula and charge."""
     by_key = {_formula_key(system.species[k]): k for k in system.phase_indices(other)}
     return [(k, by_key[_formula_key(system.species[k])]) for k in system.phase_indices(first)]
-
-
-def build_reactions(case: Case, system):
-    """The reaction list a case asks for, as :class:`~auditor.stoichiometry.Reaction` records."""
-    from .stoichiometry import derived_basis, from_mechanism, parse_equation
-    if case.reactions == "complete":
-        return derived_basis(system)
-    if case.reactions == "from-mechanism":
-        return from_mechanism(system)
-    problems, out = [], []
-    for eq, kp in case.reactions:
-        try:
-            out.append(parse_equation(eq, system, str(case.path), kp, case.line(kp)))
-        except InputError as exc:
-            problems.extend(exc.problems)
-    if problems:
-        raise CaseError(problems)
-    return tuple(out)

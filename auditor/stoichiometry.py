@@ -20,7 +20,8 @@ from typing import Mapping, Sequence
 
 from . import exact
 from .cache import by_identity
-from .errors import EquationError, Problem
+from .case import Case
+from .errors import CaseError, EquationError, InputError, Problem
 from .system import ChemicalSystem, unknown_name_message
 
 Stoich = tuple[tuple[int, int | Fraction], ...]  # exact; int whenever the value is whole
@@ -353,4 +354,21 @@ def basis_within(reactions: Sequence[Reaction], n_species: int, present: Sequenc
     for row in exact.eliminate_columns(ech.basis_rows(), absent):
         if chosen.add(row) is None:
             out.append(exact.primitive(row))
+    return tuple(out)
+
+
+def build_reactions(case: Case, system: ChemicalSystem) -> tuple[Reaction, ...]:
+    """The reaction list a case asks for, as :class:`~auditor.stoichiometry.Reaction` records."""
+    if case.reactions == "complete":
+        return derived_basis(system)
+    if case.reactions == "from-mechanism":
+        return from_mechanism(system)
+    problems, out = [], []
+    for eq, kp in case.reactions:
+        try:
+            out.append(parse_equation(eq, system, str(case.path), kp, case.line(kp)))
+        except InputError as exc:
+            problems.extend(exc.problems)
+    if problems:
+        raise CaseError(problems)
     return tuple(out)

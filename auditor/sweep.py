@@ -284,7 +284,7 @@ class PointResult:
 
 @functools.lru_cache(maxsize=8)
 def _prepared(case_path: str, vary: tuple[str, ...]):
-    """Counting stages of a case, done once per worker process."""
+    """Counting stages of a case and its equilibrium workspace, made once per worker process."""
     from .audit import counting_stages
     case = load_case(case_path)
     # the varied variables count as specified, whatever the case file says
@@ -293,12 +293,14 @@ def _prepared(case_path: str, vary: tuple[str, ...]):
                    pressure_Pa=spec.pressure_Pa if spec.pressure_Pa or "pressure" not in vary else 1e5)
     case = replace(case, specified=spec)
     system, reactions, analysis, count, structure = counting_stages(case)
-    return case, system, reactions, analysis, count, structure
+    from .equilibrium import Workspace
+    # one workspace per case and worker: every point of the sweep shares its cantera objects
+    return case, system, reactions, analysis, count, structure, Workspace(system, analysis)
 
 
 def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> PointResult:
     from .equilibrium import certificate_holds, confirm
-    case, system, reactions, analysis, count, structure = _prepared(case_path, vary)
+    case, system, reactions, analysis, count, structure, workspace = _prepared(case_path, vary)
     spec = replace(case.specified, temperature_K=point.temperature_K, pressure_Pa=point.pressure_Pa)
     here = replace(case, specified=spec)
     where = (point.index, point.temperature_K, point.pressure_Pa)
@@ -310,7 +312,7 @@ def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> Point
             here = replace(here, feed=point.feed)
             count = count_phase_rule(here, system, reactions, analysis)
             structure = audit_specification(here, system, count)
-        eq = confirm(here, system, analysis, count, structure)
+        eq = confirm(here, system, analysis, count, structure, workspace)
     except Exception as exc:  # a point that fails is recorded, never fatal
         return PointResult(*where, "failed", (), (), (), f"{type(exc).__name__}: {exc}", point.coordinates)
     if not eq.solved:

@@ -12,7 +12,8 @@ import pytest
 
 PACKAGE = Path(__file__).resolve().parent.parent / "auditor"
 PRESENTATION = {"cli", "report", "__main__"}
-COMPUTATION = sorted(p for p in PACKAGE.glob("*.py") if p.stem not in PRESENTATION)
+COMPUTATION = sorted([*(p for p in PACKAGE.glob("*.py") if p.stem not in PRESENTATION),
+                      *PACKAGE.glob("equilibrium/*.py")])
 
 
 def imports_of(path: Path) -> set[str]:
@@ -27,13 +28,13 @@ def imports_of(path: Path) -> set[str]:
     return out
 
 
-@pytest.mark.parametrize("path", COMPUTATION, ids=lambda p: p.stem)
+@pytest.mark.parametrize("path", COMPUTATION, ids=lambda p: str(p.relative_to(PACKAGE)))
 def test_computation_modules_do_not_import_presentation(path):
     bad = {m for m in imports_of(path) if m.lstrip(".").split(".")[0] in ("report", "cli", "matplotlib", "argparse")}
     assert not bad, f"{path.name} imports {bad}"
 
 
-@pytest.mark.parametrize("path", COMPUTATION, ids=lambda p: p.stem)
+@pytest.mark.parametrize("path", COMPUTATION, ids=lambda p: str(p.relative_to(PACKAGE)))
 def test_computation_modules_never_print(path):
     tree = ast.parse(path.read_text(encoding="utf-8"))
     calls = [n.lineno for n in ast.walk(tree)
@@ -53,9 +54,45 @@ def test_only_exact_does_rank_decisions_with_sympy_or_flint():
         assert not mods & {"sympy", "flint"} or path.name == "exact.py", path.name
 
 
-def test_stages_do_not_import_the_stages_after_them():
-    order = ["system", "stoichiometry", "phase_rule", "structure", "equilibrium", "audit"]
-    for i, stage in enumerate(order):
-        later = set(order[i + 1:])
-        mods = {m.lstrip(".").split(".")[0] for m in imports_of(PACKAGE / f"{stage}.py")}
-        assert not mods & later, f"{stage} imports a later stage: {mods & later}"
+# Import direction (DEVELOPERS.md): cli -> report -> audit -> {stoichiometry, phase_rule,
+# structure, equilibrium} -> {system, exact}; case -> system, units.  A room may import only
+# rooms of a lower rank; the support modules may be imported from anywhere.
+SUPPORT = {"errors", "settings", "findings", "exact", "units", "dm", "cache", "common_names", "__version__"}
+RANK = {"system": 1, "case": 2, "stoichiometry": 3, "phase_rule": 4, "structure": 5, "equilibrium": 6,
+        "hindered": 7, "audit": 8, "sweep": 9, "executors": 9, "report": 10, "cli": 11, "__main__": 12}
+
+
+def internal_imports(path: Path) -> set[str]:
+    """The rooms of the package (top-level module or subpackage) that ``path`` imports,
+    its own room left out."""
+    rel = path.relative_to(PACKAGE)
+    own = rel.parts[0].removesuffix(".py")
+    depth = len(rel.parts) - 1              # 1 inside a subpackage
+    out = set()
+    for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+        if isinstance(node, ast.ImportFrom):
+            if node.level == 0:
+                parts = (node.module or "").split(".")
+                names = [parts[1]] if parts[0] == "auditor" and len(parts) > 1 else []
+            elif node.level <= depth:
+                continue                    # inside its own subpackage
+            else:
+                names = [node.module.split(".")[0]] if node.module else [a.name for a in node.names]
+            out.update(names)
+        elif isinstance(node, ast.Import):
+            out.update(a.name.split(".")[1] for a in node.names if a.name.startswith("auditor."))
+    return out - {own}
+
+
+@pytest.mark.parametrize("path", sorted(PACKAGE.rglob("*.py")), ids=lambda p: str(p.relative_to(PACKAGE)))
+def test_imports_point_one_way(path):
+    own = path.relative_to(PACKAGE).parts[0].removesuffix(".py")
+    if own in SUPPORT or own == "__init__":
+        return
+    bad = {m for m in internal_imports(path) if m not in SUPPORT and RANK.get(m, 99) >= RANK[own]}
+    assert not bad, f"{path.relative_to(PACKAGE)} imports {bad}, which come later in the pipeline"
+
+
+def test_every_room_has_a_rank():
+    rooms = {p.relative_to(PACKAGE).parts[0].removesuffix(".py") for p in PACKAGE.rglob("*.py")}
+    assert rooms - SUPPORT - {"__init__"} <= set(RANK), rooms - SUPPORT - set(RANK)

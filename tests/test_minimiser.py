@@ -1,4 +1,4 @@
-"""Tests for auditor.minimiser (independent Gibbs-energy minimiser).
+"""Tests for auditor.equilibrium.minimiser (independent Gibbs-energy minimiser).
 
 Reference for every cross-check: the cantera library (3.2), multiphase
 equilibrium by its VCS solver, ``ct.Mixture(...).equilibrate('TP',
@@ -39,7 +39,7 @@ import pytest
 
 ct = pytest.importorskip("cantera")
 
-from auditor.minimiser import MinimiserResult, minimise_gibbs  # noqa: E402
+from auditor.equilibrium.minimiser import MinimiserInputs, MinimiserResult, minimise_gibbs  # noqa: E402
 
 # Densities of the condensed species, kg/m3 (CRC Handbook of Chemistry and
 # Physics, room-temperature values, from memory; H2O(L) at 100 degC).
@@ -206,7 +206,7 @@ def _problem(case: Case, condensed):
 def solved(name: str) -> Solved:
     case = next(c for c in CASES if c.name == name)
     mix, phases, A, g, phase_of, solution, b = _problem(case, case.condensed)
-    mine = minimise_gibbs(A, g, phase_of, solution, b)
+    mine = minimise_gibbs(MinimiserInputs.from_arrays(A, g, phase_of, solution, b))
     names = ["gas"] + [n for n, _ in case.condensed]
     # Reference run (without phases vcs cannot take: they are forced absent).
     kept = [(n, a) for n, a in case.condensed if n not in case.not_in_reference]
@@ -352,7 +352,7 @@ def test_forced_zero_by_face_of_polytope():
     give n_CO2 = n_O2 = 0 (no zero-abundance row: found by the LP presolve)."""
     A = np.array([[1.0, 1.0, 0.0], [1.0, 2.0, 2.0]])
     g = np.array([-30.0, -50.0, 0.0])
-    r = minimise_gibbs(A, g, [0, 0, 0], [True], [1.0, 1.0])
+    r = minimise_gibbs(MinimiserInputs.from_arrays(A, g, [0, 0, 0], [True], [1.0, 1.0]))
     assert r.converged, r.message
     assert np.array_equal(r.moles, [1.0, 0.0, 0.0])
     check_invariants(A, g, np.zeros(3, int), np.array([True]), np.array([1.0, 1.0]), r)
@@ -363,7 +363,7 @@ def test_huge_potentials():
     CO2 + C has dG/RT = +1e4, so C:O = 1:1.5 gives CO = CO2 = 0.5, no graphite)."""
     A = np.array([[1.0, 1.0, 0.0, 1.0], [1.0, 2.0, 2.0, 0.0]])
     g = np.array([-3e4, -5e4, 1e4, 0.0])
-    r = minimise_gibbs(A, g, [0, 0, 0, 1], [True, False], [1.0, 1.5])
+    r = minimise_gibbs(MinimiserInputs.from_arrays(A, g, [0, 0, 0, 1], [True, False], [1.0, 1.5]))
     assert r.converged, r.message
     assert np.allclose(r.moles, [0.5, 0.5, 0.0, 0.0], rtol=0, atol=1e-12)
     assert list(r.present) == [True, False]
@@ -374,7 +374,7 @@ def test_two_species_ideal_gas_closed_form():
     """A <=> B isomers in one ideal phase: x_B/x_A = exp(g_A - g_B) (closed form)."""
     A = np.array([[1.0, 1.0]])
     g = np.array([0.0, -2.0])
-    r = minimise_gibbs(A, g, [0, 0], [True], [3.0])
+    r = minimise_gibbs(MinimiserInputs.from_arrays(A, g, [0, 0], [True], [3.0]))
     assert r.converged
     xb = 1.0 / (1.0 + np.exp(-2.0))
     assert np.allclose(r.moles, [3.0 * (1 - xb), 3.0 * xb], rtol=1e-13, atol=0)
@@ -386,12 +386,12 @@ def test_dependent_rows_and_scaling():
     A = np.array([[1.0, 1.0, 0.0, 1.0], [1.0, 2.0, 2.0, 0.0]])
     g = np.array([-30.0, -80.0, 0.0, 0.0])
     phase_of, sol, b = np.array([0, 0, 0, 1]), np.array([True, False]), np.array([1.0, 1.5])
-    base = minimise_gibbs(A, g, phase_of, sol, b)
+    base = minimise_gibbs(MinimiserInputs.from_arrays(A, g, phase_of, sol, b))
     assert base.converged
     A3 = np.vstack([A, A[0] + 2 * A[1], A[1]])
     b3 = np.concatenate([b, [b[0] + 2 * b[1], b[1]]])
     for s in (1e-20, 1.0, 1e20):
-        r = minimise_gibbs(A3, g, phase_of, sol, s * b3)
+        r = minimise_gibbs(MinimiserInputs.from_arrays(A3, g, phase_of, sol, s * b3))
         assert r.converged, r.message
         assert np.allclose(r.moles / s, base.moles, rtol=1e-10, atol=1e-14)
         check_invariants(A3, g, phase_of, sol, s * b3, r)
@@ -399,19 +399,19 @@ def test_dependent_rows_and_scaling():
 
 def test_infeasible_and_empty_do_not_raise():
     A = np.array([[1.0, 1.0], [0.0, 1.0]])
-    r = minimise_gibbs(A, [0.0, 0.0], [0, 0], [True], [1.0, 2.0])  # needs n_0 = -1
+    r = minimise_gibbs(MinimiserInputs.from_arrays(A, [0.0, 0.0], [0, 0], [True], [1.0, 2.0]))  # needs n_0 = -1
     assert not r.converged and "infeasible" in r.message
-    r = minimise_gibbs(A, [0.0, 0.0], [0, 0], [True], [0.0, 0.0])
+    r = minimise_gibbs(MinimiserInputs.from_arrays(A, [0.0, 0.0], [0, 0], [True], [0.0, 0.0]))
     assert r.converged and np.all(r.moles == 0) and not r.present.any()
 
 
 def test_bad_input_raises():
     with pytest.raises(ValueError):
-        minimise_gibbs(np.ones((1, 2)), [0.0], [0, 0], [True], [1.0])
+        minimise_gibbs(MinimiserInputs.from_arrays(np.ones((1, 2)), [0.0], [0, 0], [True], [1.0]))
     with pytest.raises(ValueError):  # pure phase holding two species
-        minimise_gibbs(np.ones((1, 2)), [0.0, 1.0], [0, 0], [False], [1.0])
+        minimise_gibbs(MinimiserInputs.from_arrays(np.ones((1, 2)), [0.0, 1.0], [0, 0], [False], [1.0]))
     with pytest.raises(ValueError):
-        minimise_gibbs(np.ones((1, 2)), [0.0, np.nan], [0, 0], [True], [1.0])
+        minimise_gibbs(MinimiserInputs.from_arrays(np.ones((1, 2)), [0.0, np.nan], [0, 0], [True], [1.0]))
 
 
 def _random_problem(seed):
@@ -439,6 +439,6 @@ def _random_problem(seed):
 @pytest.mark.parametrize("seed", range(60))
 def test_invariants_on_random_problems(seed):
     A, g, phase_of, solution, b = _random_problem(seed)
-    r = minimise_gibbs(A, g, phase_of, solution, b)
+    r = minimise_gibbs(MinimiserInputs.from_arrays(A, g, phase_of, solution, b))
     assert r.converged, r.message
     check_invariants(A, g, phase_of, solution, b, r)

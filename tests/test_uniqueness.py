@@ -9,6 +9,7 @@ conserved-quantity vectors are independent.
 """
 from __future__ import annotations
 
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -16,9 +17,9 @@ import pytest
 
 from auditor import case as case_mod
 from auditor import equilibrium as eqm
+from auditor.equilibrium import routes, uniqueness, workspace
 from auditor import settings
 from auditor.audit import audit_file, counting_stages
-from auditor.cache import remember
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -56,10 +57,10 @@ specified: {{temperature: 1100 K, pressure: 1 atm}}
 
 def _static_and_solver(path):
     case, system, analysis, count, spec = stages(path)
-    static = eqm._static_for(system, analysis)
-    model = eqm._model_cached(system)
-    n0 = eqm._feed_vector(case, system)
-    solver = eqm._Solver(model, system, analysis, n0, np.ones(system.n_species, dtype=bool))
+    ws = workspace.Workspace(system, analysis)
+    static = ws.arrays
+    n0 = workspace.feed_vector(case, system)
+    solver = routes.RouteSolver(ws, n0, np.ones(system.n_species, dtype=bool))
     return system, static, solver
 
 
@@ -71,10 +72,10 @@ def test_calcite_lime_and_pure_co2_amounts_are_indeterminate(tmp_path):
     system, static, solver = _static_and_solver(path)
     n = amounts(system, **{"CO2": 0.7, "CaCO3(caL)": 0.4, "CaO(s)": 0.6})
     present = np.array([True, True, True])
-    assert eqm._phase_amount_rcond(static, n, present) < 1e-14
+    assert uniqueness.phase_amount_rcond(static, n, present) < 1e-14
     totals = n @ static.membership
-    sol = eqm._Solution(n, 1100.0, 101325.0, "cantera vcs", True)
-    unique, starts, how, rcond = eqm._uniqueness(static, solver, sol, n, totals, present, {})
+    sol = routes.SolvedState(n, 1100.0, 101325.0, "cantera vcs", True)
+    unique, starts, how, rcond = uniqueness.uniqueness(static, solver, sol, n, totals, present, {})
     assert unique is False and starts == 1 and "indeterminate" in how
 
 
@@ -84,18 +85,18 @@ def test_a_diluent_in_the_gas_fixes_the_phase_amounts(tmp_path):
     path = write(tmp_path, CALCINER.format(gas="CO2, N2", diluent="N2: 1"))
     system, static, _ = _static_and_solver(path)
     n = amounts(system, **{"CO2": 0.3, "N2": 1.0, "CaCO3(caL)": 0.4, "CaO(s)": 0.6})
-    assert eqm._phase_amount_rcond(static, n, np.array([True, True, True])) > 1e-3
+    assert uniqueness.phase_amount_rcond(static, n, np.array([True, True, True])) > 1e-3
     # two phases, or one, are always determined by independent vectors
-    assert eqm._phase_amount_rcond(static, n, np.array([True, True, False])) > 1e-3
-    assert eqm._phase_amount_rcond(static, n, np.array([True, False, False])) == 1.0
+    assert uniqueness.phase_amount_rcond(static, n, np.array([True, True, False])) > 1e-3
+    assert uniqueness.phase_amount_rcond(static, n, np.array([True, False, False])) == 1.0
 
 
 def test_more_present_phases_than_conserved_quantities_is_indeterminate(tmp_path):
     path = write(tmp_path, CALCINER.format(gas="CO2", diluent="CO2: 0.5"))
     system, static, _ = _static_and_solver(path)
     n = amounts(system, **{"CO2": 0.7, "CaCO3(caL)": 0.4, "CaO(s)": 0.6})
-    wide = eqm._Static(**{**static.__dict__, "W": static.W[:2]})      # two conserved rows only
-    assert eqm._phase_amount_rcond(wide, n, np.array([True, True, True])) == 0.0
+    wide = replace(static, W=static.W[:2])      # two conserved rows only
+    assert uniqueness.phase_amount_rcond(wide, n, np.array([True, True, True])) == 0.0
 
 
 SOLVING_DEMOS = ["reformer_design_point.yaml", "reformer_carbon_risk.yaml", "ammonia_converter_ratio.yaml",
@@ -111,17 +112,17 @@ def restarts_agree_where_proved(path: Path) -> bool:
     if not eq.solved or not eq.unique_basis.startswith("proved"):
         return False
     assert eq.unique is True and eq.phase_amount_rcond >= settings.PHASE_AMOUNT_RCOND_TOLERANCE
-    model = eqm._model_cached(system)
-    n0 = eqm._feed_vector(case, system)
-    rows = eqm._static_for(system, analysis).element_rows
+    ws = workspace.Workspace(system, analysis)
+    n0 = workspace.feed_vector(case, system)
+    rows = ws.arrays.element_rows
     candidate = ~(rows[rows @ n0 == 0] != 0).any(axis=0)
-    solver = eqm._Solver(model, system, analysis, n0, candidate)
-    static = solver.static
+    solver = routes.RouteSolver(ws, n0, candidate)
+    static = solver.arrays
     n = np.zeros(system.n_species)
     n[np.concatenate(static.phase_species)] = [x * p.moles for p in eq.phases for _, x in p.mole_fractions]
     totals = n @ static.membership
-    sol = eqm._Solution(n, eq.temperature_K, eq.pressure_Pa, "cantera vcs", True)
-    unique, starts, how, _ = eqm._uniqueness(static, solver, sol, n, totals, totals > 0, {"x": 0.0})
+    sol = routes.SolvedState(n, eq.temperature_K, eq.pressure_Pa, "cantera vcs", True)
+    unique, starts, how, _ = uniqueness.uniqueness(static, solver, sol, n, totals, totals > 0, {"x": 0.0})
     assert unique is True and starts == eqm.RESTARTS + 1 and how == f"{starts} starting estimates agree"
     return True
 
@@ -184,7 +185,7 @@ def test_two_phase_closed_form_matches_the_svd(seed, tmp_path_factory):
     membership[[3, 4], 1] = 1.0
     n = np.array([1.0, 0.0, 0.0, 1.0, 0.0]) if seed % 4 == 0 else rng.uniform(0.1, 1.0, 5)
     fake = type("S", (), {"W": W, "membership": membership})
-    got = eqm._phase_amount_rcond(fake, n, np.array([True, True]))
+    got = uniqueness.phase_amount_rcond(fake, n, np.array([True, True]))
     cols = (W * n) @ membership
     s = np.linalg.svd(cols / np.linalg.norm(cols, axis=0), compute_uv=False)
     assert got == pytest.approx(s[-1] / s[0], rel=1e-6)
@@ -212,6 +213,6 @@ def test_non_ideal_phase_is_decided_by_restarts(tmp_path):
 
 def test_per_case_caches_are_bounded():
     cache = {}
-    for i in range(eqm.PER_CASE_CACHE + 10):
-        remember(cache, i, i, eqm.PER_CASE_CACHE)
-    assert len(cache) == eqm.PER_CASE_CACHE and min(cache) == 10
+    for i in range(workspace.TABLE_ENTRIES + 10):
+        workspace._store(cache, i, i)
+    assert len(cache) == workspace.TABLE_ENTRIES and min(cache) == 10

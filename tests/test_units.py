@@ -10,7 +10,7 @@ import pytest
 
 from auditor import units
 from auditor.case import CaseError, build_system, check_names, feed_moles, load_case, parse_quantity
-from auditor.equilibrium import _feed_vector
+from auditor.equilibrium.workspace import feed_vector
 
 SYS = """\
 system:
@@ -94,7 +94,7 @@ def test_mass_feed_converted_with_cantera_molar_mass(tmp_path):
     assert moles_found["CH4"] == Fraction(10_000) / Fraction(repr(m_ch4))     # exact: kg -> g over g/mol
     assert float(moles_found["H2O"]) == pytest.approx(1000.0, rel=1e-4)
     assert moles_found["N2"] == 2000
-    n0_found = _feed_vector(case, system)
+    n0_found = feed_vector(case, system)
     assert n0_found[system.find("CH4")[0]] == pytest.approx(623.3, rel=1e-3)   # 10000 / 16.04
 
 

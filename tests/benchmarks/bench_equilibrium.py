@@ -34,6 +34,7 @@ import numpy as np  # noqa: E402
 
 from auditor import case as case_mod  # noqa: E402
 from auditor import equilibrium as eqm  # noqa: E402
+from auditor.equilibrium import certificate, jacobian, routes, uniqueness, workspace  # noqa: E402
 from auditor.audit import counting_stages  # noqa: E402
 
 REPEATS = 20
@@ -65,6 +66,10 @@ def once(fn) -> float:
     return time.perf_counter() - t0
 
 
+# the certificate's parts timed, as (module where it is looked up, function name)
+PARTS = ((certificate, "absent_driving_forces"), (jacobian, "jacobian_rcond"), (uniqueness, "phase_amount_rcond"))
+
+
 class Instrument:
     """Wraps the solver and the certificate's parts to time them inside confirm."""
 
@@ -74,7 +79,7 @@ class Instrument:
         self._orig = {}
 
     def __enter__(self):
-        orig_solve = eqm._Solver.solve
+        orig_solve = routes.RouteSolver.solve
         self._orig["solve"] = orig_solve
         me = self
 
@@ -84,10 +89,10 @@ class Instrument:
                 return orig_solve(self_, *a, **k)
             finally:
                 me.solve_times.append(time.perf_counter() - t0)
-        eqm._Solver.solve = solve
-        for name in ("_absent_driving_forces", "_jacobian_rcond", "_phase_amount_rcond"):
-            f = getattr(eqm, name)
-            self._orig[name] = f
+        routes.RouteSolver.solve = solve
+        for module, name in PARTS:
+            f = getattr(module, name)
+            self._orig[module, name] = f
 
             def wrapped(*a, _f=f, _n=name, **k):
                 t0 = time.perf_counter()
@@ -95,22 +100,23 @@ class Instrument:
                     return _f(*a, **k)
                 finally:
                     me.parts[_n] = me.parts.get(_n, 0.0) + time.perf_counter() - t0
-            setattr(eqm, name, wrapped)
+            setattr(module, name, wrapped)
         return self
 
     def __exit__(self, *exc):
-        eqm._Solver.solve = self._orig.pop("solve")
-        for name, f in self._orig.items():
-            setattr(eqm, name, f)
+        routes.RouteSolver.solve = self._orig.pop("solve")
+        for (module, name), f in self._orig.items():
+            setattr(module, name, f)
 
 
 def measure(label: str, path: Path) -> dict:
     case, system, analysis, count, spec = stages(path)
-    first = eqm.confirm(case, system, analysis, count, spec)          # warm-up: builds the cached model
+    # one workspace for every call, as a sweep's worker keeps one per case
+    ws = workspace.Workspace(system, analysis)
+    first = eqm.confirm(case, system, analysis, count, spec, ws)      # warm-up: builds the cantera objects
     assert first.solved, [f.message for f in first.findings]
-    model = eqm._model_cached(system)
-    solver = eqm._Solver(model, system, analysis, eqm._feed_vector(case, system),
-                         np.ones(system.n_species, dtype=bool))
+    model = ws.model
+    solver = routes.RouteSolver(ws, workspace.feed_vector(case, system), np.ones(system.n_species, dtype=bool))
     T, P = case.specified.temperature_K, case.specified.pressure_Pa
 
     # the bare solve: the tool's own cantera phases and start, nothing but Mixture.equilibrate
@@ -135,11 +141,11 @@ def measure(label: str, path: Path) -> dict:
     best_main, best_rest, best_parts, calls = float("inf"), float("inf"), {}, 0
     for _ in range(REPEATS):
         t_bare = min(t_bare, once(bare))
-        t_confirm = min(t_confirm, once(lambda: eqm.confirm(case, system, analysis, count, spec)))
+        t_confirm = min(t_confirm, once(lambda: eqm.confirm(case, system, analysis, count, spec, ws)))
         # instrumented: the main solve and the rest
         with Instrument() as ins:
             t0 = time.perf_counter()
-            eqm.confirm(case, system, analysis, count, spec)
+            eqm.confirm(case, system, analysis, count, spec, ws)
             total = time.perf_counter() - t0
         main = ins.solve_times[0]
         if total - main < best_rest:

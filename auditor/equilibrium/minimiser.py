@@ -398,34 +398,59 @@ def _absent_shift(A, g, zero, lam0, Nperp, size_of_species):
 # ----------------------------------------------------------------------------- main
 
 
-def minimise_gibbs(A, g, phase_of, solution, b, *, tol=1e-12, max_iter=500) -> MinimiserResult:
-    """Minimise G/RT = sum_k n_k (g_k + ln x_k [solution phases]) s.t. A n = b, n >= 0.
+@dataclass(frozen=True)
+class MinimiserInputs:
+    """One minimisation problem, validated.
 
     A: (E, N) formula matrix (rows may be dependent or have zero abundance);
     g: (N,) mu°_k/RT at the state including the pressure term;
     phase_of: (N,) phase index of each species; solution: (P,) True for ideal
     mixing, False for a pure single-species phase; b: (E,) abundances, mol.
+    Build with ``from_arrays`` (or by keyword from arrays already of these shapes).
+    """
+
+    A: np.ndarray
+    g: np.ndarray
+    phase_of: np.ndarray
+    solution: np.ndarray
+    b: np.ndarray
+
+    @classmethod
+    def from_arrays(cls, A, g, phase_of, solution, b) -> "MinimiserInputs":
+        """Convert and check shapes, finiteness and phase indices (ValueError otherwise)."""
+        A = np.atleast_2d(np.asarray(A, dtype=float))
+        g = np.asarray(g, dtype=float).ravel()
+        phase_of = np.asarray(phase_of).ravel()
+        solution = np.asarray(solution, dtype=bool).ravel()
+        b = np.asarray(b, dtype=float).ravel()
+        E, N = A.shape
+        P = solution.size
+        if g.size != N or phase_of.size != N or b.size != E:
+            raise ValueError(f"shape mismatch: A {A.shape}, g {g.shape}, phase_of {phase_of.shape}, b {b.shape}")
+        if not (np.all(np.isfinite(A)) and np.all(np.isfinite(g)) and np.all(np.isfinite(b))):
+            raise ValueError("A, g and b must be finite")
+        if N and (phase_of.min() < 0 or phase_of.max() >= P or not np.all(phase_of == np.round(phase_of))):
+            raise ValueError("phase_of must hold integer phase indices in [0, P)")
+        phase_of = phase_of.astype(int)
+        counts = np.bincount(phase_of, minlength=P)
+        for p in range(P):
+            if not solution[p] and counts[p] > 1:
+                raise ValueError(f"phase {p} is pure (solution=False) but holds {counts[p]} species")
+        return cls(A=A, g=g, phase_of=phase_of, solution=solution, b=b)
+
+
+def minimise_gibbs(problem: MinimiserInputs, *, tol=1e-12, max_iter=500) -> MinimiserResult:
+    """Minimise G/RT = sum_k n_k (g_k + ln x_k [solution phases]) s.t. A n = b, n >= 0.
+
     tol: Newton tolerance on the scaled KKT residual; max_iter: Newton iterations
     budget (barrier and polish separately).
     """
-    A = np.atleast_2d(np.asarray(A, dtype=float))
-    g = np.asarray(g, dtype=float).ravel()
-    phase_of = np.asarray(phase_of).ravel()
-    solution = np.asarray(solution, dtype=bool).ravel()
-    b = np.asarray(b, dtype=float).ravel()
+    # one function with its stages as closures over the scaled problem: a reason to exceed
+    # 80 lines (presolve, barrier, polish share a dozen arrays; see the module docstring)
+    A, g, phase_of, solution, b = problem.A, problem.g, problem.phase_of, problem.solution, problem.b
     E, N = A.shape
     P = solution.size
-    if g.size != N or phase_of.size != N or b.size != E:
-        raise ValueError(f"shape mismatch: A {A.shape}, g {g.shape}, phase_of {phase_of.shape}, b {b.shape}")
-    if not (np.all(np.isfinite(A)) and np.all(np.isfinite(g)) and np.all(np.isfinite(b))):
-        raise ValueError("A, g and b must be finite")
-    if N and (phase_of.min() < 0 or phase_of.max() >= P or not np.all(phase_of == np.round(phase_of))):
-        raise ValueError("phase_of must hold integer phase indices in [0, P)")
-    phase_of = phase_of.astype(int)
     counts = np.bincount(phase_of, minlength=P)
-    for p in range(P):
-        if not solution[p] and counts[p] > 1:
-            raise ValueError(f"phase {p} is pure (solution=False) but holds {counts[p]} species")
 
     def result(n, lam, converged, iters, msg):
         pm = np.bincount(phase_of, weights=n, minlength=P) if N else np.zeros(P)

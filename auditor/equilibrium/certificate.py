@@ -1,0 +1,243 @@
+"""A certificate of optimality for a solved state.
+
+The answer is not trusted: a certificate is checked instead.
+* balance: ``|W n - W n0| / |W n0|`` for every conserved quantity;
+* element potentials ``lambda`` fitted to ``mu_k / RT = A_k . lambda`` over present
+  species, and the largest residual;
+* the largest affinity, in RT, of any independent reaction among present species;
+* the driving force to form each absent phase, maximised over the element potentials
+  that the present species leave undetermined (rank-deficient present formula matrix,
+  elements of zero abundance), so that non-uniqueness raises no false alarm;
+* uniqueness (``unique``): proved for ideal phases from convexity, the absent phases'
+  driving forces and the rank of the present phases' conserved-quantity vectors, and
+  checked by restarting cantera from other starting estimates (``uniqueness``);
+* present phases against those assumed; temperature inside each present species' data;
+* ``ln K`` of every dependent reaction equal to the combination of the independent ones;
+* for structurally square cases, the Jacobian of the specification audit's equations
+  at the solution has full numerical rank (:mod:`.jacobian`).
+"""
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass
+
+import numpy as np
+
+from .. import settings
+from ..case import Case
+from ..findings import Finding
+from ..phase_rule import PhaseRuleCount
+from ..structure import SpecificationAudit
+from . import jacobian
+from .result import EquilibriumCheck, PhaseState
+from .routes import RouteSolver, SolvedState, SolveError
+from .uniqueness import max_abs, mole_fractions, uniqueness
+from .workspace import CaseArrays
+
+
+def absent_driving_forces(arrays: CaseArrays, groups: dict, never: dict, model_g: np.ndarray, lam: np.ndarray,
+                          free: np.ndarray) -> dict:
+    """Minimum over absent phases of the driving force to form them, maximised over the free
+    element-potential directions (a valid certificate needs only one such lambda).
+    ``groups``: absent phase -> its species that can form; ``never``: phases that cannot."""
+    if not groups:
+        return dict(never)
+    A, solution = arrays.W, arrays.solution
+
+    def forces(z):
+        lz = lam + (free @ z if free.shape[1] else 0.0)
+        d = model_g - A.T @ lz
+        out = {}
+        for p, idx in groups.items():
+            if solution[p]:
+                m = np.min(d[idx])
+                out[p] = float(m - math.log(np.sum(np.exp(-(d[idx] - m)))))
+            else:
+                out[p] = float(d[idx][0])
+        return out
+
+    base = forces(np.zeros(free.shape[1]))
+    if free.shape[1] == 0 or not base or min(base.values()) >= 0:
+        return {**base, **never}
+    # maximise the worst driving force over the free directions (concave: a smooth solve suffices)
+    from scipy.optimize import minimize
+    k = free.shape[1]
+    best = None
+    for z0 in (np.zeros(k), np.ones(k), -np.ones(k)):
+        res = minimize(lambda z: -min(forces(z).values()), z0, method="Nelder-Mead",
+                       options={"xatol": 1e-10, "fatol": 1e-12, "maxiter": 4000})
+        if best is None or res.fun < best.fun:
+            best = res
+        if -best.fun > 1e3:
+            break
+    better = forces(best.x)
+    return {**(better if min(better.values()) > min(base.values()) else base), **never}
+
+
+@dataclass(frozen=True)
+class Measured:
+    """The certificate's numbers at one solved state."""
+
+    n: np.ndarray                  # amounts, negatives clipped
+    totals: np.ndarray             # per phase
+    phase_present: np.ndarray
+    present_names: tuple[str, ...]
+    mole_fractions: np.ndarray
+    balance_error: float
+    potentials: np.ndarray         # element potentials, RT
+    potential_residual: float
+    max_affinity: float
+    drive: tuple[tuple[str, float], ...]   # absent phase -> driving force, RT
+    unique: bool
+    starts: int
+    unique_basis: str
+    amount_rcond: float | None
+    lnk_error: float | None
+    jacobian_rcond: float | None
+
+
+def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver: RouteSolver, sol: SolvedState,
+            findings: list[Finding]) -> Measured:
+    """Every number of the certificate at the solved state (a Jacobian that cannot be
+    evaluated adds a warning to ``findings``)."""
+    ws, a = solver.workspace, solver.arrays
+    system = ws.system
+    n = np.maximum(sol.n, 0.0)
+    # a finite sum proves every amount finite (one reduction instead of a mask); otherwise look
+    if not math.isfinite(float(n.sum())) and not np.isfinite(sol.n).all():
+        raise SolveError("the minimisation returned amounts that are not finite numbers")
+    totals = n @ a.membership
+    phase_present = totals > settings.PHASE_PRESENCE_FRACTION * max(float(totals.sum()), 1e-300)
+    present_names = tuple(p.name for p, pr in zip(system.phases, phase_present.tolist()) if pr)
+    x_all = mole_fractions(n, a.phase_of, totals)
+
+    # balance of every conserved quantity (elements, charge, extra frozen quantities)
+    b = a.W @ solver.n0
+    bal = max_abs(a.W @ n - b) / max(max_abs(b), 1e-300) if b.size else 0.0
+
+    # element potentials fitted to the present species, and the affinities of the
+    # independent reactions among them
+    mu, g, g_dlnT, g_dlnP = solver.model.at_state(sol.T, sol.P, n)
+    present = phase_present[a.phase_of] & (n > 0)
+    ps = ws.present_species(present)
+    mu_p = mu[ps.index]
+    lam = ps.pinv @ mu_p
+    resid = max_abs(ps.rows @ lam - mu_p) if mu_p.size else 0.0
+    max_aff = max_abs(ps.basis @ np.where(present, mu, 0.0)) if ps.basis.shape[0] else 0.0
+
+    groups, never = ws.absent_groups(phase_present, solver.candidate)
+    drive = absent_driving_forces(a, groups, never, g, lam, ps.free)
+    unique, starts, unique_basis, amount_rcond = uniqueness(a, solver, sol, n, totals, phase_present, drive, x_all)
+
+    # ln K additivity of dependent reactions
+    lnk_err = None
+    if a.lnk_dependent.size:
+        lnK = -(a.lnk_rows @ g)
+        lnk_err = float(np.max(np.abs(a.lnk_combination @ lnK) / np.maximum(1.0, np.abs(lnK[a.lnk_dependent]))))
+
+    # Jacobian of the specification audit's equations (structurally square cases only)
+    jac = None
+    if spec.decomposition.structurally_nonsingular and not spec.extensive and tuple(count.coexisting) == present_names:
+        try:
+            jac = jacobian.jacobian_rcond(jacobian.layout(ws, case, count, spec), g_dlnT, g_dlnP, n, a.phase_of, totals)
+        except Exception as exc:
+            findings.append(Finding("warning", "equilibrium", f"the Jacobian check could not be evaluated: {exc}"))
+    return Measured(n=n, totals=totals, phase_present=phase_present, present_names=present_names,
+                    mole_fractions=x_all, balance_error=bal, potentials=lam, potential_residual=resid,
+                    max_affinity=max_aff, drive=tuple((system.phases[p].name, d) for p, d in sorted(drive.items())),
+                    unique=unique, starts=starts, unique_basis=unique_basis, amount_rcond=amount_rcond,
+                    lnk_error=lnk_err, jacobian_rcond=jac)
+
+
+def _numerical_findings(m: Measured) -> tuple[bool, list[Finding]]:
+    """Findings on the certificate's numbers; False when one of them fails it."""
+    ok, out = True, []
+    if m.balance_error > settings.ELEMENT_BALANCE_TOLERANCE:
+        ok = False
+        out.append(Finding("error", "equilibrium", f"conserved-quantity balance error {m.balance_error:.2e} exceeds "
+                           f"{settings.ELEMENT_BALANCE_TOLERANCE:g}"))
+    if m.max_affinity > settings.AFFINITY_TOLERANCE_RT:
+        ok = False
+        out.append(Finding("error", "equilibrium", f"a reaction among present species is not at equilibrium: "
+                           f"affinity {m.max_affinity:.2e} RT exceeds {settings.AFFINITY_TOLERANCE_RT:g} RT"))
+    if m.potential_residual > settings.AFFINITY_TOLERANCE_RT * 10:
+        out.append(Finding("warning", "equilibrium", f"element potentials fit the present species only to "
+                           f"{m.potential_residual:.2e} RT"))
+    for name, d in m.drive:
+        if d < -settings.AFFINITY_TOLERANCE_RT:
+            ok = False
+            out.append(Finding("error", "equilibrium", f"absent phase {name} has a negative driving force "
+                               f"({d:.3g} RT): it should form, so the minimisation stopped short", (name,)))
+    if not m.unique:
+        ok = False
+        if m.amount_rcond is not None and m.amount_rcond < settings.PHASE_AMOUNT_RCOND_TOLERANCE:
+            out.append(Finding("error", "equilibrium", f"the amounts of the present phases ({', '.join(m.present_names)}) "
+                               "are not determined: their compositions are linearly dependent in the conserved "
+                               f"quantities (smallest/largest singular value {m.amount_rcond:.2e}), so material can "
+                               "shift between them without changing G; the state is indeterminate at this T and P",
+                               m.present_names))
+        else:
+            out.append(Finding("error", "equilibrium", f"different starting estimates ({m.starts}) reached different "
+                               "states: the answer is not unique or the solver is unreliable here"))
+    if m.lnk_error is not None and m.lnk_error > settings.LNK_ADDITIVITY_TOLERANCE:
+        out.append(Finding("warning", "equilibrium", f"ln K of a dependent reaction differs from the combination "
+                           f"of the independent ones by {m.lnk_error:.2e} (relative)"))
+    if m.jacobian_rcond is not None and m.jacobian_rcond < settings.JACOBIAN_RANK_TOLERANCE:
+        ok = False
+        out.append(Finding("error", "equilibrium", f"the equations are numerically singular at the solution "
+                           f"(smallest/largest singular value {m.jacobian_rcond:.2e})"))
+    return ok, out
+
+
+def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: float) -> tuple[bool, list[Finding]]:
+    """Findings on the phases found against those assumed, and on the data's T range."""
+    ok, out = True, []
+    assumed = tuple(count.coexisting)
+    if set(m.present_names) != set(assumed):
+        ok = False
+        appeared = sorted(set(m.present_names) - set(assumed))
+        vanished = sorted(set(assumed) - set(m.present_names))
+        parts = []
+        if appeared:
+            parts.append(f"phase(s) {', '.join(appeared)} appeared")
+        if vanished:
+            parts.append(f"phase(s) {', '.join(vanished)} vanished")
+        out.append(Finding("error", "equilibrium", f"the minimisation does not land on the assumed phases: "
+                           f"{'; '.join(parts)} (present: {', '.join(m.present_names)})", tuple(appeared + vanished)))
+    a, system = solver.arrays, solver.system
+    present = m.phase_present[a.phase_of] & (m.n > 0)
+    outside = () if a.t_low <= T <= a.t_high else np.flatnonzero(present & ((T < a.t_min) | (T > a.t_max)))
+    for k in outside:
+        sp = system.species[k]
+        out.append(Finding("warning", "data", f"T = {T:.1f} K is outside the thermo data range of "
+                           f"{sp.label} ({sp.t_min:g}-{sp.t_max:g} K): extrapolated", (sp.label,)))
+    for line in solver.log[:5]:
+        out.append(Finding("note", "equilibrium", f"cantera's solver reported: {line} (the certificate "
+                           "above is what decides)"))
+    out.extend(solver.model.density_notes)
+    return ok, out
+
+
+def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver: RouteSolver, sol: SolvedState,
+            findings: list[Finding], t0: float) -> EquilibriumCheck:
+    """The equilibrium check of a solved state: its certificate's numbers and findings.
+    ``findings`` (those gathered before the solve) is extended; ``t0`` is when the stage began."""
+    m = measure(case, count, spec, solver, sol, findings)
+    ok_numbers, more = _numerical_findings(m)
+    ok_phases, phase_notes = _phase_findings(m, count, solver, sol.T)
+    findings += more + phase_notes
+    a = solver.arrays
+    x_list = m.mole_fractions.tolist()                 # zero in an empty phase (mole_fractions)
+    phases = tuple(PhaseState(p.name, tot, tuple(zip(labels, (x_list[k] for k in idx.tolist()))))
+                   for p, idx, labels, tot in zip(solver.system.phases, a.phase_species, a.phase_labels, m.totals.tolist()))
+    return EquilibriumCheck(
+        solved=True, converged=sol.converged, solver=sol.solver, temperature_K=float(sol.T), pressure_Pa=float(sol.P),
+        phases=phases, phases_present=m.present_names, max_affinity_RT=m.max_affinity,
+        element_balance_error=m.balance_error, potential_residual_RT=m.potential_residual,
+        absent_phase_driving_force=m.drive, unique=m.unique, starts=m.starts, lnK_additivity_error=m.lnk_error,
+        jacobian_rcond=m.jacobian_rcond, assumed_densities=tuple(solver.model.assumed), findings=tuple(findings),
+        confirmed=ok_numbers and ok_phases, seconds=time.perf_counter() - t0,
+        element_potentials=tuple(zip(a.potential_names, m.potentials.tolist())),
+        unique_basis=m.unique_basis, phase_amount_rcond=m.amount_rcond,
+        route=sol.route, attempts=solver.attempts + ((sol.route, "certified"),))

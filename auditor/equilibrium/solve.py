@@ -1,0 +1,227 @@
+"""Solving at the specified state.
+
+Temperature and pressure fixed: one T,P minimisation (``RouteSolver.solve``).  Other
+specifications are met by a bracketed scalar solve (``scipy.optimize.brentq``) on T or P
+around the T,P minimisation; where the answer sits on a univariant transition (the
+residual jumps: ice melting, a solid decomposing) the state is solved there directly,
+amounts and T (or P) together (``refine_transition``).
+"""
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import replace
+from typing import Callable
+
+import numpy as np
+
+from .. import settings
+from ..case import Case, Specified
+from ..findings import Finding
+from ..phase_rule import PhaseRuleCount
+from ..structure import SpecificationAudit
+from ..system import ChemicalSystem
+from .certificate import certify
+from .model import one_line
+from .result import EquilibriumCheck, certificate_failure, certificate_holds
+from .routes import RouteSolver, SolvedState, SolveError
+
+Residual = Callable[[SolvedState], float]
+RESIDUAL_TOLERANCE = 1e-6   # an extensive specification met to this (scaled) residual
+
+
+def bracket_solve(f, lo: float, hi: float, log: bool, what: str):
+    """Root of f on [lo, hi] by Brent's method (R. P. Brent, Algorithms for Minimization
+    without Derivatives, 1973), scanning for a sign change first."""
+    from scipy.optimize import brentq
+    grid = np.geomspace(lo, hi, 25) if log else np.linspace(lo, hi, 25)
+    vals = []
+    for x in grid:
+        try:
+            vals.append(f(x))
+        except Exception:
+            vals.append(np.nan)
+    for (a, fa), (b, fb) in zip(zip(grid, vals), zip(grid[1:], vals[1:])):
+        if np.isfinite(fa) and np.isfinite(fb) and fa * fb <= 0:
+            return brentq(f, a, b, xtol=1e-10 * max(abs(a), 1.0), rtol=1e-12, maxiter=200)
+    raise SolveError(f"no {what} in [{lo:g}, {hi:g}] meets the specification (no sign change found)")
+
+
+def other_residuals(s: Specified, system: ChemicalSystem, solver: RouteSolver) -> list[tuple[str, Residual]]:
+    """A residual function of the solved state for each specification other than T and P."""
+    others = []
+    phase_index = {p.name: i for i, p in enumerate(system.phases)}
+    membership = solver.arrays.membership
+
+    def phase_total(n, phase):
+        return float(n @ membership[:, phase_index[phase]])
+
+    for m in s.mole_fractions:
+        k = system.index_in(m.species, m.phase)
+        others.append(("mole fraction", lambda sol, k=k, m=m: sol.n[k] / max(phase_total(sol.n, m.phase), 1e-300) - m.value))
+    for r in s.ratios:
+        a, b = system.index_in(r.numerator, r.phase), system.index_in(r.denominator, r.phase)
+        others.append(("ratio", lambda sol, a=a, b=b, r=r: math.log(max(sol.n[a], 1e-300) / max(sol.n[b], 1e-300)) - math.log(r.value)))
+    for pf in s.phase_fractions:
+        others.append(("phase fraction", lambda sol, pf=pf: phase_total(sol.n, pf.phase) / sol.n.sum() - pf.value))
+    if s.adiabatic_feed_temperature_K is not None:
+        P = s.pressure_Pa
+        H_feed = solver.model.enthalpy(s.adiabatic_feed_temperature_K, P if P else 101325.0, solver.n0)
+        scale = max(abs(H_feed), 1e3 * solver.n0.sum())
+        others.append(("adiabatic", lambda sol: (solver.model.enthalpy(sol.T, sol.P, sol.n) - H_feed) / scale))
+    return others
+
+
+def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
+    """The state at the case's specifications: a T,P minimisation, or an outer solve on the
+    one of T and P that is not fixed."""
+    system = solver.system
+    s = case.specified
+    T, P = s.temperature_K, s.pressure_Pa
+    others = other_residuals(s, system, solver)
+    if T is not None and P is not None:
+        if others:
+            raise SolveError("more than two specifications reached the solver")
+        return solver.solve(T, P)
+    if len(others) != 1 or (T is None and P is None):
+        raise SolveError("this combination of specifications (neither temperature nor pressure fixed, or more than one "
+                         "other) is not handled by the confirmation yet; fix temperature or pressure")
+    what, resid = others[0]
+
+    if T is None:
+        t_lo = max(max(sp.t_min for sp in system.species), 200.0)
+        t_hi = min(min(sp.t_max for sp in system.species), 6000.0)
+        if what == "adiabatic":
+            t_lo = max(t_lo, 250.0)
+        if not t_lo < t_hi:
+            t_lo, t_hi = 250.0, 6000.0
+        x = bracket_solve(lambda v: resid(solver.solve(v, P)), t_lo, t_hi, False, "temperature")
+    else:
+        x = bracket_solve(lambda v: resid(solver.solve(T, v)), 1.0, 1e9, True, "pressure")
+    sol = solver.solve(x, P) if T is None else solver.solve(T, x)
+    if abs(resid(sol)) > RESIDUAL_TOLERANCE:
+        sol = on_transition(solver, resid, x, T, P) or sol
+    if abs(resid(sol)) > RESIDUAL_TOLERANCE:
+        sol.converged = False
+        sol.message = f"the {what} specification is met only to {abs(resid(sol)):.2e}"
+    return sol
+
+
+def on_transition(solver: RouteSolver, resid: Residual, x: float, T: float | None, P: float | None
+                  ) -> SolvedState | None:
+    """The residual jumps across x (a univariant transition: calcite/lime, boiling): every
+    mixture of the states on either side is an equilibrium state at x; return the one that
+    meets the extensive specification."""
+    from scipy.optimize import brentq
+    d = 1e-8 * x
+    at = (lambda v: solver.solve(v, P)) if T is None else (lambda v: solver.solve(T, v))
+    lo, hi = at(x - d), at(x + d)
+    if not (lo.converged and hi.converged):
+        return None
+    Tm, Pm = (x, P) if T is None else (T, x)
+
+    def mix(t):
+        return SolvedState((1 - t) * lo.n + t * hi.n, Tm, Pm, lo.solver, True, "", (lo.n, hi.n), lo.route)
+
+    if resid(mix(0.0)) * resid(mix(1.0)) > 0:
+        return None
+    guess = mix(brentq(lambda t: resid(mix(t)), 0.0, 1.0, xtol=1e-15))
+    return refine_transition(solver, resid, guess, T is None) or guess
+
+
+def refine_transition(solver: RouteSolver, resid: Residual, guess: SolvedState, t_free: bool) -> SolvedState | None:
+    """Solve the state on the transition directly: the T,P solver sets phase boundaries only
+    to its own tolerance (about 1e-4 K for ice/water), too coarse for the certificate.  On the
+    transition the phases of both sides coexist, and the state is fixed by the conserved
+    quantities, zero affinity of every independent reaction among their species, and the
+    extensive specification: as many equations as unknowns (the amounts and T, or P).
+    Solved by least squares (scipy's Levenberg-Marquardt) in ln n and ln T (or ln P)
+    from the mixture of the two sides; None when it does not converge."""
+    from scipy.optimize import least_squares
+    a, model = solver.arrays, solver.model
+    n_g = np.maximum(guess.n, 0.0)
+    totals = n_g @ a.membership
+    phase_present = totals > settings.PHASE_PRESENCE_FRACTION * max(totals.sum(), 1e-300)
+    present = phase_present[a.phase_of] & (n_g > 0) & solver.candidate
+    idx = np.flatnonzero(present)
+    basis = solver.workspace.present_species(present).basis[:, idx]
+    W = a.W[:, idx]
+    b = a.W @ solver.n0
+    b_scale = max(float(np.abs(b).max()), 1e-300)
+
+    def state(z):
+        n = np.zeros_like(n_g)
+        n[idx] = np.exp(z[:-1])
+        x = math.exp(z[-1])
+        T, P = (x, guess.P) if t_free else (guess.T, x)
+        return SolvedState(n, T, P, guess.solver, True, "", guess.sides, guess.route)
+
+    def equations(z):
+        sol = state(z)
+        mu = model.at_state(sol.T, sol.P, sol.n)[0][idx]
+        return np.concatenate(((W @ sol.n[idx] - b) / b_scale, basis @ mu, [resid(sol)]))
+
+    z0 = np.concatenate((np.log(np.maximum(n_g[idx], 1e-300)), [math.log(guess.T if t_free else guess.P)]))
+    try:
+        res = least_squares(equations, z0, method="lm", xtol=1e-15, ftol=1e-15, gtol=1e-15, max_nfev=200 * z0.size)
+    except Exception:
+        return None
+    out = state(res.x)
+    if np.max(np.abs(equations(res.x))) > 1e-9:
+        return None
+    return out
+
+
+def certified_on_routes(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver: RouteSolver,
+                        findings: list[Finding], t0: float) -> EquilibriumCheck:
+    """Every route in turn until one gives a state whose certificate holds (fallbacks cost
+    time only where the first route fails).  A state whose certificate fails sends the next
+    pass to the routes after the one that produced it; when none is certified, the first
+    checked state is returned with every route's outcome as findings, or a check that is
+    not solved."""
+    attempts: list[tuple[str, str]] = []
+    first_check = None
+    first = 0
+    while first < len(solver.routes):
+        solver.start_at(first)
+        sol, stop = None, False
+        try:
+            sol = solve_specified(case, solver)
+        except SolveError as exc:
+            failure, stop = str(exc), "wall-clock" in str(exc)
+        except Exception as exc:
+            failure = f"{type(exc).__name__}: {one_line(exc, 300)}"
+        else:
+            failure = "" if sol is not None and sol.converged else \
+                "did not converge" + (f": {sol.message}" if sol is not None and sol.message else "")
+        tried = {r for r, _ in attempts}
+        attempts.extend((r, "failed: " + m) for r, m in solver.failures.items()
+                        if r != getattr(sol, "route", None) and r not in tried)
+        route = sol.route if sol is not None and sol.route else solver.routes[first]
+        if failure:
+            if not any(r == route for r, _ in attempts):
+                attempts.append((route, "failed: " + failure))
+            # a T,P solve that failed has already tried every route from ``first`` on
+            if stop or sol is None or not sol.route or route in solver.failures:
+                break
+        else:
+            solver.attempts = tuple(attempts)   # the certified check carries them (no copy on the common path)
+            try:
+                check = certify(case, count, spec, solver, sol, list(findings), t0)
+            except SolveError as exc:
+                attempts.append((route, f"failed: {exc}"))
+            else:
+                if certificate_holds(check):
+                    return check
+                attempts.append((route, "certificate failed: " + (certificate_failure(check) or "see findings")))
+                first_check = first_check or check
+        # the next pass starts after the route that produced this state
+        first = max(first, solver.routes.index(route)) + 1
+    notes = [Finding("error", "equilibrium", f"route {r}: {o}") for r, o in attempts]
+    if first_check is not None:
+        return replace(first_check, findings=first_check.findings + tuple(notes), route="", attempts=tuple(attempts))
+    tried = ", ".join(dict.fromkeys(r for r, _ in attempts))
+    findings = findings + [Finding("error", "equilibrium", f"the minimisation did not reach a certified state on any "
+                                   f"route ({tried})")] + notes
+    return replace(EquilibriumCheck.not_solved(findings, solver.model.assumed, time.perf_counter() - t0),
+                   attempts=tuple(attempts))
