@@ -71,29 +71,6 @@ class PhaseRuleCount:
     def degrees_of_freedom(self) -> int:
         return 2 + self.n_species - self.n_phases - self.independent_reactions - self.restrictions
 
-    def explanation(self) -> list[str]:
-        """The count, term by term, in words a reviewer can follow."""
-        lines = [
-            f"N = {self.n_species}: phase-species in the phases assumed to coexist ({', '.join(self.coexisting)})"
-            + (f", leaving out {', '.join(self.excluded)} (none can form from this feed)"
-               if self.excluded else ""),
-            f"pi = {self.n_phases}: phases assumed to coexist",
-            f"m = {self.independent_reactions}: independent reactions among those species (rank of the reactions "
-            "that involve only present species, combinations included)",
-            f"r = {self.restrictions}: independent intensive restrictions "
-            f"({self.r_feed} from the feed and electroneutrality, {self.r_declared} declared)",
-        ]
-        for rel in self.relations:
-            lines.append(f"    {rel.origin}: {rel.text}")
-        for rel in self.double_counted:
-            lines.append(f"    declared but already {rel.origin} (counted once): {rel.text}")
-        lines.append(f"C = N - m - r = {self.n_species} - {self.independent_reactions} - {self.restrictions} = {self.components} components")
-        lines.append(f"F = 2 + C - pi = 2 + {self.components} - {self.n_phases} = {self.degrees_of_freedom} "
-                     "intensive variables may be fixed independently")
-        if self.has_feed:
-            lines.append("Duhem: with the feed known, exactly 2 independent variables (intensive or extensive) fix the state")
-        return lines
-
 
 def relation_text(phase: str, coeffs: dict[int, Fraction | int], labels: Sequence[str], rhs: str = "0") -> str:
     terms = []

@@ -38,6 +38,7 @@ from auditor.equilibrium import ROUTE_OURS, certificate_holds, confirm
 from auditor.report import style
 from auditor.report.document import check_document
 from auditor.sweep import parse_ternary
+from auditor.report.document import equilibrium_document  # noqa: E402
 
 REPO = Path(__file__).resolve().parents[1]
 MAP_CASE = REPO / "cases" / "carbon_map_cho.yaml"
@@ -180,7 +181,7 @@ def test_points_where_the_first_route_fails_are_solved_by_a_later_one():
         assert [r for r, _ in eq.attempts] == list(dict.fromkeys(r for r, _ in eq.attempts)), "each route once"
         for _, outcome in eq.attempts[:-1]:
             assert outcome.startswith(("failed: ", "certificate failed: "))
-        doc = eq.document()
+        doc = equilibrium_document(eq)
         assert doc["route"] == eq.route
         assert doc["attempts"][-1] == {"route": eq.route, "outcome": "certified"}
 

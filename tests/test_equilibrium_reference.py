@@ -39,6 +39,7 @@ from scipy.optimize import brentq
 ct = pytest.importorskip("cantera")
 
 from auditor.audit import audit_file  # noqa: E402
+from auditor.report.document import equilibrium_document  # noqa: E402
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 R_KJ = 8.314462618e-3          # kJ/(mol K), CODATA 2018
@@ -367,7 +368,7 @@ def test_overspecified_univariant_case_reports_no_equilibrium():
     assert eq is not None and not eq.solved and not eq.confirmed
     assert eq.phases == () and eq.phases_present == ()
     assert eq.temperature_K is None and eq.pressure_Pa is None
-    doc = eq.document()
+    doc = equilibrium_document(eq)
     assert doc["phases"] == [] and doc["temperature_K"] is None and doc["max_affinity_RT"] is None
     assert result.exit_status == 1
 

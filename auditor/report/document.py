@@ -2,9 +2,16 @@
 from __future__ import annotations
 
 from .. import __version__
+import math
+from typing import TYPE_CHECKING
+
 from ..audit import AuditResult
 from ..exact import format_fraction
 from ..settings import TOLERANCES
+from .text import phase_rule_explanation
+
+if TYPE_CHECKING:   # the stage is imported only where a case is confirmed (cold start)
+    from ..equilibrium import EquilibriumCheck
 
 SCHEMA = 1
 
@@ -95,7 +102,7 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
             "relations": [{"origin": x.origin, "relation": x.text} for x in pr.relations],
             "double_counted": [x.text for x in pr.double_counted],
             "reactions_among_present_species": [x.equation for x in pr.reactions_present],
-            "explanation": pr.explanation(),
+            "explanation": phase_rule_explanation(pr),
         },
         "reactions": {
             "rank": a.rank,
@@ -127,7 +134,7 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
             "variables": len(sp.variables),
             "equations": len(sp.equations),
         },
-        "equilibrium": r.equilibrium.document() if r.equilibrium is not None else None,
+        "equilibrium": equilibrium_document(r.equilibrium) if r.equilibrium is not None else None,
         "claims": [{"claim": c.name, "claimed": _claim_value(c.claimed), "found": _claim_value(c.found),
                     "held": c.held} for c in r.claims],
         "findings": [{"severity": f.severity, "topic": f.topic, "message": f.message} for f in r.findings],
@@ -150,3 +157,35 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
         doc["versions"] = versions()
         doc["generated"] = datetime.datetime.now(datetime.timezone.utc).isoformat(timespec="seconds")
     return doc
+
+
+def equilibrium_document(eq: EquilibriumCheck) -> dict:
+    """The ``equilibrium`` block of the JSON document."""
+    return {
+        "converged": eq.converged,
+        "temperature_K": eq.temperature_K,
+        "pressure_Pa": eq.pressure_Pa,
+        "phases_present": list(eq.phases_present),
+        "phases": [{"name": p.name, "moles": p.moles, "mole_fractions": dict(p.mole_fractions)} for p in eq.phases],
+        "max_affinity_RT": eq.max_affinity_RT,
+        "element_balance_error": eq.element_balance_error,
+        "unique": eq.unique,
+        # additive fields
+        "solved": eq.solved,
+        "confirmed": eq.confirmed,
+        "solver": eq.solver,
+        "starts": eq.starts,
+        "unique_basis": eq.unique_basis,
+        "phase_amount_rcond": eq.phase_amount_rcond,
+        "potential_residual_RT": eq.potential_residual_RT,
+        # null: the phase can never form (it needs an element the feed lacks)
+        "absent_phase_driving_force_RT": {k: (v if math.isfinite(v) else None)
+                                          for k, v in eq.absent_phase_driving_force},
+        "lnK_additivity_error": eq.lnK_additivity_error,
+        "jacobian_rcond": eq.jacobian_rcond,
+        "element_potentials_RT": dict(eq.element_potentials),
+        "assumed_densities": [{"species": s, "density_kg_m3": d, "source": src}
+                              for s, d, src in eq.assumed_densities],
+        "route": eq.route or None,
+        "attempts": [{"route": r, "outcome": o} for r, o in eq.attempts],
+    }

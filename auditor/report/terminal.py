@@ -4,6 +4,7 @@ from __future__ import annotations
 import textwrap
 
 from ..audit import AuditResult, show_value
+from .text import phase_rule_explanation
 from .document import CAUTIONS
 
 WIDTH = 100
@@ -26,7 +27,7 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
     w = max(len(x) for x, _ in rows)
     out += [f"  {name:<{w}}  {val}" for name, val in rows]
     if explain:
-        out += ["", "How the count was made:"] + [f"  {line}" for line in pr.explanation()]
+        out += ["", "How the count was made:"] + [f"  {line}" for line in phase_rule_explanation(pr)]
     out += ["", f"Reactions: rank {a.rank} of the {len(a.reactions)} listed over all phases; "
             + ("complete" if a.complete else "incomplete" if not a.unbalanced else "unbalanced reactions present")
             + (f"; {pr.independent_reactions} among the species of the coexisting phases (m)"

@@ -1,0 +1,72 @@
+"""Text of the stages' results for people: the phase-rule count term by term, the
+equilibrium check in a few lines.  Booleans are said as yes/no, never as Python's
+True/False/None."""
+from __future__ import annotations
+
+import math
+from typing import TYPE_CHECKING
+
+from ..phase_rule import PhaseRuleCount
+
+if TYPE_CHECKING:   # the stage is imported only where a case is confirmed (cold start)
+    from ..equilibrium import EquilibriumCheck
+
+
+def yes_no(flag: bool | None) -> str:
+    """A flag in words: yes, no, or "not decided" when there is none."""
+    return "not decided" if flag is None else ("yes" if flag else "no")
+
+
+def _sci(x: float | None) -> str:
+    return "n/a" if x is None else f"{x:.2e}"
+
+
+def phase_rule_explanation(pr: PhaseRuleCount) -> list[str]:
+    """The count, term by term, in words a reviewer can follow."""
+    lines = [
+        f"N = {pr.n_species}: phase-species in the phases assumed to coexist ({', '.join(pr.coexisting)})"
+        + (f", leaving out {', '.join(pr.excluded)} (none can form from this feed)"
+           if pr.excluded else ""),
+        f"pi = {pr.n_phases}: phases assumed to coexist",
+        f"m = {pr.independent_reactions}: independent reactions among those species (rank of the reactions "
+        "that involve only present species, combinations included)",
+        f"r = {pr.restrictions}: independent intensive restrictions "
+        f"({pr.r_feed} from the feed and electroneutrality, {pr.r_declared} declared)",
+    ]
+    for rel in pr.relations:
+        lines.append(f"    {rel.origin}: {rel.text}")
+    for rel in pr.double_counted:
+        lines.append(f"    declared but already {rel.origin} (counted once): {rel.text}")
+    lines.append(f"C = N - m - r = {pr.n_species} - {pr.independent_reactions} - {pr.restrictions} = {pr.components} components")
+    lines.append(f"F = 2 + C - pi = 2 + {pr.components} - {pr.n_phases} = {pr.degrees_of_freedom} "
+                 "intensive variables may be fixed independently")
+    if pr.has_feed:
+        lines.append("Duhem: with the feed known, exactly 2 independent variables (intensive or extensive) fix the state")
+    return lines
+
+
+def equilibrium_summary_lines(eq: EquilibriumCheck) -> list[str]:
+    """The equilibrium check in a few lines of text."""
+    if not eq.solved:
+        msgs = [f.message for f in eq.findings if f.topic == "equilibrium"][:3]
+        return msgs or ["Gibbs minimisation: not solved"]
+    out = [f"Gibbs minimisation ({eq.solver}) at T = {eq.temperature_K:.2f} K, P = {eq.pressure_Pa:.6g} Pa: "
+           + ("CONFIRMED" if eq.confirmed else "NOT CONFIRMED")]
+    for p in eq.phases:
+        if p.moles <= 0:
+            continue
+        major = sorted(p.mole_fractions, key=lambda kv: -kv[1])[:8]
+        out.append(f"  {p.name}: {p.moles:.6g} mol; " + ", ".join(f"{k} {v:.4g}" for k, v in major))
+    absent = ", ".join(f"{n} {d:+.3g}" if math.isfinite(d) else f"{n} cannot form (needs an element the feed lacks)"
+                       for n, d in eq.absent_phase_driving_force)
+    out.append(f"  certificate: balance error {eq.element_balance_error:.2e}, max affinity "
+               f"{_sci(eq.max_affinity_RT)} RT, potential residual {_sci(eq.potential_residual_RT)} RT, "
+               f"unique {yes_no(eq.unique)} ({eq.unique_basis})")
+    if absent:
+        out.append(f"  driving force to form absent phases (RT, must be >= 0): {absent}")
+    if eq.jacobian_rcond is not None:
+        out.append(f"  Jacobian smallest/largest singular value: {eq.jacobian_rcond:.3e}")
+    if len(eq.attempts) > 1:
+        out.append(f"  solve route: {eq.route or 'none certified'}, after " + "; ".join(
+            f"{r} {o}" for r, o in eq.attempts if o != "certified"))
+    return out
