@@ -11,9 +11,9 @@ from .errors import InputError
 from .exact import format_fraction
 from .findings import Finding
 from .phase_rule import PhaseRuleCount, count as count_phase_rule
-from .stoichiometry import ReactionAnalysis, analyse, build_reactions
+from .stoichiometry import ReactionAnalysis, analyse, build_reactions, derived_basis
 from .structure import SpecificationAudit, audit as audit_specification
-from .system import ChemicalSystem
+from .system import ChemicalSystem, build_system, check_names
 
 VERDICT_ORDER = ("well-posed", "under-specified", "over-specified", "not-confirmed", "inconsistent")
 
@@ -72,10 +72,11 @@ def _reaction_findings(a: ReactionAnalysis) -> list[Finding]:
 def counting_stages(case: Case, system: ChemicalSystem | None = None):
     """The stages before the minimisation: system, reactions, analysis, phase-rule count, specification audit."""
     if system is None:
-        system = case_mod.build_system(case)
-    case_mod.check_names(case, system)
-    reactions = build_reactions(case, system)
-    analysis = analyse(system, reactions)
+        system = build_system(case)
+    check_names(case, system)
+    basis = derived_basis(system)      # the complete set: the analysis needs it, a case may list it
+    reactions = build_reactions(case, system, basis)
+    analysis = analyse(system, reactions, basis)
     count = count_phase_rule(case, system, reactions, analysis)
     return system, reactions, analysis, count, audit_specification(case, system, count)
 

@@ -41,10 +41,11 @@ __all__ = [
     "rref",
     "small_integer_basis",
     "sparse_matvec",
+    "whole",
 ]
 
 
-def _norm(x: Number) -> Number:
+def whole(x: Number) -> Number:
     """Collapse a Fraction with denominator one to an int (keeps arithmetic fast)."""
     if type(x) is Fraction and x.denominator == 1:
         return x.numerator
@@ -56,7 +57,7 @@ def _subtract(target: SparseVector, factor: Number, source: Mapping[int, Number]
     for k, x in source.items():
         y = target.get(k, 0) - factor * x
         if y:
-            target[k] = _norm(y)
+            target[k] = whole(y)
         else:
             target.pop(k, None)
 
@@ -67,7 +68,7 @@ def _div(x: Number, s: Number) -> Number:
         if r == 0:
             return q
         return Fraction(x, s)
-    return _norm(Fraction(x) / s)
+    return whole(Fraction(x) / s)
 
 
 def as_simple_fraction(value: float, max_denominator: int, tolerance: float) -> Fraction | None:
@@ -128,7 +129,7 @@ def sparse_matvec(columns: Sequence[Mapping[int, Number]], vector: Mapping[int, 
     for k, c in vector.items():
         for row, a in columns[k].items():
             out[row] = out.get(row, 0) + a * c
-    return {r: _norm(v) for r, v in out.items() if v != 0}
+    return {r: whole(v) for r, v in out.items() if v != 0}
 
 
 class RowEchelon:
@@ -205,7 +206,7 @@ class RowEchelon:
                 if y:
                     if k not in rp:
                         holders.setdefault(k, set()).add(p)
-                    rp[k] = _norm(y)
+                    rp[k] = whole(y)
                 elif k in rp:
                     del rp[k]
                     holders[k].discard(p)

@@ -26,7 +26,8 @@ from fractions import Fraction
 from typing import Sequence
 
 from . import exact
-from .case import Case, feed_moles, matching_species
+from .case import Case
+from .system import feed_moles, matching_species
 from .stoichiometry import ReactionAnalysis, Reaction, basis_within, format_equation
 from .system import ChemicalSystem
 

@@ -19,7 +19,6 @@ from fractions import Fraction
 from typing import Mapping, Sequence
 
 from . import exact
-from .cache import by_identity
 from .case import Case
 from .errors import CaseError, EquationError, InputError, Problem
 from .system import ChemicalSystem, unknown_name_message
@@ -185,7 +184,6 @@ def _simplicity(system: ChemicalSystem, k: int) -> tuple:
     return (abs(system.species[k].charge) != 0 and len(f) > 0, len(f), sum(abs(v) for v in f.values()), k)
 
 
-@by_identity
 def derived_basis(system: ChemicalSystem) -> tuple[Reaction, ...]:
     """A complete set of independent reactions from the species alone.
 
@@ -233,8 +231,11 @@ def _describe_quantity(vec: Mapping[int, Fraction | int], labels: Sequence[str])
     return text[2:] if text.startswith("+ ") else text
 
 
-def analyse(system: ChemicalSystem, reactions: Sequence[Reaction]) -> ReactionAnalysis:
-    """Complete exact account of a list of reactions over the system's phase-species."""
+def analyse(system: ChemicalSystem, reactions: Sequence[Reaction],
+            basis: tuple[Reaction, ...] | None = None) -> ReactionAnalysis:
+    """Complete exact account of a list of reactions over the system's phase-species.
+    ``basis``: the system's ``derived_basis`` when the caller has it already (it is the
+    reaction list of a case that asks for the complete set)."""
     n = system.n_species
     rows = [row for row in system.formula_matrix]
     element_pivots = exact.pivot_rows([list(r) for r in rows]) if rows else []
@@ -313,7 +314,8 @@ def analyse(system: ChemicalSystem, reactions: Sequence[Reaction]) -> ReactionAn
             conserved.append(ConservedQuantity(f"quantity {j}: {_describe_quantity(w, system.labels)}",
                                                tuple(sorted(w.items())), False))
 
-    basis = derived_basis(system)
+    if basis is None:
+        basis = derived_basis(system)
     frozen = []
     if all_balanced and m < n - formula_rank:
         ech_frozen = ech  # continue the same elimination: what the list cannot reach is frozen
@@ -357,10 +359,12 @@ def basis_within(reactions: Sequence[Reaction], n_species: int, present: Sequenc
     return tuple(out)
 
 
-def build_reactions(case: Case, system: ChemicalSystem) -> tuple[Reaction, ...]:
-    """The reaction list a case asks for, as :class:`~auditor.stoichiometry.Reaction` records."""
+def build_reactions(case: Case, system: ChemicalSystem, basis: tuple[Reaction, ...] | None = None
+                    ) -> tuple[Reaction, ...]:
+    """The reaction list a case asks for, as :class:`Reaction` records (``basis``: the
+    system's ``derived_basis`` when the caller has it already)."""
     if case.reactions == "complete":
-        return derived_basis(system)
+        return basis if basis is not None else derived_basis(system)
     if case.reactions == "from-mechanism":
         return from_mechanism(system)
     problems, out = [], []

@@ -7,7 +7,7 @@ element, e.g. graphite, H2 and O2, in every atom ratio i:j:k with i + j + k = di
 
 The counting stages run once; each grid point re-runs only the minimisation and its
 certificate.  Points are grouped in blocks (one unit of work for an executor); every
-worker builds the case's cantera objects once and reuses them (module-level caches), so
+worker builds the case's stages and equilibrium workspace once and reuses them, so
 nothing heavy crosses process or network boundaries: a block is (case path, points).
 Results come back in any order and are assembled in grid order, so the output does not
 depend on the executor or the number of workers.
@@ -126,7 +126,7 @@ def _feed_points(case: Case, axes: Sequence[Axis]) -> list[tuple[tuple, tuple]] 
     feed_axes = [a for a in axes if a.name.startswith((FEED, RATIO)) or a.name == TERNARY]
     if not feed_axes:
         return None
-    from .case import build_system
+    from .system import build_system
     system = build_system(case)
     base = {label: Fraction(a) for label, a in case.feed}
 

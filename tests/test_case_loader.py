@@ -25,7 +25,8 @@ import cantera as ct
 import pytest
 
 from auditor import settings
-from auditor.case import build_system, check_names, load_case, parse_quantity
+from auditor.case import load_case, parse_quantity
+from auditor.system import build_system, check_names
 from auditor.stoichiometry import build_reactions
 from auditor.errors import CaseError, InputError, LimitError
 

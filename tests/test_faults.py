@@ -15,7 +15,8 @@ import pytest
 import auditor.audit
 import auditor.case
 from auditor import settings
-from auditor.case import build_system, load_case
+from auditor.case import load_case
+from auditor.system import build_system
 from auditor.cli import main
 from auditor.errors import InputError
 

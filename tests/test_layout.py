@@ -13,7 +13,7 @@ import pytest
 PACKAGE = Path(__file__).resolve().parent.parent / "auditor"
 PRESENTATION = {"cli", "report", "__main__"}
 COMPUTATION = sorted([*(p for p in PACKAGE.glob("*.py") if p.stem not in PRESENTATION),
-                      *PACKAGE.glob("equilibrium/*.py")])
+                      *PACKAGE.glob("equilibrium/*.py"), *PACKAGE.glob("system/*.py")])
 
 
 def imports_of(path: Path) -> set[str]:
@@ -55,9 +55,10 @@ def test_only_exact_does_rank_decisions_with_sympy_or_flint():
 
 
 # Import direction (DEVELOPERS.md): cli -> report -> audit -> {stoichiometry, phase_rule,
-# structure, equilibrium} -> {system, exact}; case -> system, units.  A room may import only
+# structure, equilibrium} -> {system, exact}; case -> system, units.  (system/from_case.py
+# names the Case type for annotations only.)  A room may import only
 # rooms of a lower rank; the support modules may be imported from anywhere.
-SUPPORT = {"errors", "settings", "findings", "exact", "units", "dm", "cache", "common_names", "__version__"}
+SUPPORT = {"errors", "settings", "findings", "exact", "units", "dm", "yaml_nodes", "common_names", "__version__"}
 RANK = {"system": 1, "case": 2, "stoichiometry": 3, "phase_rule": 4, "structure": 5, "equilibrium": 6,
         "hindered": 7, "audit": 8, "sweep": 9, "executors": 9, "report": 10, "cli": 11, "__main__": 12}
 
@@ -69,7 +70,14 @@ def internal_imports(path: Path) -> set[str]:
     own = rel.parts[0].removesuffix(".py")
     depth = len(rel.parts) - 1              # 1 inside a subpackage
     out = set()
-    for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+    tree = ast.parse(path.read_text(encoding="utf-8"))
+    # imports for type annotations only (``if TYPE_CHECKING:``) do not run
+    typing_only = {id(n) for block in ast.walk(tree) if isinstance(block, ast.If)
+                   and isinstance(block.test, ast.Name) and block.test.id == "TYPE_CHECKING"
+                   for n in ast.walk(block)}
+    for node in ast.walk(tree):
+        if id(node) in typing_only:
+            continue
         if isinstance(node, ast.ImportFrom):
             if node.level == 0:
                 parts = (node.module or "").split(".")

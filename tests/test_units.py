@@ -9,7 +9,8 @@ from pathlib import Path
 import pytest
 
 from auditor import units
-from auditor.case import CaseError, build_system, check_names, feed_moles, load_case, parse_quantity
+from auditor.case import CaseError, load_case, parse_quantity
+from auditor.system import build_system, check_names, feed_moles
 from auditor.equilibrium.workspace import feed_vector
 
 SYS = """\

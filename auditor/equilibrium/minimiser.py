@@ -78,18 +78,15 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import linprog
 
-__all__ = ["MinimiserResult", "minimise_gibbs"]
+from .dual import DualProblem, barrier, kkt_newton
+from .presolve import absent_shift, forced_absent, start_point
 
-# Reduced potential g_k - A_k.lambda (beyond ln(phase size)) given to species that
-# are zero in every feasible composition: hypothetical x < exp(-100) ~ 4e-44.
-_ABSENT_MARGIN = 100.0
+__all__ = ["MinimiserInputs", "MinimiserResult", "minimise_gibbs"]
+
 # An absent phase is added only if its stability function exceeds this
 # (ln sum x for solution phases, A_k.lambda - g_k for pure phases).
 _STABILITY_TOL = 1e-10
-# A present solution phase whose scaled amount falls below this is removed.
-_MIN_PHASE_AMOUNT = 1e-25
 # Pure-phase amounts in [-_ZERO_AMOUNT, 0] (scaled feed) are rounding noise: reported as 0.
 _ZERO_AMOUNT = 1e-13
 
@@ -103,296 +100,6 @@ class MinimiserResult:
     converged: bool
     iterations: int
     message: str
-
-
-# ----------------------------------------------------------------------------- dual
-
-
-class _Dual:
-    """Constraint functions of (D) in reduced coordinates nu (lambda = U_r nu).
-
-    Constraint i < ns is the solution phase ``groups[i]``:  h_i = ln sum exp(C_k.nu - g_k);
-    constraint ns + j is the pure species ``pure[j]``:      h = C_k.nu - g_k.
-    (D) is: maximise c.nu subject to h <= 0.  All indices are into the free species.
-    """
-
-    def __init__(self, C: np.ndarray, g: np.ndarray, groups: list[np.ndarray], pure: np.ndarray):
-        self.C, self.g, self.groups, self.pure = C, g, groups, pure
-        self.ns = len(groups)
-        self.m = self.ns + len(pure)
-        self.r = C.shape[0]
-
-    def h(self, nu: np.ndarray) -> np.ndarray:
-        z = self.C.T @ nu - self.g
-        out = np.empty(self.m)
-        for i, idx in enumerate(self.groups):
-            zi = z[idx]
-            zmax = zi.max()
-            out[i] = zmax + np.log(np.exp(zi - zmax).sum())
-        out[self.ns :] = z[self.pure]
-        return out
-
-    def eval(self, nu: np.ndarray):
-        """h (m,), gradients G (r, m), per-solution-phase covariance Hessians, mole fractions."""
-        C = self.C
-        z = C.T @ nu - self.g
-        h = np.empty(self.m)
-        G = np.empty((self.r, self.m))
-        covs, xs = [], []
-        for i, idx in enumerate(self.groups):
-            zi = z[idx]
-            zmax = zi.max()
-            e = np.exp(zi - zmax)  # max-shift: no overflow for any g
-            s = e.sum()
-            h[i] = zmax + np.log(s)
-            x = e / s  # normalised mole fractions at nu
-            Ci = C[:, idx]
-            a = Ci @ x  # mean composition of the phase = grad h_i
-            G[:, i] = a
-            covs.append((Ci * x) @ Ci.T - np.outer(a, a))  # Hessian of h_i (PSD)
-            xs.append(x)
-        h[self.ns :] = z[self.pure]
-        G[:, self.ns :] = C[:, self.pure]
-        return h, G, covs, xs
-
-
-def _solve(M: np.ndarray, rhs: np.ndarray) -> np.ndarray:
-    try:
-        out = np.linalg.solve(M, rhs)
-        if np.all(np.isfinite(out)):
-            return out
-    except np.linalg.LinAlgError:
-        pass
-    return np.linalg.lstsq(M, rhs, rcond=None)[0]
-
-
-def _barrier(dual: _Dual, c: np.ndarray, nu: np.ndarray, max_newton: int):
-    """Log-barrier method on (D) from strictly feasible nu.
-
-    Returns (nu, eta, eta_prev, iterations, ok): eta = 1/(t (-h)) are the
-    multipliers (phase amounts on the central path) at the final t, eta_prev at
-    the previous t.  Along the path eta tends to the amount of a present phase
-    and falls like 1/t for an absent one.
-    """
-    m = dual.m
-    t = float(m)
-    it = 0
-    eta_prev = np.full(m, np.inf)
-    # Only the active set and a starting point are needed from this stage (the
-    # polish makes them exact), and beyond t ~ 1e10 rounding dominates phi.
-    gap_target = 1e-8
-    ok = True
-    while True:
-        for _ in range(50):  # centering: minimise phi = -t c.nu - sum log(-h)
-            h, G, covs, _ = dual.eval(nu)
-            s = -h  # invariant: s > 0 (strict feasibility)
-            grad = -t * c + G @ (1.0 / s)
-            H = (G / s**2) @ G.T
-            for i in range(dual.ns):
-                H += covs[i] / s[i]
-            dnu = _solve(H, -grad)
-            dec2 = float(-grad @ dnu)  # squared Newton decrement
-            if not np.isfinite(dec2) or dec2 <= 1e-10:
-                break
-            phi0 = -t * (c @ nu) - np.log(s).sum()
-            step = 1.0
-            accepted = False
-            while step > 1e-14:
-                trial = nu + step * dnu
-                ht = dual.h(trial)
-                if np.all(ht < 0):
-                    phi = -t * (c @ trial) - np.log(-ht).sum()
-                    if phi <= phi0 - 0.25 * step * dec2:
-                        accepted = True
-                        break
-                step *= 0.5
-            it += 1
-            if not accepted:
-                break
-            nu = trial
-            if it >= max_newton:
-                ok = False
-                break
-        eta = 1.0 / (t * -dual.h(nu))
-        if m / t < gap_target or not ok:
-            return nu, eta, eta_prev, it, ok
-        eta_prev = eta
-        t *= 20.0
-
-
-def _kkt_newton(dual, c, nu, sol_act, lnN, pure_act, npure, tol, max_iter):
-    """Newton on the equations of the present phases.
-
-    Unknowns: nu, ln N_i (i in sol_act), n_j (j in pure_act).  Equations:
-      sum_i N_i a_i(nu) + sum_j n_j C_j = c        (element balance, a_i = C x_i)
-      h_i(nu) = ln sum_k exp(C_k.nu - g_k) = 0     (present solution phases)
-      C_j.nu - g_j = 0                             (present pure phases)
-    With dN = N dlnN the Jacobian is the symmetric saddle-point matrix
-    [[sum_i N_i Cov_i, B], [B^T, 0]], B = [a_i..., C_j...].
-    Returns (status, nu, lnN, npure, iterations); status is "ok", "collapse:i" or "fail".
-    """
-    r = dual.r
-    ns = dual.ns
-    cols = list(sol_act) + [ns + j for j in pure_act]
-    ka, kp = len(sol_act), len(pure_act)
-
-    def residual(nu_, lnN_, np_):
-        h, G, covs, xs = dual.eval(nu_)
-        Fe = -c.copy()
-        for a, i in enumerate(sol_act):
-            Fe += np.exp(lnN_[a]) * G[:, i]
-        for a, j in enumerate(pure_act):
-            Fe += np_[a] * G[:, ns + j]
-        F = np.concatenate([Fe, h[sol_act] if ka else [], h[[ns + j for j in pure_act]] if kp else []])
-        return F, h, G, covs
-
-    lnN = np.array(lnN, dtype=float)
-    npure = np.array(npure, dtype=float)
-    F, h, G, covs = residual(nu, lnN, npure)
-    norm = np.abs(F).max()
-    prev_sr = np.inf
-    for it in range(1, max_iter + 1):
-        H = np.zeros((r, r))
-        for a, i in enumerate(sol_act):
-            H += np.exp(lnN[a]) * covs[i]
-        B = G[:, cols]
-        n = r + len(cols)
-        J = np.zeros((n, n))
-        J[:r, :r] = H
-        J[:r, r:] = B
-        J[r:, :r] = B.T
-        # Minimum-norm step: where the active set leaves nu undetermined (e.g.
-        # every present phase has compositions in a subspace), nu keeps its
-        # barrier value, which is stable for the absent phases.
-        d = np.linalg.lstsq(J, -F, rcond=1e-13)[0]
-        dnu, dN, dn = d[:r], d[r : r + ka], d[r + ka :]
-        dlnN = dN / np.exp(lnN) if ka else dN
-        big = np.abs(dlnN).max() if ka else 0.0
-        step = min(1.0, 4.0 / big) if big > 0 else 1.0  # cap |d ln N| per step
-        while True:
-            t_nu, t_lnN, t_np = nu + step * dnu, lnN + step * dlnN, npure + step * dn
-            Ft, ht, Gt, covst = residual(t_nu, t_lnN, t_np)
-            nt = np.abs(Ft).max()
-            if np.isfinite(nt) and (nt <= (1 - 1e-4 * step) * norm or step < 1e-6):
-                break
-            step *= 0.5
-        if not np.isfinite(nt):
-            return "fail", nu, lnN, npure, it
-        nu, lnN, npure, F, G, covs, norm = t_nu, t_lnN, t_np, Ft, Gt, covst, nt
-        if ka and lnN.min() < np.log(_MIN_PHASE_AMOUNT):
-            return f"collapse:{int(np.argmin(lnN))}", nu, lnN, npure, it
-        # Thresholds.  Phase equations are differences of terms as large as |g_k|,
-        # |C_k.nu|: tested relative to 1 + that size.  Element balance (b scaled to
-        # max |b| = 1): tol, or its rounding floor -- amounts inherit the relative
-        # error of exp(z), about eps |z| -- if larger (only with huge g or nu).
-        zabs = np.abs(dual.C.T @ nu) + np.abs(dual.g)
-        thr = np.full(F.size, tol)
-        zmax = 0.0
-        for a, i in enumerate(sol_act):
-            zi = zabs[dual.groups[i]].max()
-            thr[r + a] = tol * (1 + zi)
-            zmax = max(zmax, zi)
-        for a, j in enumerate(pure_act):
-            zj = zabs[dual.pure[j]]
-            thr[r + ka + a] = tol * (1 + zj)
-            zmax = max(zmax, zj)
-        thr[:r] = max(tol, 8 * np.finfo(float).eps * (1 + zmax))
-        sr = float(np.max(np.abs(F) / thr))
-        if sr <= 1:
-            return "ok", nu, lnN, npure, it
-        # A Newton step that no longer halves the residual within 10x the
-        # thresholds has reached the rounding floor: accept.
-        if sr <= 10 and sr > 0.5 * prev_sr:
-            return "ok", nu, lnN, npure, it
-        prev_sr = sr
-    return "fail", nu, lnN, npure, max_iter
-
-
-# ----------------------------------------------------------------------------- presolve
-
-
-def _forced_absent(A: np.ndarray, b: np.ndarray):
-    """Species zero in every n >= 0 with A n = b.  Returns (mask, feasible, message)."""
-    E, N = A.shape
-    zero = np.zeros(N, dtype=bool)
-    # (a) one-signed rows with zero abundance, repeatedly (exact, cheap).
-    changed = True
-    while changed:
-        changed = False
-        for e in range(E):
-            if b[e] != 0:
-                continue
-            row = np.where(zero, 0.0, A[e])
-            if not np.any(row):
-                continue
-            if np.all(row >= 0) or np.all(row <= 0):
-                zero |= row != 0
-                changed = True
-    free = np.flatnonzero(~zero)
-    if free.size == 0:
-        feasible = not np.any(b)
-        return zero, feasible, "" if feasible else "infeasible: no species can carry the feed"
-    # (b) homogeneous LP: max sum t, A n = b s, s >= 1, 0 <= t <= 1, t_k <= n_k/u_k.
-    # Any species that can be positive reaches t_k = 1 (the feasible set is closed
-    # under addition and under scaling by >= 1); species forced to zero have t_k = 0.
-    Af = A[:, free]
-    nf = free.size
-    u = np.ones(nf)
-    for k in range(nf):
-        cand = [b[e] / Af[e, k] for e in range(E) if Af[e, k] > 0 and np.all(Af[e] >= 0) and b[e] > 0]
-        if cand:
-            u[k] = min(cand)
-    cost = np.concatenate([np.zeros(nf), -np.ones(nf), [0.0]])
-    A_eq = np.hstack([Af, np.zeros((E, nf)), -b[:, None]])
-    A_ub = np.hstack([-np.diag(1.0 / u), np.eye(nf), np.zeros((nf, 1))])
-    bounds = [(0, None)] * nf + [(0, 1)] * nf + [(1, None)]
-    try:
-        res = linprog(cost, A_ub=A_ub, b_ub=np.zeros(nf), A_eq=A_eq, b_eq=np.zeros(E),
-                      bounds=bounds, method="highs")
-    except Exception as exc:  # pragma: no cover - defensive
-        return zero, True, f"feasibility LP raised {exc!r}; used zero-abundance rule only"
-    if res.status == 2:
-        return zero, False, "infeasible: no n >= 0 satisfies A n = b"
-    if res.status != 0:
-        return zero, True, f"feasibility LP status {res.status}; used zero-abundance rule only"
-    tk = res.x[nf : 2 * nf]
-    zero[free[tk < 0.5]] = True
-    return zero, True, ""
-
-
-def _start_point(C, g, size, c):
-    """Strictly feasible nu for (D): max c.nu s.t. C_k.nu <= g_k - ln(size_k) - 1 (LP)."""
-    try:
-        res = linprog(-c, A_ub=C.T, b_ub=g - np.log(size) - 1.0,
-                      bounds=[(None, None)] * C.shape[0], method="highs")
-    except Exception:  # pragma: no cover - defensive
-        return None, "start LP raised"
-    if res.status == 0:
-        return res.x, ""
-    if res.status == 3:  # unbounded LP <=> its dual (a relaxed (P)) is infeasible
-        return None, "start LP unbounded"
-    if res.status == 2:  # no strictly feasible dual point <=> (P) unbounded (n >= 0, A n = 0)
-        return None, "unbounded: some nonnegative combination of species has no conserved content"
-    return None, f"start LP status {res.status}"
-
-
-def _absent_shift(A, g, zero, lam0, Nperp, size_of_species):
-    """delta in span(Nperp) with g_k - A_k.(lam0 + delta) >= margin for forced-absent k."""
-    if not zero.any():
-        return np.zeros_like(lam0), ""
-    if Nperp.shape[1] == 0:
-        return np.zeros_like(lam0), "no potential direction separates forced-absent species"
-    Az = A[:, zero]
-    M = Az.T @ Nperp  # (Z, q)
-    rhs = g[zero] - _ABSENT_MARGIN - np.log(size_of_species[zero]) - Az.T @ lam0
-    q = Nperp.shape[1]
-    # minimise ||z||_1: z = zp - zm
-    res = linprog(np.ones(2 * q), A_ub=np.hstack([M, -M]), b_ub=rhs,
-                  bounds=[(0, None)] * (2 * q), method="highs")
-    if res.status != 0:
-        return np.zeros_like(lam0), "could not place potentials of forced-absent species"
-    z = res.x[:q] - res.x[q:]
-    return Nperp @ z, ""
 
 
 # ----------------------------------------------------------------------------- main
@@ -439,24 +146,52 @@ class MinimiserInputs:
         return cls(A=A, g=g, phase_of=phase_of, solution=solution, b=b)
 
 
-def minimise_gibbs(problem: MinimiserInputs, *, tol=1e-12, max_iter=500) -> MinimiserResult:
-    """Minimise G/RT = sum_k n_k (g_k + ln x_k [solution phases]) s.t. A n = b, n >= 0.
+@dataclass(frozen=True)
+class _Reduced:
+    """The problem after the presolve: scaled feed, the species that can be non-zero, the
+    orthonormal row basis of their formula matrix, and the dual (D) over them."""
 
-    tol: Newton tolerance on the scaled KKT residual; max_iter: Newton iterations
-    budget (barrier and polish separately).
-    """
-    # one function with its stages as closures over the scaled problem: a reason to exceed
-    # 80 lines (presolve, barrier, polish share a dozen arrays; see the module docstring)
+    A: np.ndarray
+    g: np.ndarray
+    phase_of: np.ndarray
+    P: int                      # number of phases
+    scale: float                # max |b|: amounts are solved for b / scale
+    zero: np.ndarray            # species zero in every feasible n
+    free: np.ndarray            # the other species
+    size_of_species: np.ndarray  # size of each species' phase
+    Ur: np.ndarray              # row basis of the free species' formula matrix
+    Nperp: np.ndarray           # its orthogonal complement
+    c: np.ndarray               # the scaled feed in the row basis
+    dual: DualProblem
+    groups: list                # solution phases' free species (indices into free)
+    pure: np.ndarray            # pure phases' free species (indices into free)
+    pre_msg: str                # what the presolve noted
+
+
+@dataclass(frozen=True)
+class _BarrierPoint:
+    """Where the barrier stage ended: the dual point, the phase-amount estimates at the last
+    two barrier parameters, the iterations it took and whether it finished."""
+
+    nu: np.ndarray
+    eta: np.ndarray
+    eta_prev: np.ndarray
+    iterations: int
+    finished: bool
+
+
+def _result(problem: MinimiserInputs, n, lam, converged, iters, msg) -> MinimiserResult:
+    P, N = problem.solution.size, problem.A.shape[1]
+    pm = np.bincount(problem.phase_of, weights=n, minlength=P) if N else np.zeros(P)
+    return MinimiserResult(moles=n, element_potentials=lam, phase_moles=pm, present=pm > 0,
+                           converged=converged, iterations=iters, message=msg)
+
+
+def _reduce(problem: MinimiserInputs) -> _Reduced | MinimiserResult:
+    """Stage 0, the presolve (module docstring); a result when nothing is left to solve."""
     A, g, phase_of, solution, b = problem.A, problem.g, problem.phase_of, problem.solution, problem.b
     E, N = A.shape
     P = solution.size
-    counts = np.bincount(phase_of, minlength=P)
-
-    def result(n, lam, converged, iters, msg):
-        pm = np.bincount(phase_of, weights=n, minlength=P) if N else np.zeros(P)
-        return MinimiserResult(moles=n, element_potentials=lam, phase_moles=pm, present=pm > 0,
-                               converged=converged, iterations=iters, message=msg)
-
     scale = float(np.abs(b).max()) if E else 0.0
     if scale == 0.0:
         bh = np.zeros(E)
@@ -464,11 +199,11 @@ def minimise_gibbs(problem: MinimiserInputs, *, tol=1e-12, max_iter=500) -> Mini
         bh = b / scale
         bh[np.abs(bh) <= 64 * np.finfo(float).eps] = 0.0  # rounding noise (e.g. charge rows)
 
-    zero, feasible, pre_msg = _forced_absent(A, bh)
+    zero, feasible, pre_msg = forced_absent(A, bh)
     if not feasible:
-        return result(np.zeros(N), np.zeros(E), False, 0, pre_msg)
+        return _result(problem, np.zeros(N), np.zeros(E), False, 0, pre_msg)
     free = np.flatnonzero(~zero)
-    size_of_species = counts[phase_of].astype(float) if N else np.zeros(0)
+    size_of_species = np.bincount(phase_of, minlength=P)[phase_of].astype(float) if N else np.zeros(0)
 
     # Row basis of the free species' formula matrix (invariant: A_free n = b <=> C n = c).
     if free.size:
@@ -480,132 +215,158 @@ def minimise_gibbs(problem: MinimiserInputs, *, tol=1e-12, max_iter=500) -> Mini
     C = Ur.T @ A[:, free]
     c = Ur.T @ bh
     if free.size and np.abs(bh - Ur @ c).max() > 1e-9:
-        return result(np.zeros(N), np.zeros(E), False, 0,
-                      "infeasible: b is not in the span of the species' compositions")
+        return _result(problem, np.zeros(N), np.zeros(E), False, 0,
+                       "infeasible: b is not in the span of the species' compositions")
 
     if free.size == 0 or r == 0:
         lam0 = np.zeros(E)
-        shift, smsg = _absent_shift(A, g, zero, lam0, Nperp, size_of_species)
+        shift, smsg = absent_shift(A, g, zero, lam0, Nperp, size_of_species)
         if free.size and r == 0:
-            return result(np.zeros(N), lam0 + shift, False, 0,
-                          "species with no conserved content: amount undetermined")
-        return result(np.zeros(N), lam0 + shift, not smsg, 0, smsg or "empty feed: all amounts zero")
+            return _result(problem, np.zeros(N), lam0 + shift, False, 0,
+                           "species with no conserved content: amount undetermined")
+        return _result(problem, np.zeros(N), lam0 + shift, not smsg, 0, smsg or "empty feed: all amounts zero")
 
     # Constraint structure of (D) over free species (indices into `free`).
     pos = {k: i for i, k in enumerate(free)}
-    groups, group_phase, pure, pure_phase = [], [], [], []
+    groups, pure = [], []
     for p in range(P):
         members = [pos[k] for k in np.flatnonzero(phase_of == p) if k in pos]
         if not members:
             continue
         if solution[p]:
             groups.append(np.array(members))
-            group_phase.append(p)
         else:
             pure.append(members[0])
-            pure_phase.append(p)
-    dual = _Dual(C, g[free], groups, np.array(pure, dtype=int))
-    ns, m = dual.ns, dual.m
+    pure = np.array(pure, dtype=int)
+    return _Reduced(A=A, g=g, phase_of=phase_of, P=P, scale=scale, zero=zero, free=free,
+                    size_of_species=size_of_species, Ur=Ur, Nperp=Nperp, c=c, dual=DualProblem(C, g[free], groups, pure),
+                    groups=groups, pure=pure, pre_msg=pre_msg)
 
-    nu0, smsg = _start_point(C, g[free], size_of_species[free], c)
+
+def _assemble(red: _Reduced, nu: np.ndarray, sol_amounts: dict, pure_amounts: dict) -> np.ndarray:
+    """Full-length moles (unscaled) from nu and phase amounts.
+
+    n_k = N_p x_k with x_k = exp(C_k.nu - g_k - h_p), so ln x_k + g_k = C_k.nu
+    when h_p = 0; forced-absent species stay exactly 0."""
+    _, _, _, xs_ = red.dual.eval(nu)
+    nf = np.zeros(red.free.size)
+    for i, amt in sol_amounts.items():
+        # mole fractions below 1e-300 (subnormal range: ln x inaccurate) -> 0
+        nf[red.groups[i]] = amt * np.where(xs_[i] < 1e-300, 0.0, xs_[i])
+    for j, amt in pure_amounts.items():
+        nf[red.pure[j]] = max(amt, 0.0)
+    n = np.zeros(red.A.shape[1])
+    n[red.free] = nf * red.scale
+    return n
+
+
+def _potentials(red: _Reduced, nu: np.ndarray) -> tuple[np.ndarray, str]:
+    # Invariant: A_k.(Ur nu) = C_k.nu for every free species k (its column lies
+    # in span(Ur)), and the shift lies in span(Nperp), orthogonal to those
+    # columns: so mu_k/RT = C_k.nu - h_p = A_k.lambda for present species.
+    lam0 = red.Ur @ nu
+    shift, amsg = absent_shift(red.A, red.g, red.zero, lam0, red.Nperp, red.size_of_species)
+    return lam0 + shift, amsg
+
+
+def _fallback(problem: MinimiserInputs, red: _Reduced, bp: _BarrierPoint, msg: str, it_p: int) -> MinimiserResult:
+    """The barrier estimate, not converged."""
+    ns = red.dual.ns
+    n = _assemble(red, bp.nu, {i: bp.eta[i] for i in range(ns)}, {j: bp.eta[ns + j] for j in range(len(red.pure))})
+    lam, _ = _potentials(red, bp.nu)
+    return _result(problem, n, lam, False, bp.iterations + it_p, msg)
+
+
+def _polished(problem: MinimiserInputs, red: _Reduced, bp: _BarrierPoint, nu, amounts, sol_act, pure_act, it_p
+              ) -> MinimiserResult:
+    """The result at a converged active set."""
+    ns = red.dual.ns
+    n = _assemble(red, nu, {i: amounts[i] for i in sol_act}, {j: amounts[ns + j] for j in pure_act})
+    lam, amsg = _potentials(red, nu)
+    n_present = int(np.count_nonzero(np.bincount(red.phase_of, weights=n, minlength=red.P) > 0))
+    msg = (f"converged: {n_present} of {red.P} phases present; "
+           f"{bp.iterations} barrier + {it_p} Newton iterations")
+    if red.pre_msg:
+        msg += f"; note: {red.pre_msg}"
+    if amsg:
+        return _result(problem, n, lam, False, bp.iterations + it_p, amsg)
+    if not bp.finished:
+        msg += "; note: barrier stage hit its iteration limit"
+    return _result(problem, n, lam, True, bp.iterations + it_p, msg)
+
+
+def _polish(problem: MinimiserInputs, red: _Reduced, bp: _BarrierPoint, present: np.ndarray, it_p: int,
+            tol: float, max_iter: int) -> tuple[MinimiserResult | None, str, int]:
+    """Stage 2, the active-set Newton polish from the initial set ``present``.
+    Returns (result or None, message, Newton iterations so far)."""
+    dual, c = red.dual, red.c
+    ns, m, n_pure = dual.ns, dual.m, len(red.pure)
+    present = present.copy()
+    seen = set()
+    for _loop in range(4 * m + 20):
+        key = tuple(np.flatnonzero(present))
+        if key in seen:
+            return None, "active-set cycling in Newton polish", it_p
+        seen.add(key)
+        sol_act = [i for i in range(ns) if present[i]]
+        pure_act = [j for j in range(n_pure) if present[ns + j]]
+        # Every active set is solved from the barrier point, which is close to
+        # the optimum; a Newton iterate of a wrong set may have drifted far away.
+        lnN = np.log(np.maximum(bp.eta[sol_act], 1e-30))
+        npure = bp.eta[[ns + j for j in pure_act]]
+        budget = min(60, max_iter - it_p)
+        if budget <= 0:
+            return None, "iteration limit reached in Newton polish", it_p
+        status, nu, lnN, npure, its = kkt_newton(dual, c, bp.nu, sol_act, lnN, pure_act, npure, tol, budget)
+        it_p += its
+        if status == "fail":
+            # Usually a wrong active set (no solution with these phases): if an
+            # absent phase is unstable at the last iterate, add it and go on.
+            if not np.all(np.isfinite(nu)):
+                return None, "Newton polish diverged", it_p
+            viol = np.where(present, -np.inf, dual.h(nu))
+            if viol.max() <= _STABILITY_TOL:
+                return None, "Newton polish did not converge", it_p
+            present[int(np.argmax(viol))] = True
+            continue
+        amounts = np.zeros(m)
+        amounts[sol_act] = np.exp(lnN)
+        amounts[[ns + j for j in pure_act]] = npure
+        if status.startswith("collapse"):
+            present[sol_act[int(status.split(":")[1])]] = False
+            continue
+        # Remove the most negative pure phase.  Amounts within rounding of zero
+        # (|n| <= _ZERO_AMOUNT of the scaled feed) are kept in the set and
+        # reported as 0, so that marginal phases cannot make the set cycle.
+        if len(pure_act) and npure.min() < -_ZERO_AMOUNT:
+            present[ns + pure_act[int(np.argmin(npure))]] = False
+            continue
+        viol = np.where(present, -np.inf, dual.h(nu))
+        if viol.max() > _STABILITY_TOL:  # add the most unstable absent phase
+            present[int(np.argmax(viol))] = True
+            continue
+        res = _polished(problem, red, bp, nu, amounts, sol_act, pure_act, it_p)
+        return res, res.message, it_p
+    return None, "active-set loop limit reached", it_p
+
+
+def minimise_gibbs(problem: MinimiserInputs, *, tol=1e-12, max_iter=500) -> MinimiserResult:
+    """Minimise G/RT = sum_k n_k (g_k + ln x_k [solution phases]) s.t. A n = b, n >= 0.
+
+    tol: Newton tolerance on the scaled KKT residual; max_iter: Newton iterations
+    budget (barrier and polish separately).
+    """
+    red = _reduce(problem)
+    if isinstance(red, MinimiserResult):
+        return red
+    nu0, smsg = start_point(red.dual.C, red.dual.g, red.size_of_species[red.free], red.c)
     if nu0 is None:
-        return result(np.zeros(N), np.zeros(E), False, 0, smsg)
+        return _result(problem, np.zeros(problem.A.shape[1]), np.zeros(problem.A.shape[0]), False, 0, smsg)
 
     # ---- stage 1: barrier
-    nu_b, eta, eta_prev, it_b, ok_b = _barrier(dual, c, nu0, max_iter)
-    h_b = dual.h(nu_b)
-
-    def assemble(nu_, sol_amounts: dict, pure_amounts: dict):
-        """Full-length moles (unscaled) from nu and phase amounts.
-
-        n_k = N_p x_k with x_k = exp(C_k.nu - g_k - h_p), so ln x_k + g_k = C_k.nu
-        when h_p = 0; forced-absent species stay exactly 0."""
-        _, _, _, xs_ = dual.eval(nu_)
-        nf = np.zeros(free.size)
-        for i, amt in sol_amounts.items():
-            # mole fractions below 1e-300 (subnormal range: ln x inaccurate) -> 0
-            nf[groups[i]] = amt * np.where(xs_[i] < 1e-300, 0.0, xs_[i])
-        for j, amt in pure_amounts.items():
-            nf[pure[j]] = max(amt, 0.0)
-        n = np.zeros(N)
-        n[free] = nf * scale
-        return n
-
-    def potentials(nu_):
-        # Invariant: A_k.(Ur nu) = C_k.nu for every free species k (its column lies
-        # in span(Ur)), and the shift lies in span(Nperp), orthogonal to those
-        # columns: so mu_k/RT = C_k.nu - h_p = A_k.lambda for present species.
-        lam0 = Ur @ nu_
-        shift, amsg = _absent_shift(A, g, zero, lam0, Nperp, size_of_species)
-        return lam0 + shift, amsg
-
-    def fallback(msg, it_p):
-        n = assemble(nu_b, {i: eta[i] for i in range(ns)}, {j: eta[ns + j] for j in range(len(pure))})
-        lam, _ = potentials(nu_b)
-        return result(n, lam, False, it_b + it_p, msg)
-
-    # ---- stage 2: active-set Newton polish
-    def polish(present: np.ndarray, it_p: int):
-        """Active-set loop from the initial set `present`.  Returns (result or None, msg, it_p)."""
-        present = present.copy()
-        seen = set()
-        for _loop in range(4 * m + 20):
-            key = tuple(np.flatnonzero(present))
-            if key in seen:
-                return None, "active-set cycling in Newton polish", it_p
-            seen.add(key)
-            sol_act = [i for i in range(ns) if present[i]]
-            pure_act = [j for j in range(len(pure)) if present[ns + j]]
-            # Every active set is solved from the barrier point, which is close to
-            # the optimum; a Newton iterate of a wrong set may have drifted far away.
-            lnN = np.log(np.maximum(eta[sol_act], 1e-30))
-            npure = eta[[ns + j for j in pure_act]]
-            budget = min(60, max_iter - it_p)
-            if budget <= 0:
-                return None, "iteration limit reached in Newton polish", it_p
-            status, nu, lnN, npure, its = _kkt_newton(dual, c, nu_b, sol_act, lnN, pure_act,
-                                                      npure, tol, budget)
-            it_p += its
-            if status == "fail":
-                # Usually a wrong active set (no solution with these phases): if an
-                # absent phase is unstable at the last iterate, add it and go on.
-                if not np.all(np.isfinite(nu)):
-                    return None, "Newton polish diverged", it_p
-                viol = np.where(present, -np.inf, dual.h(nu))
-                if viol.max() <= _STABILITY_TOL:
-                    return None, "Newton polish did not converge", it_p
-                present[int(np.argmax(viol))] = True
-                continue
-            amounts = np.zeros(m)
-            amounts[sol_act] = np.exp(lnN)
-            amounts[[ns + j for j in pure_act]] = npure
-            if status.startswith("collapse"):
-                present[sol_act[int(status.split(":")[1])]] = False
-                continue
-            # Remove the most negative pure phase.  Amounts within rounding of zero
-            # (|n| <= _ZERO_AMOUNT of the scaled feed) are kept in the set and
-            # reported as 0, so that marginal phases cannot make the set cycle.
-            if len(pure_act) and npure.min() < -_ZERO_AMOUNT:
-                present[ns + pure_act[int(np.argmin(npure))]] = False
-                continue
-            viol = np.where(present, -np.inf, dual.h(nu))
-            if viol.max() > _STABILITY_TOL:  # add the most unstable absent phase
-                present[int(np.argmax(viol))] = True
-                continue
-            n = assemble(nu, {i: amounts[i] for i in sol_act},
-                         {j: amounts[ns + j] for j in pure_act})
-            lam, amsg = potentials(nu)
-            n_present = int(np.count_nonzero(np.bincount(phase_of, weights=n, minlength=P) > 0))
-            msg = (f"converged: {n_present} of {P} phases present; "
-                   f"{it_b} barrier + {it_p} Newton iterations")
-            if pre_msg:
-                msg += f"; note: {pre_msg}"
-            if amsg:
-                return result(n, lam, False, it_b + it_p, amsg), amsg, it_p
-            if not ok_b:
-                msg += "; note: barrier stage hit its iteration limit"
-            return result(n, lam, True, it_b + it_p, msg), msg, it_p
-        return None, "active-set loop limit reached", it_p
+    nu_b, eta, eta_prev, it_b, ok_b = barrier(red.dual, red.c, nu0, max_iter)
+    bp = _BarrierPoint(nu_b, eta, eta_prev, it_b, ok_b)
+    h_b = red.dual.h(nu_b)
 
     # Initial active sets, tried in turn: (1) multiplier larger than slack, or not
     # falling like 1/t between the last two barrier parameters (t grew 20-fold);
@@ -614,12 +375,12 @@ def minimise_gibbs(problem: MinimiserInputs, *, tol=1e-12, max_iter=500) -> Mini
     if not first.any():
         first[int(np.argmax(eta))] = True
     tried, it_p, msgs = [], 0, []
-    for start_set in (first, eta > 1e-30, np.ones(m, dtype=bool)):
+    for start_set in (first, eta > 1e-30, np.ones(red.dual.m, dtype=bool)):
         if not start_set.any() or any(np.array_equal(start_set, t_) for t_ in tried):
             continue
         tried.append(start_set)
-        res, why, it_p = polish(start_set, it_p)
+        res, why, it_p = _polish(problem, red, bp, start_set, it_p, tol, max_iter)
         if res is not None:
             return res
         msgs.append(why)
-    return fallback("; ".join(msgs) + "; barrier estimate returned", it_p)
+    return _fallback(problem, red, bp, "; ".join(msgs) + "; barrier estimate returned", it_p)

@@ -17,9 +17,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..case import Case, feed_moles
+from ..case import Case
 from ..stoichiometry import ReactionAnalysis, basis_within
-from ..system import ChemicalSystem
+from ..system import ChemicalSystem, feed_moles
 from .model import IDEAL_MODELS, PhaseModel
 
 RESTARTS = 2        # cantera restarts from other starting estimates for the uniqueness check

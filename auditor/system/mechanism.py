@@ -1,342 +1,26 @@
-"""Chemical system: phases, phase-species, elements and the exact formula matrix.
+"""Phases, species and reactions of a Cantera-format YAML mechanism file.
 
-A *phase-species* is one species in one phase (design §2); H2O in a gas and H2O in a
-liquid are two phase-species, and the transfer between them is a reaction like any
-other.  The formula matrix ``A`` has one row per element that occurs, plus a row
-``charge`` when any species is charged (the electron is a species; cantera's pseudo
-element ``E`` is replaced by the charge row so that it is not counted twice).
-
-Two sources: a Cantera-format YAML mechanism (all its phases or the ones named), or
-species lists per phase picked from the thermo databases that ship with cantera
-(``nasa_gas.yaml`` for an ideal-gas phase, ``nasa_condensed.yaml`` for condensed phases).
+A phase is loaded once per file version (``cantera_phase``) and shared by every stage.
+Reaction coefficients are made exact; interfaces conserve their sites unless a reaction
+creates or removes them; two models of one mixture (an ideal gas and its real-gas twin) are
+alternatives, not two phases.
 """
 from __future__ import annotations
 
 import dataclasses
-import difflib
 import functools
 import re
 import warnings
-from dataclasses import dataclass
 from fractions import Fraction
 from pathlib import Path
-from typing import Iterator, Mapping, Sequence
+from typing import Mapping, Sequence
 
+from ..errors import CoefficientError, MechanismError, Problem
+from ..exact import as_simple_fraction
+from ..settings import COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE
+from .assemble import _assemble, _cantera, _site_sizes
+from .records import INTERFACE_MODELS, ChemicalSystem, MechanismReaction, unknown_name_message
 
-from .cache import remember
-from .errors import CoefficientError, MechanismError, Problem
-from .settings import COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE
-from .exact import as_simple_fraction
-
-GAS_DATABASE = "nasa_gas.yaml"
-SITES_PREFIX = "sites of "   # name of an interface's site-conservation row: "sites of Pt_surf"
-# cantera thermo models of interfaces: their species occupy sites (cantera's Species.size)
-INTERFACE_MODELS = ("ideal-surface", "coverage-dependent-surface", "edge")
-CONDENSED_DATABASE = "nasa_condensed.yaml"
-CHARGE = "charge"
-
-
-class Formula(Mapping[str, Fraction]):
-    """Exact read-only mapping element -> amount; equality and hash are exact."""
-
-    __slots__ = ("_items",)
-
-    def __init__(self, items: Mapping[str, object] | Sequence[tuple[str, object]] = ()):
-        pairs = items.items() if isinstance(items, Mapping) else items
-        # whole amounts kept as int (equal, with equal hashes, to the Fraction): one exact form
-        self._items = tuple(sorted((str(k), _exact_value(v)) for k, v in pairs if v != 0))
-
-    def __getitem__(self, key: str) -> Fraction:
-        for k, v in self._items:
-            if k == key:
-                return v
-        raise KeyError(key)
-
-    def __iter__(self) -> Iterator[str]:
-        return (k for k, _ in self._items)
-
-    # direct versions of the Mapping mixins (which go through __getitem__, a linear search)
-    def get(self, key: str, default=None):
-        for k, v in self._items:
-            if k == key:
-                return v
-        return default
-
-    def items(self):
-        return self._items
-
-    def values(self):
-        return tuple(v for _, v in self._items)
-
-    def __len__(self) -> int:
-        return len(self._items)
-
-    def __hash__(self) -> int:
-        return hash(self._items)
-
-    def __eq__(self, other: object) -> bool:
-        if isinstance(other, Formula):
-            return self._items == other._items
-        if isinstance(other, Mapping):
-            return self == Formula(other)
-        return NotImplemented
-
-    def __repr__(self) -> str:
-        return "Formula({" + ", ".join(f"{k!r}: {v}" for k, v in self._items) + "})"
-
-
-def _exact_value(v) -> int | Fraction:
-    if type(v) is int:
-        return v
-    f = Fraction(v)
-    return f.numerator if f.denominator == 1 else f
-
-
-@dataclass(frozen=True)
-class SpeciesDef:
-    """One phase-species."""
-
-    name: str            # the species name in its source
-    phase: str           # the phase it belongs to
-    label: str           # unique label in the system: name, or name[phase] when ambiguous
-    formula: Formula     # atoms per molecule (the electron pseudo-element excluded)
-    charge: Fraction
-    t_min: float         # thermo data validity range, K
-    t_max: float
-    database: str        # file the species definition came from
-    molar_mass: float = float("nan")   # kg/kmol (g/mol), cantera's molecular_weight
-
-
-@dataclass(frozen=True)
-class PhaseDef:
-    name: str
-    model: str           # cantera thermo model: ideal-gas, fixed-stoichiometry, ideal-condensed, ...
-    species: tuple[str, ...]  # labels of its phase-species
-    is_gas: bool
-
-
-@dataclass(frozen=True)
-class MechanismReaction:
-    """A reaction read from a mechanism: its equation and net exact stoichiometry."""
-
-    equation: str
-    stoich: tuple[tuple[int, int | Fraction], ...]  # (phase-species index, net coefficient, products > 0)
-    phase: str
-
-
-@dataclass(frozen=True)
-class ChemicalSystem:
-    source: str                       # "packaged" or the mechanism path
-    phases: tuple[PhaseDef, ...]
-    species: tuple[SpeciesDef, ...]   # phase-species, phase by phase
-    elements: tuple[str, ...]         # rows of the formula matrix (may end with "charge")
-    formula_matrix: tuple[tuple[Fraction | int, ...], ...]
-    reactions: tuple[MechanismReaction, ...] = ()   # the mechanism's own reactions, if any
-    library_warnings: tuple[str, ...] = ()          # what cantera warned about while loading
-    file_phases: tuple[str, ...] = ()               # every phase the mechanism file defines
-    set_aside: tuple[tuple[str, str], ...] = ()     # (phase not used, the alternative model used instead)
-    site_creating: tuple[str, ...] = ()             # interfaces whose reactions change their site total
-
-    @functools.cached_property
-    def labels(self) -> tuple[str, ...]:
-        return tuple(s.label for s in self.species)
-
-    @property
-    def n_species(self) -> int:
-        return len(self.species)
-
-    def index(self, label: str) -> int:
-        return self._index()[label]
-
-    def find(self, name: str) -> list[int]:
-        """Indices of phase-species whose label or plain name is ``name``."""
-        idx = self._index()
-        if name in idx:
-            return [idx[name]]
-        return [i for i, s in enumerate(self.species) if s.name == name]
-
-    def index_in(self, name: str, phase: str) -> int:
-        """Index of the phase-species called ``name`` (label or plain name) in ``phase``."""
-        return next(i for i in self.find(name) if self.species[i].phase == phase)
-
-    def phase(self, name: str) -> PhaseDef:
-        for p in self.phases:
-            if p.name == name:
-                return p
-        raise KeyError(name)
-
-    def phase_indices(self, name: str) -> list[int]:
-        return [i for i, s in enumerate(self.species) if s.phase == name]
-
-    def column(self, k: int) -> dict[int, Fraction | int]:
-        """Sparse column ``k`` of the formula matrix."""
-        return {e: row[k] for e, row in enumerate(self.formula_matrix) if row[k] != 0}
-
-    def _index(self) -> dict[str, int]:
-        return _label_index(self.labels)
-
-
-@functools.lru_cache(maxsize=64)
-def _label_index(labels: tuple[str, ...]) -> dict[str, int]:
-    return {lab: i for i, lab in enumerate(labels)}
-
-
-def _close(name: str, known: Sequence[str], n: int = 5) -> list[str]:
-    """Closest names, comparing case-insensitively (``HCl`` finds ``HCL``)."""
-    upper = {k.upper(): k for k in known}
-    hits = difflib.get_close_matches(name.upper(), list(upper), n=n, cutoff=0.6)
-    return [upper[h] for h in hits]
-
-
-def unknown_name_message(kind: str, name: str, known: Sequence[str], where: str) -> str:
-    hint = _close(name, known)
-    tail = f"; closest names: {', '.join(hint)}" if hint else ""
-    return f"unknown {kind} {name!r} in {where}{tail}"
-
-
-def _cantera():
-    import cantera as ct
-    return ct
-
-
-@functools.lru_cache(maxsize=4)
-def packaged_species(database: str) -> dict[str, object]:
-    """Species of a database shipped with cantera, by name (cached: parsing costs ~0.3 s)."""
-    ct = _cantera()
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        return {s.name: s for s in ct.Species.list_from_file(database)}
-
-
-def _formula_and_charge(sp, source: str = "") -> tuple[Formula, Fraction]:
-    comp = {k: v for k, v in sp.composition.items() if k not in ("E",)}
-    formula = {}
-    for k, v in comp.items():
-        if float(v).is_integer():
-            formula[k] = int(v)
-            continue
-        f = as_simple_fraction(v, COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE)
-        if f is None:
-            raise MechanismError.single(source or "mechanism", f"species {sp.name}: element amount {v!r} of {k} is "
-                                        f"not within {COEFFICIENT_TOLERANCE:g} of a fraction with denominator <= "
-                                        f"{COEFFICIENT_MAX_DENOMINATOR}", "species")
-        formula[k] = f
-    charge = as_simple_fraction(sp.charge, COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE) or Fraction(0)
-    return Formula(formula), charge
-
-
-def _site_sizes(source: str, sps) -> dict[str, Fraction]:
-    """Sites each species of an interface occupies (cantera's ``Species.size``; ``sites:`` in
-    the file, 1 by default), exact."""
-    out = {}
-    for sp in sps:
-        f = as_simple_fraction(float(sp.size), COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE)
-        if f is None or f <= 0:
-            raise MechanismError.single(source or "mechanism", f"species {sp.name}: site size {sp.size!r} is not a "
-                                        f"positive fraction with denominator <= {COEFFICIENT_MAX_DENOMINATOR}",
-                                        "species")
-        out[sp.name] = f
-    return out
-
-
-def _thermo_range(sp) -> tuple[float, float]:
-    try:
-        return float(sp.thermo.min_temp), float(sp.thermo.max_temp)
-    except Exception:  # a species without a parametrised thermo model
-        return 0.0, float("inf")
-
-
-def _assemble(source: str, raw: list[tuple[str, str, bool, list]], reactions=(), library_warnings=(),
-              site_phases: Sequence[str] = ()) -> ChemicalSystem:
-    """raw: (phase name, model, is_gas, [cantera Species]) in order; ``site_phases``: the
-    interfaces whose total site count is a conserved row ("sites of PHASE")."""
-    counts: dict[str, int] = {}
-    for _, _, _, sps in raw:
-        for sp in sps:
-            counts[sp.name] = counts.get(sp.name, 0) + 1
-    species: list[SpeciesDef] = []
-    phases: list[PhaseDef] = []
-    elements: list[str] = []
-    charged = False
-    for pname, model, is_gas, sps in raw:
-        labels = []
-        for sp in sps:
-            formula, charge = _formula_and_charge(sp, source)
-            label = sp.name if counts[sp.name] == 1 else f"{sp.name}[{pname}]"
-            t_min, t_max = _thermo_range(sp)
-            species.append(SpeciesDef(sp.name, pname, label, formula, charge, t_min, t_max, source,
-                                      float(sp.molecular_weight)))
-            labels.append(label)
-            for e in formula:
-                if e not in elements:
-                    elements.append(e)
-            charged = charged or charge != 0
-        phases.append(PhaseDef(pname, model, tuple(labels), is_gas))
-    rows = [tuple(_norm(s.formula.get(e, 0)) for s in species) for e in elements]
-    for pname in site_phases:
-        sizes = _site_sizes(source, next(sps for n, _, _, sps in raw if n == pname))
-        rows.append(tuple(_norm(sizes[s.name]) if s.phase == pname else 0 for s in species))
-        elements.append(SITES_PREFIX + pname)
-    if charged:
-        elements.append(CHARGE)
-        rows.append(tuple(_norm(s.charge) for s in species))
-    return ChemicalSystem(source, tuple(phases), tuple(species), tuple(elements), tuple(rows), tuple(reactions),
-                          tuple(library_warnings))
-
-
-def _norm(x: Fraction) -> Fraction | int:
-    if type(x) is int:
-        return x
-    x = Fraction(x)
-    return x.numerator if x.denominator == 1 else x
-
-
-# ---------------------------------------------------------------- packaged databases
-
-def from_packaged(phases: Mapping[str, Sequence[str]], where: str = "system.phases") -> ChemicalSystem:
-    """Phases of species picked by name from the databases shipped with cantera.
-
-    Raises
-    ------
-    MechanismError
-        Listing every unknown species (with the closest known names) and every phase
-        that mixes gas and condensed species.
-    """
-    gas_db = packaged_species(GAS_DATABASE)
-    cond_db = packaged_species(CONDENSED_DATABASE)
-    problems: list[Problem] = []
-    raw = []
-    for pname, names in phases.items():
-        sps, kinds = [], set()
-        for i, name in enumerate(names):
-            if name in gas_db:
-                sps.append(gas_db[name]); kinds.add("gas")
-            elif name in cond_db:
-                sps.append(cond_db[name]); kinds.add("condensed")
-            else:
-                problems.append(Problem("packaged databases", unknown_name_message(
-                    "species", name, list(gas_db) + list(cond_db), f"{GAS_DATABASE} or {CONDENSED_DATABASE}"),
-                    f"{where}.{pname}[{i}]"))
-        if len(kinds) > 1:
-            problems.append(Problem("packaged databases", f"phase {pname!r} mixes gas species "
-                                    f"({', '.join(n for n in names if n in gas_db)}) with condensed species "
-                                    f"({', '.join(n for n in names if n in cond_db)}); put them in separate phases",
-                                    f"{where}.{pname}"))
-        if not names:
-            problems.append(Problem("packaged databases", f"phase {pname!r} lists no species", f"{where}.{pname}"))
-        twice = sorted({n for n in names if list(names).count(n) > 1})
-        if twice:
-            problems.append(Problem("packaged databases", f"phase {pname!r} lists {', '.join(twice)} more than once",
-                                    f"{where}.{pname}"))
-        is_gas = kinds == {"gas"}
-        model = "ideal-gas" if is_gas else ("fixed-stoichiometry" if len(sps) == 1 else "ideal-condensed")
-        raw.append((pname, model, is_gas, sps))
-    if problems:
-        raise MechanismError(problems)
-    return _assemble("packaged", raw)
-
-
-# ---------------------------------------------------------------- mechanism files
 
 def shipped_data_file(name: str) -> Path | None:
     """A data file shipped with cantera (``gri30.yaml``, ``example_data/...``), for a name not
@@ -500,22 +184,22 @@ def _load_phase(ct, path: Path, name: str, notes: list[str]):
     return sol
 
 
-_LOADED: dict = {}   # (file, phase, mtime, size) -> (cantera object, cantera's warnings)
+@functools.lru_cache(maxsize=64)
+def _loaded(path_text: str, name: str, _mtime: int, _size: int) -> tuple[object, tuple[str, ...]]:
+    """One phase of one version of a mechanism file (the modification time and size make a
+    changed file load again), and what cantera warned while building it."""
+    notes: list[str] = []
+    sol = _load_phase(_cantera(), Path(path_text), name, notes)
+    return sol, tuple(notes)
 
 
 def cantera_phase(path: str | Path, name: str):
     """The cantera object of one phase of a mechanism file, and what cantera warned while
     building it; built once per file version and shared by every stage (building a large
     mechanism takes seconds).  Callers only read it or set its state."""
-    ct = _cantera()
     path = Path(path)
     st = path.stat()
-    key = (str(path.resolve()), name, st.st_mtime_ns, st.st_size)
-    if key not in _LOADED:
-        notes: list[str] = []
-        sol = _load_phase(ct, path, name, notes)
-        remember(_LOADED, key, (sol, tuple(notes)), 64)
-    return _LOADED[key]
+    return _loaded(str(path.resolve()), name, st.st_mtime_ns, st.st_size)
 
 
 def _library_note(message) -> str:
@@ -734,40 +418,3 @@ def from_mechanism(path: str | Path, phase_names: Sequence[str] | None = None,
     for name, sol in kinetic:
         reactions.extend(_mechanism_reactions(ct, path, name, sol, offsets, [sp.name for sp in system.species]))
     return dataclasses.replace(system, reactions=tuple(reactions))
-
-
-_FORMULA_TOKEN = re.compile(r"([A-Z][a-z]?)(\d*)")
-
-
-def _parse_formula(text: str) -> dict[str, int] | None:
-    """``CH4O`` -> {C: 1, H: 4, O: 1}; None when the text is not a plain formula."""
-    if not text or "".join(m.group(0) for m in _FORMULA_TOKEN.finditer(text)) != text:
-        return None
-    out: dict[str, int] = {}
-    for el, n in _FORMULA_TOKEN.findall(text):
-        out[el.upper()] = out.get(el.upper(), 0) + int(n or 1)
-    return out
-
-
-def search_species(query: str, limit: int = 40) -> list[dict]:
-    """Species of the packaged databases whose name contains ``query`` (any case) or whose
-    formula equals it; exact name matches first."""
-    q = query.strip()
-    formula = _parse_formula(q)
-    hits = []
-    for db, kind in ((GAS_DATABASE, "gas"), (CONDENSED_DATABASE, "condensed")):
-        for name, sp in packaged_species(db).items():
-            comp = {k.upper(): v for k, v in sp.composition.items() if k != "E"}
-            by_formula = formula is not None and comp == {k: float(v) for k, v in formula.items()}
-            if q.upper() in name.upper() or by_formula:
-                t_min, t_max = _thermo_range(sp)
-                hits.append({"name": name, "kind": kind, "database": db,
-                             "formula": "".join(f"{k}{'' if v == 1 else int(v) if float(v).is_integer() else v}"
-                                                for k, v in sp.composition.items() if k != "E"),
-                             "charge": int(sp.charge) if float(sp.charge).is_integer() else sp.charge,
-                             "t_min": t_min, "t_max": t_max,
-                             "_rank": (name.upper() != q.upper(), not by_formula, not name.upper().startswith(q.upper()), len(name))})
-    hits.sort(key=lambda h: h["_rank"])
-    for h in hits:
-        del h["_rank"]
-    return hits[:limit]
