@@ -84,7 +84,45 @@ def counting_stages(case: Case, system: ChemicalSystem | None = None):
 def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) -> AuditResult:
     """Audit one validated case (its system may be passed in when already built)."""
     system, reactions, analysis, count, spec = counting_stages(case, system)
-    findings = _reaction_findings(analysis)
+    findings = _reaction_findings(analysis) + _system_findings(system) + _count_findings(count)
+    findings += _specification_findings(spec)
+    F = count.degrees_of_freedom
+
+    equilibrium = None
+    if confirm and case.feed is not None:
+        from .equilibrium import confirm as confirm_equilibrium
+        equilibrium = confirm_equilibrium(case, system, analysis, count, spec)
+        findings.extend(equilibrium.findings)
+        found = equilibrium.phases_present
+        if equilibrium.solved and set(found) != set(count.coexisting) and found:
+            actual = count_phase_rule(replace(case, coexisting=tuple(found)), system, reactions, analysis)
+            findings.append(Finding("warning", "phase-rule", f"for the phases found present ({', '.join(found)}) the "
+                                    f"phase rule gives N = {actual.n_species}, pi = {actual.n_phases}, m = "
+                                    f"{actual.independent_reactions}, r = {actual.restrictions}, F = "
+                                    f"{actual.degrees_of_freedom}; revise 'coexisting' or the specifications",
+                                    tuple(found)))
+        if case.reactions == "complete":
+            findings.extend(hindered_product_findings(case, system, equilibrium))
+
+    # verdict before claims
+    verdict = spec.status
+    if analysis.unbalanced or F < 0 or count.empty_phases:
+        verdict = "inconsistent"
+    elif verdict == "well-posed" and equilibrium is not None and not equilibrium.confirmed:
+        verdict = "not-confirmed"
+
+    checks, claim_findings = _claim_checks(case, count, equilibrium, verdict)
+    findings += claim_findings
+    if any(c.held is False for c in checks):
+        verdict = "inconsistent"
+    reason = verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks)
+    return AuditResult(case, system, analysis, count, spec, equilibrium, tuple(checks), tuple(findings), verdict,
+                       reason)
+
+
+def _system_findings(system: ChemicalSystem) -> list[Finding]:
+    """What cantera warned while loading, phases set aside, interfaces whose sites are not conserved."""
+    findings = []
     for w in system.library_warnings:
         severity = "warning" if "discontinuity" in w.lower() or "outside" in w.lower() else "note"
         findings.append(Finding(severity, "data", f"cantera: {w}"))
@@ -95,6 +133,12 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     for phase in system.site_creating:
         findings.append(Finding("note", "reactions", f"the mechanism's reactions create or remove sites of {phase}, "
                                 "so its site total is not a conserved quantity", (phase,)))
+    return findings
+
+
+def _count_findings(count: PhaseRuleCount) -> list[Finding]:
+    """Empty and excluded phases, a negative F, restrictions counted once, what the feed fixes."""
+    findings = []
     F = count.degrees_of_freedom
     for phase in count.empty_phases:
         findings.append(Finding("error", "phase-rule", f"phase {phase} is assumed to coexist but none of its species "
@@ -123,6 +167,11 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
                                     "counted in r)", (phase,)))
         else:
             findings += [Finding("note", "phase-rule", f"the feed imposes {rel.text}", (rel.phase,)) for rel in rels]
+    return findings
+
+
+def _specification_findings(spec: SpecificationAudit) -> list[Finding]:
+    findings = []
     if spec.status != "well-posed":
         findings.append(Finding("error", "specification", f"{spec.status}: {spec.reasons[-1] if len(spec.reasons) > 1 else spec.reasons[0]}"
                                 + (f"; {spec.suggestion}" if spec.suggestion else ""),
@@ -130,30 +179,14 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     if spec.conflicting and spec.status == "over-specified":
         findings.append(Finding("error", "specification", "conflicting specifications: " + "; ".join(spec.conflicting),
                                 spec.conflicting))
+    return findings
 
-    equilibrium = None
-    if confirm and case.feed is not None:
-        from .equilibrium import confirm as confirm_equilibrium
-        equilibrium = confirm_equilibrium(case, system, analysis, count, spec)
-        findings.extend(equilibrium.findings)
-        found = equilibrium.phases_present
-        if equilibrium.solved and set(found) != set(count.coexisting) and found:
-            actual = count_phase_rule(replace(case, coexisting=tuple(found)), system, reactions, analysis)
-            findings.append(Finding("warning", "phase-rule", f"for the phases found present ({', '.join(found)}) the "
-                                    f"phase rule gives N = {actual.n_species}, pi = {actual.n_phases}, m = "
-                                    f"{actual.independent_reactions}, r = {actual.restrictions}, F = "
-                                    f"{actual.degrees_of_freedom}; revise 'coexisting' or the specifications",
-                                    tuple(found)))
-        if case.reactions == "complete":
-            findings.extend(hindered_product_findings(case, system, equilibrium))
 
-    # verdict before claims
-    verdict = spec.status
-    if analysis.unbalanced or F < 0 or count.empty_phases:
-        verdict = "inconsistent"
-    elif verdict == "well-posed" and equilibrium is not None and not equilibrium.confirmed:
-        verdict = "not-confirmed"
-
+def _claim_checks(case: Case, count: PhaseRuleCount, equilibrium, verdict: str) -> tuple[list[ClaimCheck], list[Finding]]:
+    """Each claim of the case against what the audit found, and a finding for each that is
+    refuted or cannot be checked."""
+    F = count.degrees_of_freedom
+    findings: list[Finding] = []
     checks = []
     for name, claimed in case.claims:
         found: Any
@@ -175,11 +208,7 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
         elif held is None:
             findings.append(Finding("warning", "claims", f"claim {name} = {show_value(claimed)} could not be checked "
                                     "(no equilibrium was computed)", (name,)))
-    if any(c.held is False for c in checks):
-        verdict = "inconsistent"
-    reason = verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks)
-    return AuditResult(case, system, analysis, count, spec, equilibrium, tuple(checks), tuple(findings), verdict,
-                       reason)
+    return checks, findings
 
 
 def hindered_product_findings(case: Case, system: ChemicalSystem, equilibrium) -> list[Finding]:

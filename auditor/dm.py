@@ -183,7 +183,8 @@ def _ordered_blocks(
     return ordered
 
 
-def _tup(mask_or_idx: np.ndarray) -> tuple[int, ...]:
+def _sorted_indices(mask_or_idx: np.ndarray) -> tuple[int, ...]:
+    """The indices a boolean mask selects, or the given indices, sorted, as a tuple."""
     idx = np.flatnonzero(mask_or_idx) if mask_or_idx.dtype == bool else np.sort(mask_or_idx)
     return tuple(idx.tolist())
 
@@ -213,6 +214,8 @@ def dulmage_mendelsohn(
         Coarse parts, one maximum matching and the block triangular fine
         decomposition of the square part.
     """
+    # longer than 80 lines on purpose: one pass over the matching and its alternating paths; the three parts
+    # share its arrays
     small = not _is_sparse(incidence) and n_rows is not None and n_cols is not None
     if small:
         rows, cols = _pairs(incidence, n_rows, n_cols)
@@ -265,17 +268,17 @@ def dulmage_mendelsohn(
     blocks = []
     for grp in _ordered_blocks(src, dst, sq_rows.size):
         b_rows = sq_rows[grp]  # grp is ascending, hence so is b_rows
-        blocks.append((tuple(b_rows.tolist()), _tup(col_of_row[b_rows])))
+        blocks.append((tuple(b_rows.tolist()), _sorted_indices(col_of_row[b_rows])))
 
     r_idx = np.flatnonzero(matched)
     return DMDecomposition(
         matching=tuple(zip(r_idx.tolist(), col_of_row[r_idx].tolist())),
-        over_rows=_tup(over_r),
-        over_cols=_tup(over_c),
-        square_rows=_tup(sq_r),
-        square_cols=_tup(sq_c),
-        under_rows=_tup(under_r),
-        under_cols=_tup(under_c),
+        over_rows=_sorted_indices(over_r),
+        over_cols=_sorted_indices(over_c),
+        square_rows=_sorted_indices(sq_r),
+        square_cols=_sorted_indices(sq_c),
+        under_rows=_sorted_indices(under_r),
+        under_cols=_sorted_indices(under_c),
         blocks=tuple(blocks),
     )
 
@@ -294,6 +297,8 @@ def _plain(m: int, n: int, rows: list[int], cols: list[int]) -> DMDecomposition:
     algorithm with the smallest row first among ready blocks.  The coarse parts and the
     blocks do not depend on the matching, so both paths give the same parts.
     """
+    # longer than 80 lines on purpose: the plain-Python twin of the scipy route, kept in one piece to compare
+    # line by line
     adj: list[list[int]] = [[] for _ in range(m)]
     for r, c in sorted(set(zip(rows, cols))):
         adj[r].append(c)

@@ -139,6 +139,8 @@ def _count_declared(rel: Relation, u, counted, feed_only, relations, double) -> 
 def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
           analysis: ReactionAnalysis) -> PhaseRuleCount:
     """Phase-rule count for a case over its assumed coexisting phases."""
+    # longer than 80 lines on purpose: the terms N, pi, m, r are counted from one set of present species, in
+    # the order of the explanation
     labels = system.labels
     coexisting = case.coexisting or tuple(p.name for p in system.phases)
     n0: dict[int, Fraction] = {}

@@ -236,6 +236,8 @@ def analyse(system: ChemicalSystem, reactions: Sequence[Reaction],
     """Complete exact account of a list of reactions over the system's phase-species.
     ``basis``: the system's ``derived_basis`` when the caller has it already (it is the
     reaction list of a case that asks for the complete set)."""
+    # longer than 80 lines on purpose: one exact elimination carried through rank, dependents, frozen
+    # directions and conserved quantities
     n = system.n_species
     rows = [row for row in system.formula_matrix]
     element_pivots = exact.pivot_rows([list(r) for r in rows]) if rows else []

@@ -13,7 +13,8 @@ import pytest
 PACKAGE = Path(__file__).resolve().parent.parent / "auditor"
 PRESENTATION = {"cli", "report", "__main__"}
 COMPUTATION = sorted([*(p for p in PACKAGE.glob("*.py") if p.stem not in PRESENTATION),
-                      *PACKAGE.glob("equilibrium/*.py"), *PACKAGE.glob("system/*.py")])
+                      *PACKAGE.glob("equilibrium/*.py"), *PACKAGE.glob("system/*.py"),
+                      *PACKAGE.glob("case/*.py")])
 
 
 def imports_of(path: Path) -> set[str]:

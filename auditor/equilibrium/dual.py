@@ -132,6 +132,8 @@ def kkt_newton(dual, c, nu, sol_act, lnN, pure_act, npure, tol, max_iter):
     [[sum_i N_i Cov_i, B], [B^T, 0]], B = [a_i..., C_j...].
     Returns (status, nu, lnN, npure, iterations); status is "ok", "collapse:i" or "fail".
     """
+    # longer than 80 lines on purpose: one Newton loop; residual, Jacobian and step share the active set's
+    # index arrays
     r = dual.r
     ns = dual.ns
     cols = list(sol_act) + [ns + j for j in pure_act]

@@ -8,15 +8,16 @@ element ``E`` is replaced by the charge row so that it is not counted twice).
 
 Rooms: ``records.py`` (the frozen records), ``assemble.py`` (a system from cantera
 species), ``packaged.py`` (species picked from the databases that ship with cantera),
-``mechanism.py`` (a Cantera-format YAML mechanism: all its phases or the ones named),
+``mechanism_file.py`` (what a mechanism file declares), ``mechanism.py`` (its phases loaded
+by cantera: all of them or the ones named),
 ``from_case.py`` (the system a case describes, and the check of the names it uses).
 """
 from __future__ import annotations
 
 from .from_case import build_system, check_names, feed_moles, matching_species
-from .mechanism import (alternative_pairs, alternatives_message, are_alternatives, cantera_phase, default_phases,
-                        from_mechanism, load_phases, mechanism_phase_entries, mechanism_phase_names,
-                        shipped_data_file)
+from .mechanism import cantera_phase, from_mechanism, load_phases
+from .mechanism_file import (alternative_pairs, alternatives_message, are_alternatives, default_phases,
+                             mechanism_phase_entries, mechanism_phase_names, shipped_data_file)
 from .packaged import from_packaged, packaged_species, search_species
 from .records import (CHARGE, CONDENSED_DATABASE, GAS_DATABASE, INTERFACE_MODELS, SITES_PREFIX, ChemicalSystem,
                       Formula, MechanismReaction, PhaseDef, SpeciesDef, unknown_name_message)

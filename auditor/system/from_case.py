@@ -9,7 +9,8 @@ from typing import TYPE_CHECKING
 
 from ..errors import CaseError, InputError, Problem
 from ..yaml_nodes import ranked
-from .mechanism import alternative_pairs, alternatives_message, from_mechanism, mechanism_phase_names
+from .mechanism import from_mechanism
+from .mechanism_file import alternative_pairs, alternatives_message, mechanism_phase_names
 from .packaged import from_packaged
 from .records import ChemicalSystem, unknown_name_message
 

@@ -1,0 +1,175 @@
+"""Reading what a case fixes and claims: ``specified``, ``restrictions`` and ``claims``."""
+from __future__ import annotations
+
+from typing import Any
+
+from ..yaml_nodes import NodeMapping, NodeReader, kind_of, suggest
+from .records import (DeclaredRestriction, MoleFractionSpec, PhaseFractionSpec, RatioSpec, Specified,
+                      parse_quantity)
+
+SPECIFIED_KEYS = ("temperature", "pressure", "mole-fractions", "ratios", "phase-fractions", "adiabatic")
+RATIO_KEYS = ("phase", "numerator", "denominator", "value")
+CLAIM_KEYS = ("independent-reactions", "degrees-of-freedom", "components", "phases-present", "verdict")
+VERDICTS = ("well-posed", "under-specified", "over-specified", "inconsistent", "not-confirmed")
+
+
+def _read_ratio(rd: NodeReader, node, kp: str) -> RatioSpec | None:
+    m = rd.want_mapping(node, kp)
+    if m is None:
+        return None
+    rd.check_keys(m, RATIO_KEYS, kp)
+    missing = [k for k in RATIO_KEYS if k not in m]
+    if missing:
+        rd.problem(node, kp, f"missing key(s) {', '.join(missing)} (a ratio needs phase, numerator, denominator, value)")
+        return None
+    phase = rd.want_str(m["phase"][1], f"{kp}.phase", "a phase name")
+    num = rd.want_str(m["numerator"][1], f"{kp}.numerator", "a species name")
+    den = rd.want_str(m["denominator"][1], f"{kp}.denominator", "a species name")
+    val = rd.want_fraction(m["value"][1], f"{kp}.value", "the ratio value")
+    if val is not None and val <= 0:
+        rd.problem(m["value"][1], f"{kp}.value", f"a ratio of mole fractions must be positive, got {val:g}")
+        return None
+    if num is not None and num == den:
+        rd.problem(node, kp, "numerator and denominator are the same species")
+        return None
+    if None in (phase, num, den, val):
+        return None
+    return RatioSpec(phase, num, den, val, kp)
+
+
+def _read_positive(rd: NodeReader, sm: NodeMapping, key: str, kind: str, unit: str, what: str) -> float | None:
+    """A temperature or pressure above zero, or None with the problem recorded."""
+    if key not in sm:
+        return None
+    vn, kp = rd.get(sm, key), f"specified.{key}"
+    try:
+        value = parse_quantity(rd.value_of(vn, kp), kind)
+    except ValueError as exc:
+        rd.problem(vn, kp, str(exc))
+        return None
+    if value <= 0:
+        rd.problem(vn, kp, f"{what}, got {value:g} {unit}")
+        return None
+    return value
+
+
+def _read_mole_fractions(rd: NodeReader, node) -> tuple[MoleFractionSpec, ...]:
+    mfs = []
+    mm = rd.want_mapping(node, "specified.mole-fractions")
+    for ph, (kn, vn) in (mm or {}).items():
+        inner = rd.want_mapping(vn, f"specified.mole-fractions.{ph}")
+        for sp, (kn2, vn2) in (inner or {}).items():
+            kp = f"specified.mole-fractions.{ph}.{sp}"
+            x = rd.open_fraction(vn2, kp, "a mole fraction")
+            if x is not None:
+                mfs.append(MoleFractionSpec(ph, sp, x, kp))
+    return tuple(mfs)
+
+
+def _read_phase_fractions(rd: NodeReader, node) -> tuple[PhaseFractionSpec, ...]:
+    pfs = []
+    pm = rd.want_mapping(node, "specified.phase-fractions")
+    for ph, (kn, vn) in (pm or {}).items():
+        kp = f"specified.phase-fractions.{ph}"
+        x = rd.open_fraction(vn, kp, "a phase fraction (moles of phase / all moles)")
+        if x is not None:
+            pfs.append(PhaseFractionSpec(ph, x, kp))
+    return tuple(pfs)
+
+
+def _read_adiabatic(rd: NodeReader, node) -> float | None:
+    """The feed temperature of an adiabatic enthalpy balance, K."""
+    am = rd.want_mapping(node, "specified.adiabatic")
+    if am is None:
+        return None
+    rd.check_keys(am, ("feed-temperature",), "specified.adiabatic")
+    if "feed-temperature" not in am:
+        rd.problem(node, "specified.adiabatic", "missing key 'feed-temperature'")
+        return None
+    vn = rd.get(am, "feed-temperature")
+    kp = "specified.adiabatic.feed-temperature"
+    try:
+        adiabatic = parse_quantity(rd.value_of(vn, kp), "temperature")
+    except ValueError as exc:
+        rd.problem(vn, kp, str(exc))
+        return None
+    if adiabatic <= 0:
+        rd.problem(vn, kp, "temperature must be above absolute zero")
+        return None
+    return adiabatic
+
+
+def read_specified(rd: NodeReader, spnode) -> Specified:
+    if spnode is None:
+        return Specified()
+    sm = rd.want_mapping(spnode, "specified")
+    if sm is None:
+        return Specified()
+    rd.check_keys(sm, SPECIFIED_KEYS, "specified")
+    temperature = _read_positive(rd, sm, "temperature", "temperature", "K", "temperature must be above absolute zero")
+    pressure = _read_positive(rd, sm, "pressure", "pressure", "Pa", "pressure must be positive")
+    mfs = _read_mole_fractions(rd, rd.get(sm, "mole-fractions")) if "mole-fractions" in sm else ()
+    ratios = []
+    if "ratios" in sm:
+        rl = rd.want_list(rd.get(sm, "ratios"), "specified.ratios")
+        for i, (n, _) in enumerate(rl or []):
+            r = _read_ratio(rd, n, f"specified.ratios[{i}]")
+            if r:
+                ratios.append(r)
+    pfs = _read_phase_fractions(rd, rd.get(sm, "phase-fractions")) if "phase-fractions" in sm else ()
+    adiabatic = _read_adiabatic(rd, rd.get(sm, "adiabatic")) if "adiabatic" in sm else None
+    return Specified(temperature_K=temperature, pressure_Pa=pressure, mole_fractions=mfs, ratios=tuple(ratios),
+                     phase_fractions=pfs, adiabatic_feed_temperature_K=adiabatic)
+
+
+def read_restrictions(rd: NodeReader, rsnode) -> tuple[DeclaredRestriction, ...]:
+    restrictions = []
+    rl = rd.want_list(rsnode, "restrictions") if rsnode is not None else None
+    for i, (n, v) in enumerate(rl or []):
+        kp = f"restrictions[{i}]"
+        if not isinstance(v, NodeMapping) or len(v) != 1:
+            rd.problem(n, kp, "expected one of '- ratio: {...}' or '- same-composition: [phase, phase]'")
+            continue
+        (kind, (kn, vn)), = v.items()
+        if kind == "ratio":
+            r = _read_ratio(rd, vn, f"{kp}.ratio")
+            if r:
+                restrictions.append(DeclaredRestriction("ratio", kp, ratio=r))
+        elif kind == "same-composition":
+            pl = rd.want_list(vn, f"{kp}.same-composition")
+            names = [p for _, p in (pl or []) if isinstance(p, str)]
+            if pl is not None and (len(names) != len(pl) or len(names) < 2 or len(set(names)) != len(names)):
+                rd.problem(vn, f"{kp}.same-composition", "expected a list of two or more different phase names")
+            elif pl is not None:
+                restrictions.append(DeclaredRestriction("same-composition", kp, phases=tuple(names)))
+        else:
+            rd.problem(kn, f"{kp}.{kind}", f"unknown restriction {kind!r}{suggest(kind, ('ratio', 'same-composition'))}")
+    return tuple(restrictions)
+
+
+def read_claims(rd: NodeReader, clnode) -> tuple[tuple[str, Any], ...]:
+    claims = []
+    cm = rd.want_mapping(clnode, "claims") if clnode is not None else None
+    if cm is None:
+        return ()
+    rd.check_keys(cm, CLAIM_KEYS, "claims")
+    for key, (kn, vn) in cm.items():
+        kp = f"claims.{key}"
+        v = rd.value_of(vn, kp)
+        if key in ("independent-reactions", "degrees-of-freedom", "components"):
+            if isinstance(v, bool) or not isinstance(v, int):
+                rd.problem(vn, kp, f"expected a whole number, got {kind_of(v)}")
+                continue
+        elif key == "phases-present":
+            if not isinstance(v, list) or not all(isinstance(p, str) for _, p in v):
+                rd.problem(vn, kp, "expected a list of phase names")
+                continue
+            v = tuple(sorted(p for _, p in v))
+        elif key == "verdict":
+            if v not in VERDICTS:
+                rd.problem(vn, kp, f"expected one of {', '.join(VERDICTS)}, got {kind_of(v)}")
+                continue
+        else:
+            continue
+        claims.append((key, v))
+    return tuple(claims)
