@@ -66,3 +66,9 @@ class LimitError(CaseError):
 
 class CoefficientError(MechanismError):
     """A stoichiometric coefficient is not close to a simple fraction."""
+
+
+def one_line(text: object, limit: int) -> str:
+    """An error's (or any) text on one line, whitespace runs joined, cut to ``limit`` characters:
+    how a library's message is quoted inside one of ours."""
+    return " ".join(str(text).split())[:limit]

@@ -14,7 +14,7 @@ import math
 from pathlib import Path
 
 from . import settings
-from .errors import CaseError, LimitError, Problem
+from .errors import CaseError, LimitError, Problem, one_line
 
 
 class NodeMapping(dict):
@@ -79,8 +79,8 @@ class NodeReader:
             return scalar_loader().construct_object(node)
         except (ValueError, OverflowError, yaml.YAMLError) as exc:
             # an impossible date, an unknown or python tag, '!!float abc', an integer over 4300 digits
-            what = " ".join((getattr(exc, "problem", None) or str(exc).split(";")[0]).split())
-            raise CaseError(Problem(self.file, f"cannot read this value: {what[:200]}", key_path,
+            what = one_line(getattr(exc, "problem", None) or str(exc).split(";")[0], 200)
+            raise CaseError(Problem(self.file, f"cannot read this value: {what}", key_path,
                                     node.start_mark.line + 1, node.start_mark.column + 1)) from None
 
     # ---- values of the wanted kinds; each records the problem and gives None otherwise

@@ -26,7 +26,8 @@ from ..phase_rule import PhaseRuleCount
 from ..stoichiometry import ReactionAnalysis
 from ..structure import SpecificationAudit
 from ..system import ChemicalSystem
-from .model import IDEAL_MODELS, density_table, one_line
+from ..errors import one_line
+from .model import IDEAL_MODELS, density_table
 from .result import EquilibriumCheck, PhaseState, certificate_holds
 from .routes import ROUTE_OURS, RouteSolver
 from .solve import certified_on_routes

@@ -12,6 +12,7 @@ import warnings
 
 import numpy as np
 
+from ..errors import one_line
 from ..findings import Finding
 from ..system import CONDENSED_DATABASE, GAS_DATABASE, ChemicalSystem, cantera_phase, packaged_species
 
@@ -21,11 +22,6 @@ IDEAL_MODELS = ("ideal-gas", "fixed-stoichiometry", "ideal-condensed", "ideal-so
 # cantera thermo models that cannot enter a multiphase minimisation
 UNUSABLE_MODELS = ("pure-fluid", "liquid-water-IAPWS95", "ideal-surface", "edge",
                    "coverage-dependent-surface", "electron-cloud")
-
-
-def one_line(exc: BaseException | str, limit: int) -> str:
-    """An error's text on one line (whitespace runs joined), cut to ``limit`` characters."""
-    return " ".join(str(exc).split())[:limit]
 
 
 @functools.lru_cache(maxsize=1)

@@ -17,7 +17,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import settings
-from .model import one_line
+from ..errors import one_line
 from .workspace import MixtureSlot, Workspace
 
 ROUTE_OURS = "element-potential minimiser"

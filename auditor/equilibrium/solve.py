@@ -16,13 +16,13 @@ from typing import Callable
 import numpy as np
 
 from .. import settings
+from ..errors import one_line
 from ..case import Case, Specified
 from ..findings import Finding
 from ..phase_rule import PhaseRuleCount
 from ..structure import SpecificationAudit
 from ..system import ChemicalSystem
 from .certificate import certify
-from .model import one_line
 from .result import EquilibriumCheck, certificate_failure, certificate_holds
 from .routes import RouteSolver, SolvedState, SolveError
 

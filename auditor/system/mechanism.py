@@ -14,7 +14,7 @@ from fractions import Fraction
 from pathlib import Path
 from typing import Mapping, Sequence
 
-from ..errors import CoefficientError, MechanismError, Problem
+from ..errors import CoefficientError, MechanismError, Problem, one_line
 from ..exact import as_simple_fraction
 from ..settings import COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE
 from .assemble import _assemble, _cantera, _site_sizes
@@ -54,8 +54,7 @@ def cantera_phase(path: str | Path, name: str):
 
 def _library_note(message) -> str:
     """One line from a cantera warning (kept in cantera's words)."""
-    text = " ".join(str(message).split())
-    return text[:400]
+    return one_line(message, 400)
 
 
 def _cantera_message(exc: Exception) -> str:
