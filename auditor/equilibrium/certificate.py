@@ -75,13 +75,15 @@ def absent_driving_forces(arrays: CaseArrays, groups: dict, never: dict, model_g
     return {**(better if min(better.values()) > min(base.values()) else base), **never}
 
 
-@dataclass(frozen=True)
+@dataclass(slots=True)
 class Measured:
-    """The certificate's numbers at one solved state."""
+    """The certificate's numbers at one solved state (a transient record inside ``certify``;
+    not frozen, which halves its construction cost on the path every sweep point takes)."""
 
     n: np.ndarray                  # amounts, negatives clipped
     totals: np.ndarray             # per phase
     phase_present: np.ndarray
+    present: np.ndarray            # per species: in a present phase with a positive amount
     present_names: tuple[str, ...]
     mole_fractions: np.ndarray
     balance_error: float
@@ -143,7 +145,7 @@ def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
             jac = jacobian.jacobian_rcond(jacobian.layout(ws, case, count, spec), g_dlnT, g_dlnP, n, a.phase_of, totals)
         except Exception as exc:
             findings.append(Finding("warning", "equilibrium", f"the Jacobian check could not be evaluated: {exc}"))
-    return Measured(n=n, totals=totals, phase_present=phase_present, present_names=present_names,
+    return Measured(n=n, totals=totals, phase_present=phase_present, present=present, present_names=present_names,
                     mole_fractions=x_all, balance_error=bal, potentials=lam, potential_residual=resid,
                     max_affinity=max_aff, drive=tuple((system.phases[p].name, d) for p, d in sorted(drive.items())),
                     unique=unique, starts=starts, unique_basis=unique_basis, amount_rcond=amount_rcond,
@@ -206,8 +208,7 @@ def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: 
         out.append(Finding("error", "equilibrium", f"the minimisation does not land on the assumed phases: "
                            f"{'; '.join(parts)} (present: {', '.join(m.present_names)})", tuple(appeared + vanished)))
     a, system = solver.arrays, solver.system
-    present = m.phase_present[a.phase_of] & (m.n > 0)
-    outside = () if a.t_low <= T <= a.t_high else np.flatnonzero(present & ((T < a.t_min) | (T > a.t_max)))
+    outside = () if a.t_low <= T <= a.t_high else np.flatnonzero(m.present & ((T < a.t_min) | (T > a.t_max)))
     for k in outside:
         sp = system.species[k]
         out.append(Finding("warning", "data", f"T = {T:.1f} K is outside the thermo data range of "
