@@ -140,6 +140,7 @@ class RouteSolver:
                                              solution=a.solution[phases_used], b=a.W @ self.n0))
         n = np.zeros(self.system.n_species)
         n[idx] = res.moles
+        # the label is part of the JSON output (``solver``): kept as it was before the module moved
         return SolvedState(n, T, P, "element-potential minimiser (auditor.minimiser)", bool(res.converged), res.message)
 
     def _cantera(self, T: float, P: float, start: np.ndarray, solver: str = "vcs") -> SolvedState:

@@ -13,7 +13,7 @@ For each case, side by side in one run:
              uniqueness -- the convexity proof plus one restart where it holds, two
              restarts where it does not --, ln K additivity, Jacobian rank);
 * checks  -- confirm minus its own main solve, measured by instrumenting
-             ``_Solver.solve`` (the first call is the main solve; later calls are the
+             ``RouteSolver.solve`` (the first call is the main solve; later calls are the
              uniqueness restarts), and, as a cross-check, confirm minus one bare solve.
 
 Every number is the best of 20 rounds of single calls (``--repeats N`` to change), each
