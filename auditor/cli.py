@@ -322,8 +322,8 @@ def _cmd_sweep(args) -> int:
         from .report.ternary import ternary_svg
         s, written = case.specified, case.as_written       # T and P as the case file writes them
         picture = ternary_svg(results, axes[0].elements, args.divisions,
-                              f"{case.title}: T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
-                              f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}")
+                              f"T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
+                              f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title)
     else:
         from .report.sweep_plot import unit_of
         picture = sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary])

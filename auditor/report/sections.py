@@ -150,6 +150,13 @@ def _composition(eq: dict, e: entered_mod.Entered, coexisting) -> Block:
     return _table(headers, rows, f"Equilibrium composition (amounts in {e.amount_unit}, the unit of the feed)")
 
 
+def _route(eq: dict) -> str:
+    """The route whose state the certificate accepted, and the outcomes of the routes tried before it."""
+    earlier = [f"{a['route']}: {a['outcome']}" for a in eq.get("attempts", []) if a["outcome"] != "certified"]
+    route = eq.get("route") or "none certified"
+    return f"{route} (after {'; '.join(earlier)})" if earlier else f"{route} (the first route tried)"
+
+
 def _certificate(eq: dict, doc: dict) -> Block:
     sp = doc["specification"]
 
@@ -168,6 +175,7 @@ def _certificate(eq: dict, doc: dict) -> Block:
             ("confirmed (every check below passes and the assumed phases are found)", yes_no(eq["confirmed"])),
             ("unique", unique),
             ("starting estimates tried", eq["starts"]),
+            ("solve route that gave this state", _route(eq)),
             ("conserved-quantity balance error (relative)", num(eq["element_balance_error"])),
             ("largest affinity among present species, RT", num(eq["max_affinity_RT"])),
             ("element-potential fit residual, RT", num(eq["potential_residual_RT"])),

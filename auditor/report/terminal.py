@@ -93,6 +93,9 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
     out.append(f"  certificate: converged {yes[eq.converged]}; unique {unique}; balance error "
                f"{_fmt(eq.element_balance_error)}; largest affinity {_fmt(eq.max_affinity_RT)} RT; potential residual "
                f"{_fmt(eq.potential_residual_RT)} RT")
+    if len(eq.attempts) > 1:      # a fallback route was needed: say which, and what the earlier ones gave
+        out.append(f"  solve route: {eq.route or 'none certified'}, after " + "; ".join(
+            f"{route} {outcome}" for route, outcome in eq.attempts if outcome != "certified"))
     absent = ", ".join(f"{n} {d:+.3g}" if math.isfinite(d) else f"{n} cannot form (needs an element the feed lacks)"
                        for n, d in eq.absent_phase_driving_force)
     if absent:

@@ -37,9 +37,9 @@ def _label(r) -> str:
     return " + ".join(r.phases_present) + ("" if r.certified else " (not certified)")
 
 
-def ternary_svg(results, elements: Sequence[str], divisions: int, condition: str) -> str:
+def ternary_svg(results, elements: Sequence[str], divisions: int, condition: str, title: str = "") -> str:
     """The map as SVG text.  ``results`` carry coordinates ``atoms[E]`` (atom fractions of the
-    three elements); ``condition`` says at what T and P (shown in the title)."""
+    three elements); ``condition`` says at what T and P, ``title`` names the case (shown on top)."""
     e0, e1, e2 = elements
     pts = []
     for r in sorted(results, key=lambda r: r.index):
@@ -59,9 +59,11 @@ def ternary_svg(results, elements: Sequence[str], divisions: int, condition: str
     out = [f'<svg xmlns="http://www.w3.org/2000/svg" width="{WIDTH}" height="{HEIGHT}" role="img" '
            f'aria-label="ternary map of phases present" font-family="sans-serif" font-size="12" fill="{style.INK}">',
            f'<defs><clipPath id="tri"><polygon points="{tri}"/></clipPath></defs>',
-           f'<text x="{WIDTH / 2:.0f}" y="22" text-anchor="middle" font-size="14" font-weight="bold">'
-           f'Phases present over the {escape(e0)}-{escape(e1)}-{escape(e2)} feed composition ({escape(condition)})</text>',
-           f'<text x="{WIDTH / 2:.0f}" y="40" text-anchor="middle">position = atom fractions of the feed; '
+           f'<text x="{WIDTH / 2:.0f}" y="20" text-anchor="middle" font-size="14" font-weight="bold">'
+           f'{escape(title or "Composition map")}</text>',
+           f'<text x="{WIDTH / 2:.0f}" y="38" text-anchor="middle">'
+           f'Phases present over the {escape(e0)}-{escape(e1)}-{escape(e2)} feed composition at {escape(condition)}</text>',
+           f'<text x="{WIDTH / 2:.0f}" y="54" text-anchor="middle">position = atom fractions of the feed; '
            f'{len(pts)} compositions, {divisions} divisions per side</text>',
            '<g clip-path="url(#tri)">']
     where = {}
