@@ -6,11 +6,9 @@ method. The reports are produced through the real CLI into real files.
 """
 from __future__ import annotations
 
-import contextlib
 import fcntl
 import hashlib
 import html
-import io
 import json
 import os
 import pty
@@ -27,7 +25,7 @@ from pathlib import Path
 
 import pytest
 
-from auditor.cli import main
+from clitools import run
 
 REPO = Path(__file__).resolve().parents[1]
 CASES = REPO / "cases"
@@ -39,19 +37,6 @@ UNBALANCED = CASES / "methanol_loop_inconsistent.yaml"   # reaction 4 drops an O
 SHIFT = CASES / "shift_reactor_overspecified_mole_fraction.yaml"
 DESIGN = CASES / "reformer_design_point.yaml"
 SVG = "{http://www.w3.org/2000/svg}"
-
-
-def run(argv, cwd=None) -> tuple[int, str, str]:
-    out, err = io.StringIO(), io.StringIO()
-    old = os.getcwd()
-    try:
-        if cwd is not None:
-            os.chdir(cwd)
-        with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
-            rc = main([str(a) for a in argv])
-    finally:
-        os.chdir(old)
-    return rc, out.getvalue(), err.getvalue()
 
 
 def md_table(text: str, caption: str) -> list[list[str]]:
