@@ -6,25 +6,21 @@ method. The reports are produced through the real CLI into real files.
 """
 from __future__ import annotations
 
-import fcntl
 import hashlib
 import html
 import json
 import os
-import pty
 import re
-import select
 import shutil
-import struct
 import subprocess
 import sys
-import termios
 import xml.etree.ElementTree as ET
 from fractions import Fraction
 from pathlib import Path
 
 import pytest
 
+import clitools
 from clitools import run
 
 REPO = Path(__file__).resolve().parents[1]
@@ -364,27 +360,7 @@ def test_progress_bar_absent_when_piped(tmp_path):
 
 def on_terminal(args: list[str]) -> str:
     """Run the CLI with stdout and stderr on a pseudo-terminal 120 columns wide; all it wrote."""
-    master, slave = pty.openpty()
-    fcntl.ioctl(slave, termios.TIOCSWINSZ, struct.pack("HHHH", 40, 120, 0, 0))
-    proc = subprocess.Popen([sys.executable, "-m", "auditor", *args], stdin=subprocess.DEVNULL, stdout=slave,
-                            stderr=slave, env=dict(env(), COLUMNS="120"), cwd=REPO)
-    os.close(slave)
-    chunks = []
-    while True:
-        ready, _, _ = select.select([master], [], [], 300)
-        if not ready:
-            proc.kill()
-            break
-        try:
-            data = os.read(master, 4096)
-        except OSError:
-            break
-        if not data:
-            break
-        chunks.append(data)
-    proc.wait(timeout=60)
-    os.close(master)
-    return b"".join(chunks).decode("utf-8", "replace")
+    return clitools.on_terminal(args, dict(env(), COLUMNS="120"), REPO, columns=120)[1]
 
 
 def test_progress_bar_on_a_terminal_and_not_with_quiet(tmp_path):
