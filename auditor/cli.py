@@ -138,6 +138,7 @@ def _audit_all(paths, args, tick=lambda: None):
 
 def _cmd_check(args) -> int:
     from importlib import resources
+    from .report.console import colourise, progress_bar
     from .report.document import check_document
     from .report.terminal import audit_text, summary_line
     paths = args.cases or [str(resources.files("auditor") / "data" / "default_case.yaml")]
@@ -145,7 +146,7 @@ def _cmd_check(args) -> int:
         print("auditor: error: --report takes exactly one CASE", file=sys.stderr)
         return EXIT_INPUT
     if args.report:
-        from .report.files import check_target
+        from .report.files import REPORT_FORMATS, check_target
         try:
             check_target(args.report, paths, args.force)
             if Path(args.report).suffix.lower() not in REPORT_FORMATS:
@@ -168,7 +169,7 @@ def _cmd_check(args) -> int:
             results.append(result)
             status = max(status, result.exit_status)
     if args.report and results:
-        from .report.files import write_atomic
+        from .report.files import render_report, write_atomic
         write_atomic(args.report, render_report(results[0], Path(args.report).suffix.lower()))
         if not args.quiet:
             print(f"report written to {args.report}", file=sys.stderr)
@@ -183,39 +184,6 @@ def _cmd_check(args) -> int:
         for r in results:
             print(summary_line(r))
     return status
-
-
-REPORT_FORMATS = (".html", ".htm", ".md", ".json")
-
-
-def render_report(result, suffix: str) -> str:
-    if suffix in (".html", ".htm"):
-        from .report.html import render
-        return render(result)
-    if suffix == ".md":
-        from .report.markdown import render
-        return render(result)
-    from .report.document import check_document
-    return json.dumps(check_document(result, with_context=True), indent=1) + "\n"
-
-
-def colourise(text: str) -> str:
-    """Colour the verdict line on a terminal only (NO_COLOR honoured: https://no-color.org)."""
-    import os
-    if os.environ.get("NO_COLOR") or not sys.stdout.isatty():
-        return text
-    from .report.style import TERMINAL_SEVERITY, TERMINAL_VERDICT
-    out = []
-    for line in text.splitlines(keepends=True):
-        if line.startswith("Verdict: "):
-            word = line.split()[1]
-            line = f"Verdict: \033[{TERMINAL_VERDICT.get(word, '1')}m{word}\033[0m\n"
-        elif line.lstrip().startswith("[error]"):
-            line = line.replace("[error]", f"\033[{TERMINAL_SEVERITY['error']}m[error]\033[0m", 1)
-        elif line.lstrip().startswith("[warning]"):
-            line = line.replace("[warning]", f"\033[{TERMINAL_SEVERITY['warning']}m[warning]\033[0m", 1)
-        out.append(line)
-    return "".join(out)
 
 
 EPILOG_SWEEP = """examples:
@@ -236,32 +204,9 @@ present and their boundaries); finished points are journalled in PREFIX.partial.
 that --resume can continue a run that was stopped."""
 
 
-def progress_bar(total: int, unit: str, quiet: bool, initial: int = 0, every_update: bool = False):
-    """A progress bar (points done, rate, time left) on stderr, drawn only when stdout and stderr are
-    both terminals and --quiet is off; otherwise a bar that draws nothing."""
-    from tqdm import tqdm
-    show = not quiet and sys.stdout.isatty() and sys.stderr.isatty()
-    # a few slow cases: draw each one; many fast sweep points: at most ten redraws a second
-    return tqdm(total=total, initial=initial, unit=unit, file=sys.stderr, disable=not show, leave=False,
-                mininterval=0 if every_update else 0.1,
-                dynamic_ncols=True, bar_format="{desc}{percentage:3.0f}% |{bar}| {n_fmt}/{total_fmt} {unit}s "
-                                              "[{elapsed} elapsed, {remaining} left, {rate_fmt}]")
-
-
-def _file_sha256(path) -> str:
-    import hashlib
-    try:
-        return hashlib.sha256(Path(path).read_bytes()).hexdigest()
-    except OSError:
-        return ""
-
-
-def _cmd_sweep(args) -> int:
-    from .case import load_case
-    from .executors import make_executor
-    from .report.files import check_target, write_atomic
-    from .report.sweep_plot import sweep_svg
-    from .sweep import PointResult, csv_text, grid, parse_ternary, parse_vary, run_sweep
+def _sweep_axes(args) -> list:
+    """The axes of the grid from --vary or --ternary, with the counts checked."""
+    from .sweep import parse_ternary, parse_vary
     if bool(args.vary) == bool(args.ternary):
         raise InputError.single("--vary", "give --vary (one or two axes) or --ternary, not both and not neither")
     axes = [parse_vary(v) for v in args.vary] if args.vary else [parse_ternary(args.ternary, args.divisions, args.edges)]
@@ -269,20 +214,21 @@ def _cmd_sweep(args) -> int:
         value = getattr(args, name)
         if value is not None and value < 1:
             raise InputError.single("--" + name.replace("_", "-"), f"must be at least 1, got {value}")
-    case = load_case(args.case)
-    if case.feed is None:
-        raise InputError.single(args.case, "a sweep runs the Gibbs minimisation, which needs a feed; this case "
-                                "has none (it is an intensive problem: use 'auditor check')", "feed")
-    prefix = args.out or Path(args.case).stem + "_sweep"
-    csv_path, svg_path, journal = Path(f"{prefix}.csv"), Path(f"{prefix}.svg"), Path(f"{prefix}.partial.jsonl")
-    if not csv_path.parent.resolve().is_dir():
-        raise InputError.single(csv_path.parent, "output directory does not exist")
-    for target in (csv_path, svg_path):
-        check_target(target, [args.case], args.force or args.resume)
-    # the journal's first line says which case and grid it belongs to
-    header = json.dumps({"journal": 1, "case_sha256": _file_sha256(args.case),
-                         "grid": [[a.name + (":" + ",".join(a.elements) if a.elements else ""), list(a.values)]
-                                  for a in axes]}, sort_keys=True)
+    return axes
+
+
+def _journal_header(case_path, axes) -> str:
+    """The journal's first line: which case file and grid it belongs to."""
+    from .report.files import file_sha256
+    return json.dumps({"journal": 1, "case_sha256": file_sha256(case_path),
+                       "grid": [[a.name + (":" + ",".join(a.elements) if a.elements else ""), list(a.values)]
+                                for a in axes]}, sort_keys=True)
+
+
+def _points_done(journal: Path, header: str, args) -> list:
+    """The points a stopped sweep journalled (with --resume), else none; refuses a journal of
+    another case or grid, and an unfinished one without --resume or --force."""
+    from .sweep import PointResult
     done = []
     if args.resume and journal.exists():
         lines = journal.read_text(encoding="utf-8").splitlines()
@@ -297,6 +243,15 @@ def _cmd_sweep(args) -> int:
     elif journal.exists() and not args.force:
         raise InputError.single(journal, "an unfinished sweep left this journal; pass --resume to continue it "
                                 "or --force to start again")
+    return done
+
+
+def _run_points(args, case, axes, journal: Path, header: str, done: list) -> list:
+    """Every point of the grid, each journalled as it finishes, with a progress bar."""
+    from .executors import make_executor
+    from .report.console import progress_bar
+    from .report.files import write_atomic
+    from .sweep import grid, run_sweep
     total = len(grid(case, axes))                        # checks the axes before any file is touched
     executor = make_executor(args.jobs, args.scheduler)  # checks --scheduler likewise
     # rewrite the journal with only whole lines, so new results never join a fragment
@@ -312,49 +267,51 @@ def _cmd_sweep(args) -> int:
                 jf.write(r.to_json() + "\n")
                 jf.flush()
                 bar.update(1)
-            results = run_sweep(str(Path(args.case)), axes, executor, done=done, on_result=on_result,
-                                block_size=args.block_size, workers=executor.workers)
+            return run_sweep(str(Path(args.case)), axes, executor, done=done, on_result=on_result,
+                             block_size=args.block_size, workers=executor.workers)
     finally:
         executor.close()
-    assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
-    write_atomic(csv_path, csv_text(results))
+
+
+def _sweep_picture(args, case, axes, results) -> str:
+    """The ternary map, or the plot of the swept axes."""
     if args.ternary:
         from .report.ternary import ternary_svg
         s, written = case.specified, case.as_written       # T and P as the case file writes them
-        picture = ternary_svg(results, axes[0].elements, args.divisions,
-                              f"T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
-                              f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title)
-    else:
-        from .report.sweep_plot import unit_of
-        picture = sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary])
-    write_atomic(svg_path, picture)
+        return ternary_svg(results, axes[0].elements, args.divisions,
+                           f"T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
+                           f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title)
+    from .report.sweep_plot import sweep_svg, unit_of
+    assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
+    return sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary])
+
+
+def _cmd_sweep(args) -> int:
+    from .case import load_case
+    from .report.console import sweep_summary
+    from .report.files import check_target, write_atomic
+    from .sweep import csv_text
+    axes = _sweep_axes(args)
+    case = load_case(args.case)
+    if case.feed is None:
+        raise InputError.single(args.case, "a sweep runs the Gibbs minimisation, which needs a feed; this case "
+                                "has none (it is an intensive problem: use 'auditor check')", "feed")
+    prefix = args.out or Path(args.case).stem + "_sweep"
+    csv_path, svg_path, journal = Path(f"{prefix}.csv"), Path(f"{prefix}.svg"), Path(f"{prefix}.partial.jsonl")
+    if not csv_path.parent.resolve().is_dir():
+        raise InputError.single(csv_path.parent, "output directory does not exist")
+    for target in (csv_path, svg_path):
+        check_target(target, [args.case], args.force or args.resume)
+    header = _journal_header(args.case, axes)
+    results = _run_points(args, case, axes, journal, header, _points_done(journal, header, args))
+    write_atomic(csv_path, csv_text(results))
+    write_atomic(svg_path, _sweep_picture(args, case, axes, results))
     journal.unlink(missing_ok=True)
-    failed = [r for r in results if r.verdict == "failed"]
-    off = [r for r in results if r.verdict != "well-posed"]
-    certified = [r for r in results if r.certified]
-    if not args.quiet and args.ternary:   # a map asks which phases are present, not whether the assumed ones are
-        from collections import Counter
-        sets = Counter(" + ".join(r.phases_present) or "none" for r in results if r.verdict != "failed")
-        print(f"{len(results)} points: " + ", ".join(f"{n} with {k}" for k, n in sets.most_common())
-              + f", {len(failed)} failed; wrote {csv_path} and {svg_path}")
-    elif not args.quiet:
-        print(f"{len(results)} points: {len(results) - len(off)} confirmed, {len(off) - len(failed)} not confirmed, "
-              f"{len(failed)} failed; wrote {csv_path} and {svg_path}")
     if not args.quiet:
-        print(f"  certificate holds at {len(certified)} of {len(results)} points; "
-              f"{sum(r.fallback for r in certified)} needed a fallback route"
-              + "".join(f"; {n} by {route}" for route, n in _route_counts(certified)))
-        reasons = sorted({r.message for r in failed})
-        for m in reasons[:5]:
-            print(f"  failure: {m}")
+        print("\n".join(sweep_summary(results, bool(args.ternary), csv_path, svg_path)))
     if args.ternary:
-        return EXIT_OK if len(certified) == len(results) else EXIT_PROBLEM
-    return EXIT_OK if not off else EXIT_PROBLEM
-
-
-def _route_counts(results):
-    from collections import Counter
-    return sorted(Counter(r.route for r in results if r.fallback).items())
+        return EXIT_OK if all(r.certified for r in results) else EXIT_PROBLEM
+    return EXIT_OK if all(r.verdict == "well-posed" for r in results) else EXIT_PROBLEM
 
 
 def _cmd_new(args) -> int:
@@ -387,11 +344,8 @@ def _cmd_species(args) -> int:
     if not hits:
         print(f"no species in the packaged databases matches {args.query!r}")
         return EXIT_PROBLEM
-    print(f"{'name':<22} {'kind':<10} {'formula':<18} {'charge':>6}  {'thermo range, K':<18} common name")
-    for h in hits:
-        span = f"{h['t_min']:g} - {h['t_max']:g}"
-        print(f"{h['name']:<22} {h['kind']:<10} {h['formula']:<18} {h['charge']:>6}  {span:<18} "
-              f"{h.get('common_name', '')}".rstrip())
+    from .report.console import species_table
+    print("\n".join(species_table(hits)))
     return EXIT_OK
 
 

@@ -288,6 +288,16 @@ def _is_sparse(x) -> bool:
     return type(x).__module__.startswith("scipy.sparse")
 
 
+def _neighbours(reached: list[bool], adjacency, size: int) -> list[bool]:
+    """Which of ``size`` vertices on the other side are adjacent to a reached vertex."""
+    mask = [False] * size
+    for v, hit in enumerate(reached):
+        if hit:
+            for w in adjacency[v]:
+                mask[w] = True
+    return mask
+
+
 def _plain(m: int, n: int, rows: list[int], cols: list[int]) -> DMDecomposition:
     """The decomposition of :func:`dulmage_mendelsohn` in plain Python, for small patterns.
 
@@ -346,18 +356,10 @@ def _plain(m: int, n: int, rows: list[int], cols: list[int]) -> DMDecomposition:
 
     # over part: from unmatched rows, row -> any column -> its matched row (see the scipy path)
     over_r = reach([r for r in range(m) if col_of_row[r] < 0], adj)
-    over_c = [False] * n
-    for r in range(m):
-        if over_r[r]:
-            for c in adj[r]:
-                over_c[c] = True
+    over_c = _neighbours(over_r, adj, n)
     # under part: from unmatched columns, column -> any row -> its matched column
     under_c = reach([c for c in range(n) if row_of_col[c] < 0], radj)
-    under_r = [False] * m
-    for c in range(n):
-        if under_c[c]:
-            for r in radj[c]:
-                under_r[r] = True
+    under_r = _neighbours(under_c, radj, m)
     sq_r = [not (a or b) for a, b in zip(over_r, under_r)]
     sq_c = [not (a or b) for a, b in zip(over_c, under_c)]
     sq_rows = [r for r in range(m) if sq_r[r]]

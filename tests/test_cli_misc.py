@@ -10,9 +10,7 @@ from __future__ import annotations
 import io
 import json
 import os
-import pty
 import re
-import select
 import subprocess
 import sys
 from pathlib import Path
@@ -20,6 +18,8 @@ from pathlib import Path
 import pytest
 
 from auditor.cli import main
+
+from clitools import on_terminal
 
 REPO = Path(__file__).resolve().parents[1]
 CASES_DIR = REPO / "cases"
@@ -171,26 +171,8 @@ def test_real_process_output_to_a_pipe_has_no_escape_codes():
 
 def test_real_terminal_with_no_color_has_no_escape_codes():
     """A real pseudo-terminal: isatty() is true, NO_COLOR=1 must still switch colour off."""
-    master, slave = pty.openpty()
-    proc = subprocess.Popen([sys.executable, "-m", "auditor", "check", str(CARBON)], stdin=subprocess.DEVNULL,
-                            stdout=slave, stderr=slave, env=subprocess_env(NO_COLOR="1"), cwd=REPO)
-    os.close(slave)
-    chunks = []
-    while True:
-        ready, _, _ = select.select([master], [], [], 120)
-        if not ready:
-            proc.kill()
-            pytest.fail("no output from the subprocess for 120 s")
-        try:
-            data = os.read(master, 65536)
-        except OSError:          # EIO: the other end closed
-            break
-        if not data:
-            break
-        chunks.append(data)
-    os.close(master)
-    assert proc.wait(timeout=60) == 1
-    text = b"".join(chunks).decode("utf-8", "replace")
+    rc, text = on_terminal(["check", CARBON], subprocess_env(NO_COLOR="1"), REPO, silence_s=120)
+    assert rc == 1
     assert "Verdict: NOT-CONFIRMED" in text
     assert "\x1b" not in text
 

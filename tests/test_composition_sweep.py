@@ -17,10 +17,6 @@ Outside references:
 """
 from __future__ import annotations
 
-import contextlib
-import csv
-import io
-import os
 import re
 import xml.etree.ElementTree as ET
 from dataclasses import replace
@@ -33,34 +29,18 @@ import pytest
 from auditor import settings
 from auditor.audit import counting_stages
 from auditor.case import load_case
-from auditor.cli import main
 from auditor.equilibrium import ROUTE_OURS, certificate_holds, confirm
 from auditor.report import style
 from auditor.report.document import check_document
 from auditor.sweep import parse_ternary
 from auditor.report.document import equilibrium_document  # noqa: E402
 
+from clitools import read_csv, run
+
 REPO = Path(__file__).resolve().parents[1]
 MAP_CASE = REPO / "cases" / "carbon_map_cho.yaml"
 REFORMER = REPO / "cases" / "reformer_design_point.yaml"
 SVG_NS = "{http://www.w3.org/2000/svg}"
-
-
-def run(argv, cwd: Path) -> tuple[int, str, str]:
-    out, err = io.StringIO(), io.StringIO()
-    old = os.getcwd()
-    try:
-        os.chdir(cwd)
-        with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
-            rc = main([str(a) for a in argv])
-    finally:
-        os.chdir(old)
-    return rc, out.getvalue(), err.getvalue()
-
-
-def read_csv(path: Path) -> list[dict[str, str]]:
-    with open(path, newline="", encoding="utf-8") as fh:
-        return list(csv.DictReader(fh))
 
 
 def confirm_at(c: int, h: int, o: int):
@@ -202,12 +182,9 @@ def test_every_route_is_tried_in_order_before_not_confirmed(monkeypatch):
 
 
 def test_check_json_carries_route_and_attempts():
-    rc = None
-    out = io.StringIO()
-    with contextlib.redirect_stdout(out):
-        rc = main(["check", str(REFORMER), "--json"])
+    rc, out, _ = run(["check", REFORMER, "--json"])
     import json
-    doc = json.loads(out.getvalue())
+    doc = json.loads(out)
     assert rc == 0
     assert doc["equilibrium"]["route"] == "cantera vcs from the feed"
     assert doc["equilibrium"]["attempts"] == [{"route": "cantera vcs from the feed", "outcome": "certified"}]

@@ -22,6 +22,8 @@ from auditor.audit import audit_file
 from auditor.cli import main
 from auditor.report.document import equilibrium_document  # noqa: E402
 
+from isomers import isomer_mechanism
+
 DATA = Path(ct.get_data_directories()[-1])
 EXAMPLES = DATA / "example_data"
 HERE = Path(__file__).resolve().parent / "data"
@@ -391,25 +393,8 @@ def test_hand_written_mechanism_case_is_confirmed():
 # ------------------------------------------------------------------ bad mechanism input
 
 def _isomers(tmp_path: Path, name: str, species_line: str, equation: str = "A => B") -> Path:
-    nasa = ("    model: NASA7\n    temperature-ranges: [200.0, 1000.0, 3500.0]\n    data:\n"
-            "    - [2.34433112, 7.98052075e-03, -1.9478151e-05, 2.01572094e-08, -7.37611761e-12, -917.935173, 0.683010238]\n"
-            "    - [3.3372792, -4.94024731e-05, 4.99456778e-07, -1.79566394e-10, 2.00255376e-14, -950.158922, -3.20502331]\n")
-    species = "".join(f"- name: {n}\n  composition: {{H: 2}}\n  thermo:\n{nasa}" for n in "ABC")
     path = tmp_path / name
-    path.write_text(f"""units: {{length: cm, quantity: mol, activation-energy: cal/mol}}
-phases:
-- name: gas
-  thermo: ideal-gas
-  elements: [H]
-  {species_line}
-  kinetics: gas
-  reactions: all
-  state: {{T: 300.0, P: 1 atm}}
-species:
-{species}reactions:
-- equation: {equation}
-  rate-constant: {{A: 1.0e+13, b: 0.0, Ea: 0.0}}
-""", encoding="utf-8")
+    path.write_text(isomer_mechanism(equation, species_line), encoding="utf-8")
     return path
 
 

@@ -6,28 +6,22 @@ method. The reports are produced through the real CLI into real files.
 """
 from __future__ import annotations
 
-import contextlib
-import fcntl
 import hashlib
 import html
-import io
 import json
 import os
-import pty
 import re
-import select
 import shutil
-import struct
 import subprocess
 import sys
-import termios
 import xml.etree.ElementTree as ET
 from fractions import Fraction
 from pathlib import Path
 
 import pytest
 
-from auditor.cli import main
+import clitools
+from clitools import run
 
 REPO = Path(__file__).resolve().parents[1]
 CASES = REPO / "cases"
@@ -39,19 +33,6 @@ UNBALANCED = CASES / "methanol_loop_inconsistent.yaml"   # reaction 4 drops an O
 SHIFT = CASES / "shift_reactor_overspecified_mole_fraction.yaml"
 DESIGN = CASES / "reformer_design_point.yaml"
 SVG = "{http://www.w3.org/2000/svg}"
-
-
-def run(argv, cwd=None) -> tuple[int, str, str]:
-    out, err = io.StringIO(), io.StringIO()
-    old = os.getcwd()
-    try:
-        if cwd is not None:
-            os.chdir(cwd)
-        with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
-            rc = main([str(a) for a in argv])
-    finally:
-        os.chdir(old)
-    return rc, out.getvalue(), err.getvalue()
 
 
 def md_table(text: str, caption: str) -> list[list[str]]:
@@ -379,27 +360,7 @@ def test_progress_bar_absent_when_piped(tmp_path):
 
 def on_terminal(args: list[str]) -> str:
     """Run the CLI with stdout and stderr on a pseudo-terminal 120 columns wide; all it wrote."""
-    master, slave = pty.openpty()
-    fcntl.ioctl(slave, termios.TIOCSWINSZ, struct.pack("HHHH", 40, 120, 0, 0))
-    proc = subprocess.Popen([sys.executable, "-m", "auditor", *args], stdin=subprocess.DEVNULL, stdout=slave,
-                            stderr=slave, env=dict(env(), COLUMNS="120"), cwd=REPO)
-    os.close(slave)
-    chunks = []
-    while True:
-        ready, _, _ = select.select([master], [], [], 300)
-        if not ready:
-            proc.kill()
-            break
-        try:
-            data = os.read(master, 4096)
-        except OSError:
-            break
-        if not data:
-            break
-        chunks.append(data)
-    proc.wait(timeout=60)
-    os.close(master)
-    return b"".join(chunks).decode("utf-8", "replace")
+    return clitools.on_terminal(args, dict(env(), COLUMNS="120"), REPO, columns=120)[1]
 
 
 def test_progress_bar_on_a_terminal_and_not_with_quiet(tmp_path):

@@ -11,11 +11,9 @@ unwritable directory) and the determinism of the outputs are tested on one case 
 """
 from __future__ import annotations
 
-import contextlib
 import errno
 import hashlib
 import html
-import io
 import json
 import os
 import re
@@ -30,7 +28,7 @@ from pathlib import Path
 import jsonschema
 import pytest
 
-from auditor.cli import main
+from clitools import run
 
 REPO = Path(__file__).resolve().parents[1]
 CASES = sorted((REPO / "cases").glob("*.yaml"))
@@ -64,20 +62,6 @@ VALIDATOR = schema_validator()
 
 def schema_errors(doc) -> list[str]:
     return [f"{'/'.join(map(str, e.absolute_path))}: {e.message}" for e in VALIDATOR.iter_errors(doc)]
-
-
-def run(argv: list[str], cwd: Path | None = None) -> tuple[int, str, str]:
-    """The real CLI in this process; returns (exit status, stdout, stderr)."""
-    out, err = io.StringIO(), io.StringIO()
-    old = os.getcwd()
-    try:
-        if cwd is not None:
-            os.chdir(cwd)
-        with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
-            rc = main([str(a) for a in argv])
-    finally:
-        os.chdir(old)
-    return rc, out.getvalue(), err.getvalue()
 
 
 def expected_status(doc: dict) -> int:

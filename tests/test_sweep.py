@@ -7,11 +7,7 @@ verdict column is the verdict before claims).  Grids are kept tiny (5 points; 2 
 """
 from __future__ import annotations
 
-import contextlib
-import csv
-import io
 import json
-import os
 import xml.etree.ElementTree as ET
 from pathlib import Path
 
@@ -20,33 +16,16 @@ import yaml
 
 import auditor.report.files
 import auditor.sweep
-from auditor.cli import main
 from auditor.errors import InputError
 from auditor.sweep import PointResult, parse_vary
+
+from clitools import read_csv, run
 
 REPO = Path(__file__).resolve().parents[1]
 CASE = REPO / "cases" / "reformer_design_point.yaml"
 VARY = "temperature=500:1300:200"                     # 5 points, K
 TEMPERATURES = [500.0, 700.0, 900.0, 1100.0, 1300.0]
 SVG_NS = "{http://www.w3.org/2000/svg}"
-
-
-def run(argv: list, cwd: Path | None = None) -> tuple[int, str, str]:
-    out, err = io.StringIO(), io.StringIO()
-    old = os.getcwd()
-    try:
-        if cwd is not None:
-            os.chdir(cwd)
-        with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
-            rc = main([str(a) for a in argv])
-    finally:
-        os.chdir(old)
-    return rc, out.getvalue(), err.getvalue()
-
-
-def read_csv(path: Path) -> list[dict[str, str]]:
-    with open(path, newline="", encoding="utf-8") as fh:
-        return list(csv.DictReader(fh))
 
 
 def files_in(d: Path) -> dict[str, bytes]:

@@ -1,6 +1,9 @@
-"""Writing outputs without losing work: temp file, then rename; never over an input."""
+"""Writing outputs without losing work: temp file, then rename; never over an input.  Also the
+report format a suffix picks, and the hash of an input file."""
 from __future__ import annotations
 
+import hashlib
+import json
 import os
 import tempfile
 from pathlib import Path
@@ -54,3 +57,26 @@ def write_atomic(path: str | Path, text: str) -> None:
         if isinstance(exc, OSError):
             raise InputError(Problem(str(target), f"cannot write the file: {exc.strerror or exc}")) from None
         raise
+
+
+REPORT_FORMATS = (".html", ".htm", ".md", ".json")
+
+
+def render_report(result, suffix: str) -> str:
+    """The full audit in the format that the report path's suffix (one of REPORT_FORMATS) picks."""
+    if suffix in (".html", ".htm"):
+        from .html import render
+        return render(result)
+    if suffix == ".md":
+        from .markdown import render
+        return render(result)
+    from .document import check_document
+    return json.dumps(check_document(result, with_context=True), indent=1) + "\n"
+
+
+def file_sha256(path) -> str:
+    """The SHA-256 of a file's bytes, or "" when it cannot be read."""
+    try:
+        return hashlib.sha256(Path(path).read_bytes()).hexdigest()
+    except OSError:
+        return ""

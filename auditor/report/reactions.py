@@ -72,31 +72,39 @@ def reactions_document(a: ReactionAnalysis, warnings_: tuple[str, ...] = (), sys
     }
 
 
-def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, warnings_: tuple[str, ...] = (),
-                   system=None) -> str:
-    """Human-readable account; reaction numbers ``#n`` count from 1 in file order (the
-    mechanism's first reaction is #1; JSON's ``index`` is this number minus one)."""
-    lines = [f"Stoichiometric analysis of {source}", ""]
-    if system is not None:
-        lines.append("Phases used: " + ", ".join(f"{p['name']} ({p['model']}, {p['species']} species)"
-                                                 for p in _phases_used(system)))
-        others = _other_phases(system)
-        if others:
-            lines.append("The file also defines: " + ", ".join(
-                o["name"] + (f" (an alternative model of {o['alternative_of']}, set aside)" if o["alternative_of"] else "")
-                for o in others) + "; choose phases with --phase NAME")
-        sites = [e for e in system.elements if e.startswith(SITES_PREFIX)]
-        if sites:
-            lines.append("Site conservation counted in rank A: " + ", ".join(sites))
-        if system.site_creating:
-            lines.append("No site-conservation row (reactions create or remove sites): "
-                         + ", ".join(system.site_creating))
-        lines.append("")
+def _cap(items, limit: int | None) -> tuple[list, int]:
+    """The first ``limit`` items (all when no limit) and how many were left out."""
+    items = list(items)
+    if limit is not None and len(items) > limit:
+        return items[:limit], len(items) - limit
+    return items, 0
+
+
+def _system_lines(system) -> list[str]:
+    """The phases used, the other phases the file defines, and the site-conservation rows."""
+    lines = ["Phases used: " + ", ".join(f"{p['name']} ({p['model']}, {p['species']} species)"
+                                         for p in _phases_used(system))]
+    others = _other_phases(system)
+    if others:
+        lines.append("The file also defines: " + ", ".join(
+            o["name"] + (f" (an alternative model of {o['alternative_of']}, set aside)" if o["alternative_of"] else "")
+            for o in others) + "; choose phases with --phase NAME")
+    sites = [e for e in system.elements if e.startswith(SITES_PREFIX)]
+    if sites:
+        lines.append("Site conservation counted in rank A: " + ", ".join(sites))
+    if system.site_creating:
+        lines.append("No site-conservation row (reactions create or remove sites): "
+                     + ", ".join(system.site_creating))
+    return lines + [""]
+
+
+def _count_lines(a: ReactionAnalysis) -> list[str]:
+    """The counts and the verdict on the list."""
     rows = [("phase-species (N)", a.n_species), ("reactions listed", len(a.reactions)),
             ("formula-matrix rank (rank A)", a.formula_rank), ("rank of the reactions (m)", a.rank),
             ("most independent reactions possible (N - rank A)", a.max_independent)]
     width = max(len(r[0]) for r in rows)
-    lines += [f"  {name:<{width}}  {value}" for name, value in rows]
+    lines = [f"  {name:<{width}}  {value}" for name, value in rows]
     if a.unbalanced:
         state = "the list has unbalanced reactions, so completeness is not defined"
     elif a.complete:
@@ -104,16 +112,13 @@ def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, w
     else:
         state = (f"incomplete: {len(a.frozen)} composition direction(s) frozen "
                  f"({a.max_independent} possible, {a.rank} listed)")
-    lines += ["", f"Verdict on the list: {state}", ""]
+    return lines + ["", f"Verdict on the list: {state}", ""]
 
-    def cap(items):
-        items = list(items)
-        if limit is not None and len(items) > limit:
-            return items[:limit], len(items) - limit
-        return items, 0
 
-    shown, more = cap(a.independent)
-    lines.append(f"Independent reactions ({len(a.independent)}, earliest in file order):")
+def _relation_lines(a: ReactionAnalysis, limit: int | None) -> list[str]:
+    """The independent reactions, the dependent ones as combinations, and the duplicates."""
+    shown, more = _cap(a.independent, limit)
+    lines = [f"Independent reactions ({len(a.independent)}, earliest in file order):"]
     lines += [f"  #{i + 1}: {a.reactions[i].equation}" for i in shown]
     if more:
         lines.append(f"  ... and {more} more (use --json for all)")
@@ -121,7 +126,7 @@ def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, w
     others = [d for d in a.dependent if d.index not in dup_members]
     if others:
         lines += ["", f"Dependent reactions ({len(others)}, each an exact combination of independent ones):"]
-        shown, more = cap(others)
+        shown, more = _cap(others, limit)
         for d in shown:
             lines.append(f"  #{d.index + 1}: {a.reactions[d.index].equation}")
             lines.append(f"      = {_combo_text(d.combination)}")
@@ -130,12 +135,18 @@ def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, w
     if a.duplicates:
         n = sum(len(g.members) for g in a.duplicates)
         lines += ["", f"Duplicates ({n} reactions with the same net change as an earlier one, in {len(a.duplicates)} groups):"]
-        shown, more = cap(a.duplicates)
+        shown, more = _cap(a.duplicates, limit)
         for g in shown:
             mem = ", ".join(f"#{i + 1}" + ("" if f == 1 else f" (x {format_fraction(f)})") for i, f in g.members)
             lines.append(f"  #{g.representative + 1} {a.reactions[g.representative].equation}: {mem}")
         if more:
             lines.append(f"  ... and {more} more groups")
+    return lines
+
+
+def _defect_lines(a: ReactionAnalysis) -> list[str]:
+    """Reactions with no net change, unbalanced reactions, frozen directions and extra conserved quantities."""
+    lines = []
     if a.no_net_change:
         lines += ["", "Reactions with no net change (catalytic or third-body only): "
                   + ", ".join(f"#{i + 1}" for i in a.no_net_change)]
@@ -150,13 +161,26 @@ def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, w
         extra = [c.name for c in a.conserved if not c.is_element]
         if extra:
             lines += ["", "Extra conserved quantities beyond the elements:"] + [f"  {x}" for x in extra]
-    shown, more = cap(a.derived_basis)
+    return lines
+
+
+def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, warnings_: tuple[str, ...] = (),
+                   system=None) -> str:
+    """Human-readable account; reaction numbers ``#n`` count from 1 in file order (the
+    mechanism's first reaction is #1; JSON's ``index`` is this number minus one)."""
+    lines = [f"Stoichiometric analysis of {source}", ""]
+    if system is not None:
+        lines += _system_lines(system)
+    lines += _count_lines(a)
+    lines += _relation_lines(a, limit)
+    lines += _defect_lines(a)
     if warnings_:
         lines += ["", f"Cantera warned while loading ({len(warnings_)}):"]
-        shown_w, more_w = cap(warnings_)
+        shown_w, more_w = _cap(warnings_, limit)
         lines += [f"  {w}" for w in shown_w]
         if more_w:
             lines.append(f"  ... and {more_w} more")
+    shown, more = _cap(a.derived_basis, limit)
     lines += ["", f"A complete independent set from the species alone ({len(a.derived_basis)}):"]
     lines += [f"  {r.equation}" for r in shown]
     if more:

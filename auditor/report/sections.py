@@ -8,63 +8,24 @@ to it there.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 from ..audit import AuditResult, show_value
 from ..exact import format_fraction
 from . import entered as entered_mod
-from . import svg
+from .blocks import Block, certificate, composition, incidence, yes_no
+from .blocks import items_list as _list
+from .blocks import paragraph as _para
+from .blocks import table as _table
 from .document import check_document
 
-SECTION_TITLES = ("Verdict", "Case as entered", "Provenance", "System", "Reactions", "Phase rule",
-                  "Specification audit", "Equilibrium and certificate", "Claims", "Assumptions", "Findings",
-                  "Cautions", "Sign-off")
-
-# where a finding of each topic is stated in full
+# where a finding of each topic is stated in full (titles of SECTIONS, at the end)
 TOPIC_SECTION = {"reactions": "Reactions", "phase-rule": "Phase rule", "specification": "Specification audit",
                  "equilibrium": "Equilibrium and certificate", "claims": "Claims", "data": "Assumptions",
                  "safety": "Cautions"}
-
-# the reaction-species incidence is a table up to this size, a picture beyond it
-INCIDENCE_TABLE_MAX_SPECIES = 12
-INCIDENCE_TABLE_MAX_REACTIONS = 12
-INCIDENCE_ROWS_PER_PICTURE = 60      # beyond the table size: pictures of at most this many reactions
-INCIDENCE_COLUMNS_PER_PICTURE = 50   # ... and this many phase-species (fits an A4 page at 11 px a cell)
-
-
-@dataclass(frozen=True)
-class Block:
-    kind: str                  # paragraph, table, list, svg, file (an embedded input), signoff
-    text: str = ""
-    headers: tuple = ()
-    rows: tuple = ()
-    items: tuple = ()
-    caption: str = ""          # a table's caption (kept with the table in print)
-
-
-def _table(headers, rows, caption: str = "") -> Block:
-    return Block("table", headers=tuple(headers), rows=tuple(tuple(str(c) for c in r) for r in rows), caption=caption)
-
-
-def _list(items) -> Block:
-    return Block("list", items=tuple(str(i) for i in items))
-
-
-def _para(text) -> Block:
-    return Block("paragraph", text=str(text))
-
-
-def yes_no(v) -> str:
-    return {True: "yes", False: "no", None: "not decided"}[v]
 
 
 def _si(value: float, unit: str) -> str:
     text = f"{value:.10g}" if 1e-3 <= abs(value) < 1e9 else f"{value:.6e}"
     return f"{text} {unit}"
-
-
-def _amount(mol: float, e: entered_mod.Entered) -> str:
-    return f"{mol / e.mol_per_unit:.6g}"
 
 
 def _spec_si(key: str, case) -> str:
@@ -89,221 +50,122 @@ def _errors_of(doc: dict, section: str) -> list[Block]:
     return [_para("Errors found here:"), _list(errs)] if errs else []
 
 
-def _incidence(r: AuditResult) -> list[Block]:
-    reactions = r.reactions.reactions
-    if not reactions:
-        return []
-    independent = set(r.reactions.independent)
-    labels = list(r.system.labels)
-    rows = [dict(x.stoich) for x in reactions]
-    used = sorted({k for row in rows for k in row})
-    if len(used) <= INCIDENCE_TABLE_MAX_SPECIES and len(rows) <= INCIDENCE_TABLE_MAX_REACTIONS:
-        body = []
-        for i, row in enumerate(rows):
-            kind = "independent" if i in independent else "dependent"
-            body.append([f"{i + 1}", kind] + [(format_fraction(row[k]) if row[k] < 0 else "+" + format_fraction(row[k]))
-                                               if k in row else "" for k in used])
-        return [_table(["reaction", "kind", *(labels[k] for k in used)], body,
-                       "Reaction-species incidence: stoichiometric coefficients (products +, reactants -)")]
-    # a picture per block of reactions, showing only the phase-species they involve, so that each
-    # fits a printed page at a legible size (an SVG cannot break across pages)
-    blocks = []
-    for start in range(0, len(rows), INCIDENCE_ROWS_PER_PICTURE):
-        chunk = rows[start:start + INCIDENCE_ROWS_PER_PICTURE]
-        cols = sorted({k for row in chunk for k in row})
-        for c0 in range(0, len(cols), INCIDENCE_COLUMNS_PER_PICTURE):
-            part = cols[c0:c0 + INCIDENCE_COLUMNS_PER_PICTURE]
-            where = {k: j for j, k in enumerate(part)}
-            sub = [{where[k]: c for k, c in row.items() if k in where} for row in chunk]
-            last = start + len(chunk)
-            cols_note = "" if len(cols) <= INCIDENCE_COLUMNS_PER_PICTURE else \
-                f", phase-species {c0 + 1}-{c0 + len(part)} of the {len(cols)} they involve"
-            blocks.append(Block("svg", text=svg.sparsity(sub, len(part), {i - start for i in independent
-                                                                          if start <= i < last},
-                                                         [labels[k] for k in part],
-                                                         [str(i + 1) for i in range(start, last)]),
-                                caption=f"Reaction-species incidence, reactions {start + 1}-{last} of {len(rows)}"
-                                        f"{cols_note}"))
-    return blocks
+# Each section below is one function of (audit result, JSON document, case as entered) that
+# returns its blocks; SECTIONS, after them, lists the sections in report order.
 
-
-def _composition(eq: dict, e: entered_mod.Entered, coexisting) -> Block:
-    """One row per species, two columns per phase (amount in the feed's unit, mole fraction)."""
-    phases = eq["phases"]
-    species: list[str] = []
-    for p in phases:
-        species += [s for s in p["mole_fractions"] if s not in species]
-    present = set(eq["phases_present"])
-    headers = ["species"]
-    for p in phases:
-        status = ("present" if p["name"] in present else "absent") + \
-            (", assumed" if p["name"] in coexisting else ", not assumed")
-        headers += [f"{p['name']} ({status}): amount, {e.amount_unit}", f"{p['name']}: mole fraction"]
-    rows = []
-    for s in species:
-        row = [s]
-        for p in phases:
-            x = p["mole_fractions"].get(s)
-            row += ["", ""] if x is None else [_amount(p["moles"] * x, e), f"{x:.6g}"]
-        rows.append(row)
-    rows.append(["phase total"] + [x for p in phases for x in (_amount(p["moles"], e), "1" if p["moles"] > 0 else "")])
-    return _table(headers, rows, f"Equilibrium composition (amounts in {e.amount_unit}, the unit of the feed)")
-
-
-def _route(eq: dict) -> str:
-    """The route whose state the certificate accepted, and the outcomes of the routes tried before it."""
-    earlier = [f"{a['route']}: {a['outcome']}" for a in eq.get("attempts", []) if a["outcome"] != "certified"]
-    route = eq.get("route") or "none certified"
-    return f"{route} (after {'; '.join(earlier)})" if earlier else f"{route} (the first route tried)"
-
-
-def _certificate(eq: dict, doc: dict) -> Block:
-    sp = doc["specification"]
-
-    def num(v, fmt=".3e", why="not computed"):
-        return f"n/a ({why})" if v is None else format(v, fmt)
-
-    if eq["jacobian_rcond"] is None:
-        if sp["extensive"]:
-            jac_why = "an extensive specification is given; the check covers intensive specifications only"
-        elif set(eq["phases_present"]) != set(doc["phase_rule"]["coexisting"]):
-            jac_why = "the phases found differ from those assumed"
-        else:
-            jac_why = "the structure is singular, see the specification audit"
-    unique = f"{yes_no(eq['unique'])} ({eq['unique_basis']})" if eq["unique_basis"] else yes_no(eq["unique"])
-    rows = [("converged", yes_no(eq["converged"])),
-            ("confirmed (every check below passes and the assumed phases are found)", yes_no(eq["confirmed"])),
-            ("unique", unique),
-            ("starting estimates tried", eq["starts"]),
-            ("solve route that gave this state", _route(eq)),
-            ("conserved-quantity balance error (relative)", num(eq["element_balance_error"])),
-            ("largest affinity among present species, RT", num(eq["max_affinity_RT"])),
-            ("element-potential fit residual, RT", num(eq["potential_residual_RT"])),
-            ("present phases' conserved-quantity vectors, smallest/largest singular value",
-             num(eq["phase_amount_rcond"], why="not used: uniqueness was decided by restarts (a non-ideal phase or "
-                                               "an outer solve)")),
-            ("ln K additivity error of dependent reactions",
-             num(eq["lnK_additivity_error"], why="no dependent reaction among the listed ones")),
-            ("Jacobian smallest/largest singular value",
-             num(eq["jacobian_rcond"], why=jac_why if eq["jacobian_rcond"] is None else ""))]
-    rows += [(f"driving force to form absent phase {k}, RT (must be positive)",
-              "n/a (cannot form: needs an element the feed lacks)" if v is None else f"{v:+.4g}")
-             for k, v in eq["absent_phase_driving_force_RT"].items()]
-    return _table(("certificate item", "value"), rows, "Certificate of the Gibbs minimisation")
-
-
-def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str, list[Block]]]]:
-    doc = doc or check_document(r, with_context=True)
-    e = entered_mod.read(r.case)
-    sec: list[tuple[str, list[Block]]] = []
-
-    # ---- verdict: one plain sentence, the fix, and where the errors are stated
-    verdict_blocks = [_para(f"Verdict: {doc['verdict']}"), _para(f"Why: {doc['reason']}")]
+def _verdict(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
+    """One plain sentence, the fix, and where the errors are stated."""
+    blocks = [_para(f"Verdict: {doc['verdict']}"), _para(f"Why: {doc['reason']}")]
     if doc["specification"]["suggestion"]:
-        verdict_blocks.append(_para(f"Suggested fix: {doc['specification']['suggestion']}"))
+        blocks.append(_para(f"Suggested fix: {doc['specification']['suggestion']}"))
     elif doc["verdict"] == "well-posed":
-        verdict_blocks.append(_para("No change to the specifications is needed."))
+        blocks.append(_para("No change to the specifications is needed."))
     where = sorted({TOPIC_SECTION.get(f["topic"], "Findings") for f in doc["findings"] if f["severity"] == "error"},
                    key=SECTION_TITLES.index)
     n_err = sum(f["severity"] == "error" for f in doc["findings"])
     if n_err:
-        verdict_blocks.append(_para(f"{n_err} error{'s' if n_err > 1 else ''}, stated under: {', '.join(where)}."))
+        blocks.append(_para(f"{n_err} error{'s' if n_err > 1 else ''}, stated under: {', '.join(where)}."))
     n_warn = sum(f["severity"] == "warning" for f in doc["findings"])
     if n_warn:
-        verdict_blocks.append(_para(f"{n_warn} warning{'s' if n_warn > 1 else ''} for the reviewer, listed under "
-                                    "Findings."))
-    sec.append(("Verdict", verdict_blocks))
+        blocks.append(_para(f"{n_warn} warning{'s' if n_warn > 1 else ''} for the reviewer, listed under "
+                            "Findings."))
+    return blocks
 
-    # ---- the case as entered
+
+def _case_as_entered(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
     case = r.case
-    cblocks = [_table(("item", "as entered"),
-                      [("title", case.title), ("thermo source", e.source),
-                       ("reactions", case.reactions if isinstance(case.reactions, str)
-                        else f"a list of {len(case.reactions)} (numbered from 1 below)"),
-                       ("phases assumed to coexist", ", ".join(case.coexisting) if case.coexisting
-                        else "all listed (no 'coexisting' given)")], "The case"),
-               _table(("phase", "species as listed"),
-                      [(p, ", ".join(s) if s is not None else "all of the source's species") for p, s in case.system.phases],
-                      "Phases and species")]
+    blocks = [_table(("item", "as entered"),
+                     [("title", case.title), ("thermo source", e.source),
+                      ("reactions", case.reactions if isinstance(case.reactions, str)
+                       else f"a list of {len(case.reactions)} (numbered from 1 below)"),
+                      ("phases assumed to coexist", ", ".join(case.coexisting) if case.coexisting
+                       else "all listed (no 'coexisting' given)")], "The case"),
+              _table(("phase", "species as listed"),
+                     [(p, ", ".join(s) if s is not None else "all of the source's species") for p, s in case.system.phases],
+                     "Phases and species")]
     if isinstance(case.reactions, tuple):
-        cblocks.append(_table(("reaction", "equation as written"),
-                              [(i + 1, eq) for i, (eq, _) in enumerate(case.reactions)], "Reactions as listed"))
+        blocks.append(_table(("reaction", "equation as written"),
+                             [(i + 1, eq) for i, (eq, _) in enumerate(case.reactions)], "Reactions as listed"))
     if case.feed is not None:
         si = {}
         for name, a in case.feed:
             si[name] = si.get(name, 0.0) + float(a)
-        cblocks.append(_table(("species", "amount as entered", "amount, mol (SI)"),
-                              [(name, text, f"{si.get(name, 0.0):.10g}") for name, text in e.feed],
-                              f"Feed (results are given in {e.amount_unit})"))
+        blocks.append(_table(("species", "amount as entered", "amount, mol (SI)"),
+                             [(name, text, f"{si.get(name, 0.0):.10g}") for name, text in e.feed],
+                             f"Feed (results are given in {e.amount_unit})"))
     else:
-        cblocks.append(_para("No feed: an intensive problem (no Gibbs minimisation)."))
-    cblocks.append(_table(("specification", "as written", "SI value"),
-                          [(k, text, _spec_si(k, case)) for k, text in e.specified] or [("(none)", "", "")],
-                          "Specifications"))
-    cblocks.append(_para("Restrictions declared: " + ("; ".join(e.restrictions) if e.restrictions else "none")))
-    cblocks.append(_para("Claims made: " + ("; ".join(f"{k} = {v}" for k, v in e.claims) if e.claims else "none")))
+        blocks.append(_para("No feed: an intensive problem (no Gibbs minimisation)."))
+    blocks.append(_table(("specification", "as written", "SI value"),
+                         [(k, text, _spec_si(k, case)) for k, text in e.specified] or [("(none)", "", "")],
+                         "Specifications"))
+    blocks.append(_para("Restrictions declared: " + ("; ".join(e.restrictions) if e.restrictions else "none")))
+    blocks.append(_para("Claims made: " + ("; ".join(f"{k} = {v}" for k, v in e.claims) if e.claims else "none")))
     if e.text:
-        cblocks.append(Block("file", text=e.text, caption=f"Case file {e.path} (SHA-256 {e.sha256})"))
-    sec.append(("Case as entered", cblocks))
+        blocks.append(Block("file", text=e.text, caption=f"Case file {e.path} (SHA-256 {e.sha256})"))
+    return blocks
 
-    # ---- provenance
+
+def _provenance(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
     versions = doc.get("versions", {})
-    sec.append(("Provenance", [
+    return [
         _table(("role", "path as given", "SHA-256"), _file_rows(doc), "Files read"),
         _table(("component", "version"), [("auditor (this tool)", doc["tool"]["version"]),
                                           ("cantera", versions.get("cantera") or "not installed")]
                + [(k, v) for k, v in sorted(versions.items()) if k not in ("auditor", "cantera")], "Software"),
-        _para(f"Generated {doc.get('generated', '')} by auditor {doc['tool']['version']}.")]))
+        _para(f"Generated {doc.get('generated', '')} by auditor {doc['tool']['version']}.")]
 
-    # ---- system
+
+def _system(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
     sysd = doc["system"]
     labels = [s["label"] for s in sysd["species"]]
-    sec.append(("System", [
+    return [
         _table(("phase", "model", "phase-species"),
                [(p["name"], p["model"], ", ".join(p["species"])) for p in sysd["phases"]], "Phases"),
         _table(["", *labels], [[el, *row] for el, row in zip(sysd["elements"], sysd["formula_matrix"])],
-               "Formula matrix (rows: elements and charge; columns: phase-species)")]))
+               "Formula matrix (rows: elements and charge; columns: phase-species)")]
 
-    # ---- reactions (numbered from 1)
+
+def _reactions(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
+    """The listed reactions numbered from 1, with their dependences, imbalances and repeats."""
     rd = doc["reactions"]
     eqs = [x.equation for x in r.reactions.reactions]
     state = "complete" if rd["complete"] else ("not defined (unbalanced reactions)" if rd["unbalanced"]
                                                else "incomplete")
-    rblocks = _errors_of(doc, "Reactions") + [
+    blocks = _errors_of(doc, "Reactions") + [
         _para(f"Rank {rd['rank']} of {len(eqs)} listed (formula-matrix rank {rd['formula_rank']}, at most "
               f"{rd['max_independent']} independent); the list is {state}.")]
     if eqs:
-        rblocks.append(_table(("reaction", "equation", "role"),
-                              [(i + 1, q, "independent" if i in set(r.reactions.independent) else "dependent")
-                               for i, q in enumerate(eqs)], "Reactions (numbered from 1)"))
+        blocks.append(_table(("reaction", "equation", "role"),
+                             [(i + 1, q, "independent" if i in set(r.reactions.independent) else "dependent")
+                              for i, q in enumerate(eqs)], "Reactions (numbered from 1)"))
     an = r.reactions                        # indices from the analysis itself (equations may repeat)
     repeats = {i for g in an.duplicates for i, _ in g.members}
     dependent = [d for d in an.dependent if d.index not in repeats]   # repeats: in their own table
     if dependent:
-        rblocks.append(_table(("reaction", "exact combination of independent reactions"),
-                              [(d.index + 1, " + ".join(f"({format_fraction(c)}) x reaction {j + 1}"
-                                                        for j, c in d.combination)) for d in dependent],
-                              "Dependent reactions"))
+        blocks.append(_table(("reaction", "exact combination of independent reactions"),
+                             [(d.index + 1, " + ".join(f"({format_fraction(c)}) x reaction {j + 1}"
+                                                       for j, c in d.combination)) for d in dependent],
+                             "Dependent reactions"))
     if an.unbalanced:
-        rblocks.append(_table(("reaction", "imbalance, products minus reactants"),
-                              [(u.index + 1, ", ".join(f"{el} {format_fraction(v)}" for el, v in u.imbalance))
-                               for u in an.unbalanced], "Unbalanced reactions"))
+        blocks.append(_table(("reaction", "imbalance, products minus reactants"),
+                             [(u.index + 1, ", ".join(f"{el} {format_fraction(v)}" for el, v in u.imbalance))
+                              for u in an.unbalanced], "Unbalanced reactions"))
     if an.duplicates:
-        rblocks.append(_table(("reaction", "repeated by"),
-                              [(g.representative + 1, "; ".join(f"reaction {i + 1} (x {format_fraction(f)})"
-                                                                for i, f in g.members)) for g in an.duplicates],
-                              "Duplicates (same net change)"))
+        blocks.append(_table(("reaction", "repeated by"),
+                             [(g.representative + 1, "; ".join(f"reaction {i + 1} (x {format_fraction(f)})"
+                                                               for i, f in g.members)) for g in an.duplicates],
+                             "Duplicates (same net change)"))
     if rd["frozen_directions"]:
-        rblocks += [_para("Frozen directions (reactions the list cannot produce):"), _list(rd["frozen_directions"])]
-    if not rd["complete"] or isinstance(case.reactions, tuple):
-        rblocks += [_para("A complete independent set derived from the species alone: "
-                          + ("; ".join(rd["derived_complete_set"]) or "none"))]
-    rblocks.append(_para("Conserved quantities: " + ("; ".join(rd["conserved_quantities"]) or "none")))
-    rblocks += _incidence(r)
-    sec.append(("Reactions", rblocks))
+        blocks += [_para("Frozen directions (reactions the list cannot produce):"), _list(rd["frozen_directions"])]
+    if not rd["complete"] or isinstance(r.case.reactions, tuple):
+        blocks += [_para("A complete independent set derived from the species alone: "
+                         + ("; ".join(rd["derived_complete_set"]) or "none"))]
+    blocks.append(_para("Conserved quantities: " + ("; ".join(rd["conserved_quantities"]) or "none")))
+    return blocks + incidence(r)
 
-    # ---- phase rule, with feed-born relations in words
-    pr = doc["phase_rule"]
+
+def _relation_rows(r: AuditResult) -> list[tuple[str, str]]:
+    """(relation, its meaning in words) of each restriction counted in r; feed-born ones in words."""
     words = dict(r.phase_rule.feed_words)
     rel_rows = []
     feed_rows = {}
@@ -323,13 +185,20 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
             else:
                 meaning = "(part of the same statement)"
         rel_rows.append((rel.text, meaning))
+    return rel_rows
+
+
+def _phase_rule(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
+    """The phase-rule count, with feed-born relations in words."""
+    pr = doc["phase_rule"]
+    rel_rows = _relation_rows(r)
     how = {}
     for line in pr["explanation"]:
         if line.startswith("    "):
             continue                                  # the relations: in their own table below
         symbol = line.split(" ", 1)[0]
         how[symbol] = line.split(": ", 1)[1] if symbol in ("N", "pi", "m", "r") else line
-    pblocks = _errors_of(doc, "Phase rule") + [
+    blocks = _errors_of(doc, "Phase rule") + [
         _table(("term", "value", "how it is counted"),
                [("N phase-species", pr["species"], how.get("N", "")), ("pi phases", pr["phases"], how.get("pi", "")),
                 ("m independent reactions", pr["independent_reactions"], how.get("m", "")),
@@ -337,67 +206,99 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
                 ("C components", pr["components"], how.get("C", "")),
                 ("F degrees of freedom", pr["degrees_of_freedom"], how.get("F", ""))], "Phase-rule count")]
     if rel_rows:
-        pblocks.append(_table(("relation on mole fractions", "in words"), rel_rows, "Restrictions counted in r"))
+        blocks.append(_table(("relation on mole fractions", "in words"), rel_rows, "Restrictions counted in r"))
     if "Duhem:" in how:
-        pblocks.append(_para(how["Duhem:"]))
-    if r.phase_rule.reactions_present and len(r.phase_rule.reactions_present) != len(eqs):
-        pblocks.append(_para("Independent reactions among the species of the coexisting phases (m): "
-                             + "; ".join(x.equation for x in r.phase_rule.reactions_present)))
-    sec.append(("Phase rule", pblocks))
+        blocks.append(_para(how["Duhem:"]))
+    if r.phase_rule.reactions_present and len(r.phase_rule.reactions_present) != len(r.reactions.reactions):
+        blocks.append(_para("Independent reactions among the species of the coexisting phases (m): "
+                            + "; ".join(x.equation for x in r.phase_rule.reactions_present)))
+    return blocks
 
-    # ---- specification audit
+
+def _specification(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
     sp = doc["specification"]
-    sec.append(("Specification audit", _errors_of(doc, "Specification audit") + [
+    return _errors_of(doc, "Specification audit") + [
         _table(("kind", "count", "specifications"), [("intensive", sp["intensive"], "; ".join(sp["intensive_names"]) or "-"),
                                                      ("extensive", sp["extensive"], "; ".join(sp["extensive_names"]) or "-")],
                "Specifications counted"),
         _para("Verdict rules as applied:"), _list(sp["rules_applied"]),
         _para(f"Free variables: {', '.join(sp['free']) or 'none'}"),
         _para(f"Conflicting specifications: {'; '.join(sp['conflicting']) or 'none'}"),
-        _para(f"Suggested fix: {sp['suggestion'] or 'none needed'}")]))
+        _para(f"Suggested fix: {sp['suggestion'] or 'none needed'}")]
 
-    # ---- equilibrium
+
+def _equilibrium(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
     eq = doc["equilibrium"]
-    eblocks = _errors_of(doc, "Equilibrium and certificate")
+    blocks = _errors_of(doc, "Equilibrium and certificate")
     if eq is None and r.case.feed is not None:
-        eblocks.append(_para("The Gibbs minimisation was not run (counting only, --no-confirm)."))
+        blocks.append(_para("The Gibbs minimisation was not run (counting only, --no-confirm)."))
     elif eq is None:
-        eblocks.append(_para("No Gibbs minimisation: the case gives no feed (an intensive problem)."))
+        blocks.append(_para("No Gibbs minimisation: the case gives no feed (an intensive problem)."))
     elif not eq["solved"]:
-        eblocks.append(_para("The Gibbs minimisation was not run or did not solve (see the errors above or the findings)."))
+        blocks.append(_para("The Gibbs minimisation was not run or did not solve (see the errors above or the findings)."))
     else:
         T, P = eq["temperature_K"], eq["pressure_Pa"]
-        eblocks.append(_para(f"Solver: {eq['solver']}; T = {T:.2f} K ({T - 273.15:.2f} degC); P = {P / 1e5:.6g} bar; "
-                             f"confirmed: {yes_no(eq['confirmed'])}."))
-        eblocks.append(_composition(eq, e, pr["coexisting"]))
-        eblocks.append(_certificate(eq, doc))
-    sec.append(("Equilibrium and certificate", eblocks))
+        blocks.append(_para(f"Solver: {eq['solver']}; T = {T:.2f} K ({T - 273.15:.2f} degC); P = {P / 1e5:.6g} bar; "
+                            f"confirmed: {yes_no(eq['confirmed'])}."))
+        blocks.append(composition(eq, e, doc["phase_rule"]["coexisting"]))
+        blocks.append(certificate(eq, doc))
+    return blocks
 
-    sec.append(("Claims", _errors_of(doc, "Claims") + [
+
+def _claims(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
+    return _errors_of(doc, "Claims") + [
         _table(("claim", "claimed", "found", "result"),
                [(c["claim"], show_value(c["claimed"]), show_value(c["found"]),
                  {True: "held", False: "refuted", None: "not checked"}[c["held"]]) for c in doc["claims"]], "Claims")
-        if doc["claims"] else _para("The case makes no claims.")]))
-    assumed = []
+        if doc["claims"] else _para("The case makes no claims.")]
+
+
+def _assumptions(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
+    eq = doc["equilibrium"]
+    blocks = []
     if eq and eq.get("assumed_densities"):
-        assumed.append(_table(("species", "density kg/m3", "source"),
-                              [(d["species"], d["density_kg_m3"], d["source"]) for d in eq["assumed_densities"]],
-                              "Densities assumed"))
-    assumed.append(_table(("tolerance", "value"), sorted(doc["tolerances"].items()), "Named tolerances"))
-    assumed.append(_table(("species", "thermo data range, K"),
-                          [(s["label"], f"{s['thermo_range_K'][0]:g} - {s['thermo_range_K'][1]:g}") for s in sysd["species"]],
-                          "Thermo data ranges"))
-    sec.append(("Assumptions", assumed))
+        blocks.append(_table(("species", "density kg/m3", "source"),
+                             [(d["species"], d["density_kg_m3"], d["source"]) for d in eq["assumed_densities"]],
+                             "Densities assumed"))
+    blocks.append(_table(("tolerance", "value"), sorted(doc["tolerances"].items()), "Named tolerances"))
+    blocks.append(_table(("species", "thermo data range, K"),
+                         [(s["label"], f"{s['thermo_range_K'][0]:g} - {s['thermo_range_K'][1]:g}")
+                          for s in doc["system"]["species"]],
+                         "Thermo data ranges"))
+    return blocks
+
+
+def _findings(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
     rows = []
     for f in doc["findings"]:
         if f["severity"] == "error":
             rows.append((f["severity"], f["topic"], f"stated under {TOPIC_SECTION.get(f['topic'], 'Findings')}"))
         else:
             rows.append((f["severity"], f["topic"], f["message"]))
-    sec.append(("Findings", [_table(("severity", "topic", "message"), rows, "Findings") if rows else _para("No findings.")]))
-    sec.append(("Cautions", [_list(doc["cautions"])]))
-    sec.append(("Sign-off", [Block("signoff", headers=("role", "name", "signature", "date"),
-                                   rows=(("prepared by", "", "", ""), ("checked by", "", "", ""),
-                                         ("approved by", "", "", "")),
-                                   text="revision", caption="Sign-off")]))
-    return doc, sec
+    return [_table(("severity", "topic", "message"), rows, "Findings") if rows else _para("No findings.")]
+
+
+def _cautions(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
+    return [_list(doc["cautions"])]
+
+
+def _signoff(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
+    return [Block("signoff", headers=("role", "name", "signature", "date"),
+                  rows=(("prepared by", "", "", ""), ("checked by", "", "", ""), ("approved by", "", "", "")),
+                  text="revision", caption="Sign-off")]
+
+
+# the report's sections, in order: title and the function that builds its blocks
+SECTIONS = (("Verdict", _verdict), ("Case as entered", _case_as_entered), ("Provenance", _provenance),
+            ("System", _system), ("Reactions", _reactions), ("Phase rule", _phase_rule),
+            ("Specification audit", _specification), ("Equilibrium and certificate", _equilibrium),
+            ("Claims", _claims), ("Assumptions", _assumptions), ("Findings", _findings),
+            ("Cautions", _cautions), ("Sign-off", _signoff))
+SECTION_TITLES = tuple(title for title, _ in SECTIONS)
+
+
+def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str, list[Block]]]]:
+    """The JSON document and the report's sections, each a title and its blocks."""
+    doc = doc or check_document(r, with_context=True)
+    e = entered_mod.read(r.case)
+    return doc, [(title, section(r, doc, e)) for title, section in SECTIONS]
