@@ -9,11 +9,8 @@ amount is written in the same one (a feed in kmol gives results in kmol), else m
 from __future__ import annotations
 
 import hashlib
-import re
 from dataclasses import dataclass
 from pathlib import Path
-
-_NUMBER_UNIT = re.compile(r"^\s*[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?\s*(.*?)\s*$")
 
 
 @dataclass(frozen=True)
@@ -63,17 +60,34 @@ def _molar_unit(unit: str) -> float | None:
 
 
 def amount_unit(feed_texts) -> tuple[str, float]:
+    """(unit, mol per unit) of the report's amounts: the feed's one molar unit, else mol."""
+    from ..units import split
     units = set()
     for _, t in feed_texts:
-        m = _NUMBER_UNIT.match(t)
-        units.add(m.group(1) if m else None)
+        try:
+            units.add(split(t, "amount")[2])
+        except ValueError:
+            units.add(None)
     if len(units) == 1:
         unit = units.pop()
         if unit is not None:
             scale = _molar_unit(unit)
             if scale is not None:
-                return (unit or "mol"), scale
+                return unit, scale
     return "mol", 1.0
+
+
+def feed_as_written(case) -> list[tuple[str, str]]:
+    """(species, amount as written) in file order, from the loader's record of the text."""
+    written = [(kp[len("feed."):], t) for kp, t in case.as_written.items() if kp.startswith("feed.")]
+    if written or case.feed is None:
+        return written
+    return [(name, f"{float(a):g} mol") for name, a in case.feed]
+
+
+def case_amount_unit(case) -> tuple[str, float]:
+    """The report's amount unit for ``case`` without reading its file again."""
+    return amount_unit(feed_as_written(case))
 
 
 def read(case) -> Entered:
@@ -94,11 +108,7 @@ def read(case) -> Entered:
         node = given.get("mechanism", given.get("source"))
         if isinstance(node, yaml.ScalarNode):
             source = node.value
-    feed: list[tuple[str, str]] = []
-    if isinstance(top.get("feed"), yaml.MappingNode):
-        feed = [(k.value, _snippet(text, v)) for k, v in top["feed"].value]
-    elif case.feed is not None:
-        feed = [(name, f"{float(a):g} mol") for name, a in case.feed]
+    feed = feed_as_written(case)
     specified = list(_leaves(text, top["specified"], "")) if isinstance(top.get("specified"), yaml.MappingNode) else []
     restrictions = []
     if isinstance(top.get("restrictions"), yaml.SequenceNode):

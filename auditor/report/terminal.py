@@ -75,12 +75,12 @@ def _fmt(x, why: str = "not computed") -> str:
 def equilibrium_lines(r: AuditResult) -> list[str]:
     """The minimisation in words: phases with amounts in the feed's unit, and the certificate."""
     import math
-    from .entered import read
+    from .entered import case_amount_unit
     eq = r.equilibrium
     if not eq.solved:
         msgs = [f.message for f in eq.findings if f.topic == "equilibrium"][:3]
         return msgs or ["Gibbs minimisation: not solved"]
-    e = read(r.case)
+    amount_unit, mol_per_unit = case_amount_unit(r.case)
     yes = {True: "yes", False: "no", None: "not decided"}
     out = [f"Gibbs minimisation ({eq.solver}) at T = {eq.temperature_K:.2f} K ({eq.temperature_K - 273.15:.2f} degC), "
            f"P = {eq.pressure_Pa / 1e5:.6g} bar: " + ("CONFIRMED" if eq.confirmed else "NOT CONFIRMED")]
@@ -88,7 +88,7 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
         if p.moles <= 0:
             continue
         major = sorted(p.mole_fractions, key=lambda kv: -kv[1])[:8]
-        out.append(f"  {p.name}: {p.moles / e.mol_per_unit:.6g} {e.amount_unit}; x: " + ", ".join(f"{k} {v:.4g}" for k, v in major))
+        out.append(f"  {p.name}: {p.moles / mol_per_unit:.6g} {amount_unit}; x: " + ", ".join(f"{k} {v:.4g}" for k, v in major))
     unique = f"{yes[eq.unique]} ({eq.unique_basis})" if eq.unique_basis else yes[eq.unique]
     out.append(f"  certificate: converged {yes[eq.converged]}; unique {unique}; balance error "
                f"{_fmt(eq.element_balance_error)}; largest affinity {_fmt(eq.max_affinity_RT)} RT; potential residual "
