@@ -8,7 +8,9 @@ the document was generated), which ``normalise`` removes.  Floats are compared t
 rounding): the same arithmetic may round differently in its last bits when the order of
 cantera's solves within one process differs.
 
-The text report (``auditor check CASE``) is kept beside each document and compared exactly.
+The text report (``auditor check CASE``) is kept beside each document and compared exactly,
+except residuals printed below ``TEXT_RESIDUAL_FLOOR`` (balances, affinities at rounding
+level differ between numpy and BLAS builds), which both sides show as ``<floor``.
 
 Regenerate after an intended change of output: ``python tests/test_golden.py``.
 """
@@ -18,6 +20,7 @@ import contextlib
 import io
 import json
 import math
+import re
 from pathlib import Path
 
 import pytest
@@ -30,6 +33,7 @@ ROOT = Path(__file__).resolve().parents[1]
 GOLDEN = ROOT / "tests" / "golden"
 FLOAT_RTOL = 1e-7     # relative: last-bit differences of one solve, carried through a certificate
 FLOAT_ATOL = 1e-12    # absolute: residuals at rounding level (balances, affinities)
+TEXT_RESIDUAL_FLOOR = re.compile(r"\b\d\.\d+e-(1[0-9]|[2-9][0-9]|\d{3})\b")   # printed numbers below 1e-10
 
 # every demo case, the packaged default, and reference cases taken from the suite (copied
 # under tests/golden/cases/ so that the golden set does not depend on a test's text)
@@ -99,7 +103,12 @@ def test_document_unchanged(case):
 def test_text_unchanged(case):
     # the text rounds every float, so it is compared exactly
     expected = (GOLDEN / golden_name(case)).with_suffix(".txt").read_text(encoding="utf-8")
-    assert text(case) == expected
+    assert masked(text(case)) == masked(expected)
+
+
+def masked(report: str) -> str:
+    """The text with rounding-level residuals (below 1e-10) replaced by one word."""
+    return TEXT_RESIDUAL_FLOOR.sub("<1e-10", report)
 
 
 if __name__ == "__main__":
