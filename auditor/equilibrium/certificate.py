@@ -13,8 +13,9 @@ The answer is not trusted: a certificate is checked instead.
   checked by restarting cantera from other starting estimates (``uniqueness``);
 * present phases against those assumed; temperature inside each present species' data;
 * ``ln K`` of every dependent reaction equal to the combination of the independent ones;
-* for structurally square cases, the Jacobian of the specification audit's equations
-  at the solution has full numerical rank (:mod:`.jacobian`).
+* for structurally square cases, the specification audit's equations are nonsingular at
+  the solution: by proof for ideal phases at fixed T and P, else the Jacobian has full
+  numerical rank (:mod:`.jacobian`).
 """
 from __future__ import annotations
 
@@ -97,6 +98,7 @@ class Measured:
     amount_rcond: float | None
     lnk_error: float | None
     jacobian_rcond: float | None
+    nonsingularity_test: str            # which test decided that the equations are nonsingular ("" when none ran)
 
 
 def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver: RouteSolver, sol: SolvedState,
@@ -138,18 +140,24 @@ def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
         lnK = -(a.lnk_rows @ g)
         lnk_err = float(np.max(np.abs(a.lnk_combination @ lnK) / np.maximum(1.0, np.abs(lnK[a.lnk_dependent]))))
 
-    # Jacobian of the specification audit's equations (structurally square cases only)
-    jac = None
+    # the specification audit's equations are nonsingular at the solution (structurally
+    # square cases only): by proof where it applies, else numerically
+    jac, nonsingularity_test = None, ""
     if spec.decomposition.structurally_nonsingular and not spec.extensive and tuple(count.coexisting) == present_names:
-        try:
-            jac = jacobian.jacobian_rcond(jacobian.layout(ws, case, count, spec), g_dlnT, g_dlnP, n, a.phase_of, totals)
-        except Exception as exc:
-            findings.append(Finding("warning", "equilibrium", f"the Jacobian check could not be evaluated: {exc}"))
+        if jacobian.proof_applies(a.ideal, case, unique_basis.startswith("proved:"), n, present):
+            nonsingularity_test = jacobian.BY_PROOF
+        else:
+            try:
+                jac = jacobian.jacobian_rcond(jacobian.layout(ws, case, count, spec), g_dlnT, g_dlnP, n, a.phase_of,
+                                              totals)
+                nonsingularity_test = jacobian.BY_NUMBERS
+            except Exception as exc:
+                findings.append(Finding("warning", "equilibrium", f"the Jacobian check could not be evaluated: {exc}"))
     return Measured(n=n, totals=totals, phase_present=phase_present, present=present, present_names=present_names,
                     mole_fractions=x_all, balance_error=bal, potentials=lam, potential_residual=resid,
                     max_affinity=max_aff, drive=tuple((system.phases[p].name, d) for p, d in sorted(drive.items())),
                     unique=unique, starts=starts, unique_basis=unique_basis, amount_rcond=amount_rcond,
-                    lnk_error=lnk_err, jacobian_rcond=jac)
+                    lnk_error=lnk_err, jacobian_rcond=jac, nonsingularity_test=nonsingularity_test)
 
 
 def _numerical_findings(m: Measured) -> tuple[bool, list[Finding]]:
@@ -237,7 +245,7 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
         phases=phases, phases_present=m.present_names, max_affinity_RT=m.max_affinity,
         element_balance_error=m.balance_error, potential_residual_RT=m.potential_residual,
         absent_phase_driving_force=m.drive, unique=m.unique, starts=m.starts, lnK_additivity_error=m.lnk_error,
-        jacobian_rcond=m.jacobian_rcond, assumed_densities=tuple(solver.model.assumed), findings=tuple(findings),
+        jacobian_rcond=m.jacobian_rcond, nonsingularity_test=m.nonsingularity_test, assumed_densities=tuple(solver.model.assumed), findings=tuple(findings),
         confirmed=ok_numbers and ok_phases, seconds=time.perf_counter() - t0,
         element_potentials=tuple(zip(a.potential_names, m.potentials.tolist())),
         unique_basis=m.unique_basis, phase_amount_rcond=m.amount_rcond,

@@ -10,6 +10,7 @@ from ..audit import AuditResult
 from ..exact import format_fraction
 from . import entered as entered_mod
 from . import svg
+from .text import nonsingular_words
 
 # the reaction-species incidence is a table up to this size, a picture beyond it
 INCIDENCE_TABLE_MAX_SPECIES = 12
@@ -122,7 +123,7 @@ def certificate(eq: dict, doc: dict) -> Block:
     def num(v, fmt=".3e", why="not computed"):
         return f"n/a ({why})" if v is None else format(v, fmt)
 
-    if eq["jacobian_rcond"] is None:
+    if not eq["nonsingularity_test"]:
         if sp["extensive"]:
             jac_why = "an extensive specification is given; the check covers intensive specifications only"
         elif set(eq["phases_present"]) != set(doc["phase_rule"]["coexisting"]):
@@ -143,8 +144,9 @@ def certificate(eq: dict, doc: dict) -> Block:
                                                "an outer solve)")),
             ("ln K additivity error of dependent reactions",
              num(eq["lnK_additivity_error"], why="no dependent reaction among the listed ones")),
-            ("Jacobian smallest/largest singular value",
-             num(eq["jacobian_rcond"], why=jac_why if eq["jacobian_rcond"] is None else ""))]
+            ("equations nonsingular at the solution",
+             nonsingular_words(eq["nonsingularity_test"], eq["jacobian_rcond"]) if eq["nonsingularity_test"]
+             else f"n/a ({jac_why})")]
     rows += [(f"driving force to form absent phase {k}, RT (must be positive)",
               "n/a (cannot form: needs an element the feed lacks)" if v is None else f"{v:+.4g}")
              for k, v in eq["absent_phase_driving_force_RT"].items()]

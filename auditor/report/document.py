@@ -183,6 +183,7 @@ def equilibrium_document(eq: EquilibriumCheck) -> dict:
                                           for k, v in eq.absent_phase_driving_force},
         "lnK_additivity_error": eq.lnK_additivity_error,
         "jacobian_rcond": eq.jacobian_rcond,
+        "nonsingularity_test": eq.nonsingularity_test or None,
         "element_potentials_RT": dict(eq.element_potentials),
         "assumed_densities": [{"species": s, "density_kg_m3": d, "source": src}
                               for s, d, src in eq.assumed_densities],

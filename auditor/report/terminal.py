@@ -4,7 +4,7 @@ from __future__ import annotations
 import textwrap
 
 from ..audit import AuditResult, show_value
-from .text import phase_rule_explanation
+from .text import nonsingular_words, phase_rule_explanation
 from .document import CAUTIONS
 
 WIDTH = 100
@@ -100,8 +100,8 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
                        for n, d in eq.absent_phase_driving_force)
     if absent:
         out.append(f"  driving force to form absent phases (RT, must be positive): {absent}")
-    if eq.jacobian_rcond is not None:
-        out.append(f"  Jacobian smallest/largest singular value: {eq.jacobian_rcond:.3e}")
+    if eq.nonsingularity_test:
+        out.append(f"  equations nonsingular at the solution: {nonsingular_words(eq.nonsingularity_test, eq.jacobian_rcond)}")
     return out
 
 

@@ -17,6 +17,14 @@ def yes_no(flag: bool | None) -> str:
     return "not decided" if flag is None else ("yes" if flag else "no")
 
 
+def nonsingular_words(test: str, rcond: float | None) -> str:
+    """Whether the equations are nonsingular at the solution, and which test decided."""
+    if rcond is None:
+        return f"yes ({test})"
+    from .. import settings
+    return f"{yes_no(rcond >= settings.JACOBIAN_RANK_TOLERANCE)} ({test}; smallest/largest singular value {rcond:.3e})"
+
+
 def _sci(x: float | None) -> str:
     return "n/a" if x is None else f"{x:.2e}"
 
