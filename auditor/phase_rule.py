@@ -21,6 +21,7 @@ variables, intensive or extensive.
 """
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from fractions import Fraction
 from typing import Sequence
@@ -103,12 +104,16 @@ def feed_ratios(W, names, b, idx, outside, relations, readable=None) -> str:
         return ""
     readable = readable or [True] * len(W)   # quantities with a short name (the elements)
     order = sorted((i for i in range(len(W)) if b[i] != 0 and readable[i]), key=lambda i: (names[i] != "C", i))
-    inside, kept = set(idx), []
+    inside, outside, kept = set(idx), set(outside), []
     ech = exact.RowEchelon(track=False)
     for pos, j in enumerate(order):            # j the reference (carbon first when fed)
         for i in order[pos + 1:]:
-            v = {k: b[j] * Fraction(W[i].get(k, 0)) - b[i] * Fraction(W[j].get(k, 0)) for k in set(W[i]) | set(W[j])}
-            if any(v.get(k, 0) != 0 for k in outside):
+            # b_j W_i - b_i W_j, scaled to integers when both rows are (only its direction matters)
+            scale = math.lcm(Fraction(b[i]).denominator, Fraction(b[j]).denominator)
+            bi, bj = exact.whole(b[i] * scale), exact.whole(b[j] * scale)
+            Wi, Wj = W[i], W[j]
+            v = {k: bj * Wi.get(k, 0) - bi * Wj.get(k, 0) for k in Wi.keys() | Wj.keys()}
+            if outside and any(v[k] != 0 for k in outside.intersection(v)):
                 continue
             v = {k: c for k, c in v.items() if c != 0 and k in inside}
             if v and ech.add(v) is None:

@@ -49,7 +49,7 @@ MINIMISATION_WALL_SECONDS = 60.0
 # Dulmage-Mendelsohn of a pattern with at most this many entries runs in plain Python (a
 # case's incidence has tens); larger ones use scipy's compiled matching, whose import costs
 # more than a whole small decomposition (auditor/dm.py; tests/test_dm.py checks both agree)
-DM_PLAIN_PYTHON_MAX_ENTRIES = 5_000
+DM_PLAIN_PYTHON_MAX_ENTRIES = 50_000
 
 TOLERANCES = {
     "coefficient_tolerance": COEFFICIENT_TOLERANCE,

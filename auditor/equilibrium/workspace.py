@@ -191,7 +191,9 @@ class Workspace:
                 pinv, free = np.zeros((m, 0)), np.eye(m)
             else:
                 # one SVD: lambda = V S^-1 U^T mu over the numerical rank; the rest of V is free
-                u, s, vt = np.linalg.svd(rows, full_matrices=True)
+                # the thin SVD holds all of V when there are at least as many species as rows of
+                # W (the common case; the full one would build a square U over every species)
+                u, s, vt = np.linalg.svd(rows, full_matrices=rows.shape[0] < rows.shape[1])
                 rank = int((s > 1e-10 * s[0]).sum()) if s.size else 0
                 pinv = vt[:rank].T @ (u[:, :rank] / s[:rank]).T
                 free = vt[rank:].T
