@@ -172,13 +172,12 @@ class RouteSolver:
             return SolvedState(np.zeros(self.system.n_species), T, P, f"cantera {solver}", False,
                                "no phase of the system can form from this feed")
         start = start[usable_mask]        # a copy
-        total = None
-        # a phase that may appear needs a trace seed: zero-seeded phases break the solver
-        for idx in self.slot.seeds:
-            if start[idx].sum() <= 0:
-                if total is None:
-                    total = max(float(start[self.candidate[usable_mask]].sum()), 1e-300)
-                start[idx] = 1e-12 * total / idx.size
+        # every species that may form gets a trace seed: zero-seeded phases break the solver,
+        # and seeded species save it iterations
+        seeds = self.slot.seed_positions
+        empty = seeds[start[seeds] <= 0]
+        if empty.size:
+            start[empty] = 1e-12 * max(float(start.sum()), 1e-300)
         mix = self.slot.mixture
         mix.T = T
         mix.P = P
@@ -209,9 +208,7 @@ class RouteSolver:
         one route: only the own minimiser holds the extra conserved quantities."""
         if not self.complete or not all(self.model.usable) or self.slot.mixture is None:
             return (ROUTE_OURS,)
-        mixed = np.unique(self.arrays.phase_of[self.slot.in_mixture])
-        one_gas = mixed.size == 1 and self.system.phases[int(mixed[0])].model == "ideal-gas"
-        return ((ROUTE_ONE_GAS,) if one_gas else ()) + CANTERA_ROUTES + ((ROUTE_OURS,) if self.arrays.ideal else ())
+        return ((ROUTE_ONE_GAS,) if self.slot.one_gas else ()) + CANTERA_ROUTES + ((ROUTE_OURS,) if self.arrays.ideal else ())
 
     def start_at(self, first: int) -> None:
         """Later solves begin at route ``first`` (routes before it gave a state that failed its

@@ -88,9 +88,10 @@ def uniqueness(arrays: CaseArrays, solver: RouteSolver, sol: SolvedState, n: np.
     potentials give an ideal phase.  Hence the state is unique exactly when every absent
     phase has a strictly positive driving force and the present phases' conserved-quantity
     vectors are independent (``phase_amount_rcond``); dependent vectors prove it is not.
-    Cantera is still restarted from another starting estimate (one when the proof holds,
-    ``RESTARTS`` otherwise), and a restart that lands elsewhere makes the state not unique.
-    The element-potential minimiser solves that convex problem itself and is not restarted.
+    Where the proof holds no restart can add to it; otherwise cantera is restarted from
+    ``RESTARTS`` other starting estimates, and a restart that lands elsewhere makes the state
+    not unique.  The element-potential minimiser solves that convex problem itself and is not
+    restarted.
     """
     proved, rcond = None, None
     cantera = sol.solver.startswith("cantera")
@@ -103,10 +104,10 @@ def uniqueness(arrays: CaseArrays, solver: RouteSolver, sol: SolvedState, n: np.
     if proved is False:
         return False, 1, "proved not unique: the phase amounts are indeterminate", rcond
     starts, unique = 1, True
-    if cantera and arrays.directions.shape[0]:
+    if cantera and arrays.directions.shape[0] and not proved:
         if x_ref is None:
             x_ref = mole_fractions(n, arrays.phase_of, totals)
-        for trial in range(1 if proved else RESTARTS):
+        for trial in range(RESTARTS):
             start = perturbed_start(n if trial == 0 else solver.n0, *arrays.trial_directions[trial])
             if start is None:
                 continue

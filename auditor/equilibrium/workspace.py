@@ -127,6 +127,12 @@ class MixtureSlot:
     mixture: object | None     # cantera Mixture; None when no phase can form
     seeds: tuple               # per phase in the mixture: its candidate species' positions (trace seeds)
     in_mixture: np.ndarray     # per system species: in the mixture
+    one_gas: bool = False      # the mixture is one ideal-gas phase (cantera's element-potential solver applies)
+
+    @functools.cached_property
+    def seed_positions(self) -> np.ndarray:
+        """Positions in the mixture of every species that may form."""
+        return np.concatenate(self.seeds) if self.seeds else np.zeros(0, dtype=int)
 
 
 def _store(table: dict, key, value):
@@ -175,7 +181,10 @@ class Workspace:
             position = np.cumsum(in_mixture) - 1
             seeds = [position[lo + np.flatnonzero(candidate[lo:hi])] for k, lo, hi
                      in zip(keep, offsets[:-1], offsets[1:]) if k]
-            got = _store(self._mixtures, key, MixtureSlot(mixture, tuple(s for s in seeds if s.size), in_mixture))
+            kept = [ph for ph, k in zip(self.system.phases, keep) if k]
+            one_gas = len(kept) == 1 and kept[0].model == "ideal-gas"
+            got = _store(self._mixtures, key, MixtureSlot(mixture, tuple(s for s in seeds if s.size), in_mixture,
+                                                          one_gas))
         return got
 
     def present_species(self, present: np.ndarray) -> PresentSpecies:
