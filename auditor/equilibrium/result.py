@@ -44,6 +44,7 @@ class EquilibriumCheck:
     phase_amount_rcond: float | None = None  # present phases' conserved-quantity vectors: s_min/s_max
     route: str = ""                         # the solve route whose state the certificate accepted
     attempts: tuple[tuple[str, str], ...] = ()   # (route, outcome) in the order tried
+    set_aside: tuple[tuple[str, str], ...] = ()  # (phase, why): outside its thermo data at this T, cannot form
 
     @classmethod
     def not_solved(cls, findings, assumed=(), seconds: float = 0.0) -> "EquilibriumCheck":

@@ -142,7 +142,7 @@ def refine_transition(solver: RouteSolver, resid: Residual, guess: SolvedState, 
     n_g = np.maximum(guess.n, 0.0)
     totals = n_g @ a.membership
     phase_present = totals > settings.PHASE_PRESENCE_FRACTION * max(totals.sum(), 1e-300)
-    present = phase_present[a.phase_of] & (n_g > 0) & solver.candidate
+    present = phase_present[a.phase_of] & (n_g > 0) & solver.candidate_at(guess.T)
     idx = np.flatnonzero(present)
     basis = solver.workspace.present_species(present).basis[:, idx]
     W = a.W[:, idx]
