@@ -43,17 +43,17 @@ def _stand_ins(system: ChemicalSystem, k: int, usable: np.ndarray, T: float) -> 
               if j != k and usable[j] and s.formula == sp.formula and s.charge == sp.charge
               and (s.phase in gas or s.t_min - tol <= T <= s.t_max + tol)]
     text = f"; {', '.join(inside)} of the same formula stay{'s' if len(inside) == 1 else ''} a candidate" if inside else ""
+    if inside:
+        return text
     if system.source == "packaged":
         from ..system import same_formula_species
         names = set(system.labels) | {s.name for s in system.species}
         extra = [f"{n} ({lo:g}-{hi:g} K, {db})" for n, db, lo, hi in
                  same_formula_species(dict(sp.formula.items()), float(sp.charge), T, tol) if n not in names]
         if extra:
-            text += (f"; the packaged data hold {', '.join(extra)} of the same formula, valid at this T: add it "
-                     "to the system as a phase to let it form")
-    elif not inside:
-        text += "; no species of the same formula in the system is valid at this T"
-    return text
+            return (f"; the packaged data hold {', '.join(extra)} of the same formula, valid at this T: add "
+                    f"{'it' if len(extra) == 1 else 'one'} to the system to let it form")
+    return "; no species of the same formula in the system is valid at this T"
 
 
 def range_report(system: ChemicalSystem, arrays: CaseArrays, candidate: np.ndarray, at_T: np.ndarray,
