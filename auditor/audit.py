@@ -104,9 +104,15 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
         if case.reactions == "complete":
             findings.extend(hindered_product_findings(case, system, equilibrium))
 
+    impossible = assumed_outside_range(case, system, count)
+    shown = set(dict(equilibrium.set_aside)) if equilibrium is not None else set()
+    findings += [Finding("error", "data", f"the case assumes phase {p} present, but at the specified T = "
+                         f"{case.specified.temperature_K:.2f} K it cannot exist: {why}; a phase is valid only inside "
+                         "its thermo data's temperature range", (p,)) for p, why in impossible if p not in shown]
+
     # verdict before claims
     verdict = spec.status
-    if analysis.unbalanced or F < 0 or count.empty_phases:
+    if analysis.unbalanced or F < 0 or count.empty_phases or impossible:
         verdict = "inconsistent"
     elif verdict == "well-posed" and equilibrium is not None and not equilibrium.confirmed:
         verdict = "not-confirmed"
@@ -115,9 +121,26 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     findings += claim_findings
     if any(c.held is False for c in checks):
         verdict = "inconsistent"
-    reason = verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks)
+    reason = verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks, case)
     return AuditResult(case, system, analysis, count, spec, equilibrium, tuple(checks), tuple(findings), verdict,
                        reason)
+
+
+def assumed_outside_range(case: Case, system: ChemicalSystem, count: PhaseRuleCount) -> list[tuple[str, str]]:
+    """(phase, why) for each condensed phase assumed to coexist whose every species' thermo
+    data exclude the specified temperature (closed ranges, ``settings.THERMO_RANGE_TOLERANCE_K``)."""
+    from .settings import THERMO_RANGE_TOLERANCE_K as tol
+    T = case.specified.temperature_K
+    if T is None:
+        return []
+    out = []
+    for phase in count.coexisting:
+        ph = system.phase(phase)
+        sps = [system.species[k] for k in system.phase_indices(phase)]
+        if ph.is_gas or not sps or any(s.t_min - tol <= T <= s.t_max + tol for s in sps):
+            continue
+        out.append((phase, ", ".join(f"{s.label} has data for {s.t_min:g}-{s.t_max:g} K" for s in sps)))
+    return out
 
 
 def _system_findings(system: ChemicalSystem) -> list[Finding]:
@@ -266,7 +289,7 @@ def _one_of(names) -> str:
     return names[0] if len(names) == 1 else ", ".join(names[:-1]) + " and " + names[-1]
 
 
-def verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks) -> str:
+def verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks, case=None) -> str:
     """Why the verdict is what it is, in one sentence an engineer would use."""
     eqs = [x.equation for x in analysis.reactions]
     if verdict == "inconsistent":
@@ -278,6 +301,11 @@ def verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks) 
         if count.empty_phases:
             return (f"{_one_of(count.empty_phases)} cannot form from this feed, yet the case assumes "
                     f"{'it' if len(count.empty_phases) == 1 else 'them'} present")
+        impossible = assumed_outside_range(case, system, count) if case is not None else []
+        if impossible:
+            return (f"{_one_of(p for p, _ in impossible)} cannot exist at T = {case.specified.temperature_K:.2f} K "
+                    f"({'; '.join(why for _, why in impossible)}), yet the case assumes "
+                    f"{'it' if len(impossible) == 1 else 'them'} present: not a well-posed case")
         if count.degrees_of_freedom < 0:
             return (f"the phases assumed to coexist ({', '.join(count.coexisting)}) cannot coexist: the phase rule "
                     f"gives F = {count.degrees_of_freedom}")

@@ -29,6 +29,11 @@ PHASE_AMOUNT_RCOND_TOLERANCE = 1e-9
 # ln K additivity of a dependent reaction is checked to this absolute tolerance
 # (rounding in sums of ~10 terms of magnitude ~100).
 LNK_ADDITIVITY_TOLERANCE = 1e-9
+# A condensed species is used only inside its thermo data's temperature range, a closed
+# interval widened by this much at each end: the packaged data give range ends to 0.01 K,
+# and two fits meeting at a transition cross a few mK away from the tabulated end (ice and
+# liquid water of nasa_condensed.yaml, both ending at 273.15 K, have equal G at 273.144 K).
+THERMO_RANGE_TOLERANCE_K = 0.01
 # Smallest singular value over largest of the Jacobian below which a structurally
 # square system is called numerically singular.
 JACOBIAN_RANK_TOLERANCE = 1e-10
@@ -62,4 +67,5 @@ TOLERANCES = {
     "lnK_additivity_tolerance": LNK_ADDITIVITY_TOLERANCE,
     "jacobian_rank_tolerance": JACOBIAN_RANK_TOLERANCE,
     "hindered_element_share": HINDERED_ELEMENT_SHARE,
+    "thermo_range_tolerance_K": THERMO_RANGE_TOLERANCE_K,
 }

@@ -324,8 +324,10 @@ def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> Point
     moles = tuple((p.name, round(p.moles, 12)) for p in eq.phases)
     msg = "; ".join(f.message for f in eq.findings if f.severity == "error")
     certified = certificate_holds(eq)
-    return PointResult(point.index, eq.temperature_K, eq.pressure_Pa,
-                       "well-posed" if eq.confirmed else "not-confirmed", eq.phases_present, xs, moles, msg,
+    # an assumed phase outside its thermo data at this T: the point is not a possible state (as ``check`` says)
+    impossible = any(p in count.coexisting for p, _ in eq.set_aside)
+    verdict = "well-posed" if eq.confirmed else "inconsistent" if impossible else "not-confirmed"
+    return PointResult(point.index, eq.temperature_K, eq.pressure_Pa, verdict, eq.phases_present, xs, moles, msg,
                        point.coordinates, certified, eq.route if certified else "", len(eq.attempts) > 1)
 
 

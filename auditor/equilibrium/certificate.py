@@ -11,7 +11,8 @@ The answer is not trusted: a certificate is checked instead.
 * uniqueness (``unique``): proved for ideal phases from convexity, the absent phases'
   driving forces and the rank of the present phases' conserved-quantity vectors, and
   checked by restarting cantera from other starting estimates (``uniqueness``);
-* present phases against those assumed; temperature inside each present species' data;
+* present phases against those assumed; temperature inside each present species' data
+  (condensed species outside their data were set aside before the solve: :mod:`.ranges`);
 * ``ln K`` of every dependent reaction equal to the combination of the independent ones;
 * for structurally square cases, the specification audit's equations are nonsingular at
   the solution: by proof for ideal phases at fixed T and P, else the Jacobian has full
@@ -31,6 +32,7 @@ from ..findings import Finding
 from ..phase_rule import PhaseRuleCount
 from ..structure import SpecificationAudit
 from . import jacobian
+from .ranges import RangeReport, range_report
 from .result import EquilibriumCheck, PhaseState
 from .routes import RouteSolver, SolvedState, SolveError
 from .uniqueness import max_abs, mole_fractions, uniqueness
@@ -130,7 +132,8 @@ def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     resid = max_abs(ps.rows @ lam - mu_p) if mu_p.size else 0.0
     max_aff = max_abs(ps.basis @ np.where(present, mu, 0.0)) if ps.basis.shape[0] else 0.0
 
-    groups, never = ws.absent_groups(phase_present, solver.candidate)
+    # phases set aside at this T (outside their data) cannot form: like those lacking an element
+    groups, never = ws.absent_groups(phase_present, solver.candidate_at(sol.T))
     drive = absent_driving_forces(a, groups, never, g, lam, ps.free)
     unique, starts, unique_basis, amount_rcond = uniqueness(a, solver, sol, n, totals, phase_present, drive, x_all)
 
@@ -200,9 +203,10 @@ def _numerical_findings(m: Measured) -> tuple[bool, list[Finding]]:
     return ok, out
 
 
-def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: float) -> tuple[bool, list[Finding]]:
+def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: float,
+                    ranges: RangeReport) -> tuple[bool, list[Finding]]:
     """Findings on the phases found against those assumed, and on the data's T range."""
-    ok, out = True, []
+    ok, out = ranges.ok, []
     assumed = tuple(count.coexisting)
     if set(m.present_names) != set(assumed):
         ok = False
@@ -215,12 +219,7 @@ def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: 
             parts.append(f"phase(s) {', '.join(vanished)} vanished")
         out.append(Finding("error", "equilibrium", f"the minimisation does not land on the assumed phases: "
                            f"{'; '.join(parts)} (present: {', '.join(m.present_names)})", tuple(appeared + vanished)))
-    a, system = solver.arrays, solver.system
-    outside = () if a.t_low <= T <= a.t_high else np.flatnonzero(m.present & ((T < a.t_min) | (T > a.t_max)))
-    for k in outside:
-        sp = system.species[k]
-        out.append(Finding("warning", "data", f"T = {T:.1f} K is outside the thermo data range of "
-                           f"{sp.label} ({sp.t_min:g}-{sp.t_max:g} K): extrapolated", (sp.label,)))
+    out.extend(ranges.findings)
     for line in solver.log[:5]:
         out.append(Finding("note", "equilibrium", f"cantera's solver reported: {line} (the certificate "
                            "above is what decides)"))
@@ -234,7 +233,9 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     ``findings`` (those gathered before the solve) is extended; ``t0`` is when the stage began."""
     m = measure(case, count, spec, solver, sol, findings)
     ok_numbers, more = _numerical_findings(m)
-    ok_phases, phase_notes = _phase_findings(m, count, solver, sol.T)
+    ranges = range_report(solver.system, solver.arrays, solver.candidate, solver.candidate_at(sol.T), m.present,
+                          m.mole_fractions, sol.T, tuple(count.coexisting))
+    ok_phases, phase_notes = _phase_findings(m, count, solver, sol.T, ranges)
     findings += more + phase_notes
     a = solver.arrays
     x_list = m.mole_fractions.tolist()                 # zero in an empty phase (mole_fractions)
@@ -249,4 +250,4 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
         confirmed=ok_numbers and ok_phases, seconds=time.perf_counter() - t0,
         element_potentials=tuple(zip(a.potential_names, m.potentials.tolist())),
         unique_basis=m.unique_basis, phase_amount_rcond=m.amount_rcond,
-        route=sol.route, attempts=solver.attempts + ((sol.route, "certified"),))
+        route=sol.route, attempts=solver.attempts + ((sol.route, "certified"),), set_aside=ranges.set_aside)

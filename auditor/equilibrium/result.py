@@ -45,6 +45,7 @@ class EquilibriumCheck:
     route: str = ""                         # the solve route whose state the certificate accepted
     attempts: tuple[tuple[str, str], ...] = ()   # (route, outcome) in the order tried
     nonsingularity_test: str = ""                # the test that showed the equations nonsingular ("" when none ran)
+    set_aside: tuple[tuple[str, str], ...] = ()  # (phase, why): outside its thermo data at this T, cannot form
 
     @classmethod
     def not_solved(cls, findings, assumed=(), seconds: float = 0.0) -> "EquilibriumCheck":

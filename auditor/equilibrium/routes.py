@@ -18,7 +18,7 @@ import numpy as np
 
 from .. import settings
 from ..errors import one_line
-from .workspace import MixtureSlot, Workspace
+from .workspace import MixtureSlot, Workspace, outside_range
 
 ROUTE_OURS = "element-potential minimiser"
 ROUTE_ONE_GAS = "cantera element-potential solver from the feed"
@@ -33,6 +33,8 @@ ROUTE_PLAN = {
     "cantera vcs from a shifted estimate": ("vcs", "shifted"),
 }
 CANTERA_ROUTES = tuple(r for r in ROUTE_PLAN if r != ROUTE_ONE_GAS)
+_NOT_HELD = ("the species whose thermo data cover T = {T:.2f} K cannot hold the feed's elements (the condensed "
+             "phases that could are outside their data ranges)")
 
 
 class SolveError(Exception):
@@ -111,7 +113,9 @@ class RouteSolver:
     """T,P minimisation of one case from one feed, reusable for outer solves.
 
     ``workspace`` gives the cantera phases and arrays; ``n0`` is the feed; ``candidate``
-    says, per species, whether it is in a phase that may form.
+    says, per species, whether it is in a phase that may form from this feed.  At each
+    temperature the condensed species whose thermo data do not cover it are set aside as
+    well (``candidate_at``): outer solves on T meet different sets, each with its own Mixture.
     """
 
     def __init__(self, workspace: Workspace, n0: np.ndarray, candidate: np.ndarray):
@@ -126,16 +130,31 @@ class RouteSolver:
         self.first = 0                # index into ``routes`` where solves begin
         self.failures: dict[str, str] = {}   # route -> its first failure in this pass
         self.attempts: tuple = ()     # (route, outcome) of the passes before the current one
-        self._estimates: dict[str, np.ndarray | None] = {}
+        self._estimates: dict[tuple, np.ndarray | None] = {}
+        self._at: tuple = (None, candidate)  # the last temperature asked and its candidate species
         self.log: list[str] = []      # what cantera's solver printed
         self.deadline = time.perf_counter() + settings.MINIMISATION_WALL_SECONDS
-        self.slot: MixtureSlot = workspace.mixture(candidate)
+
+    def candidate_at(self, T: float) -> np.ndarray:
+        """The species that may form at ``T``: ``candidate`` less the condensed species whose
+        thermo data do not cover ``T`` (``workspace.outside_range``)."""
+        if self._at[0] != T:
+            out = outside_range(self.arrays, T)
+            self._at = (T, self.candidate if out is None else self.candidate & ~out)
+        return self._at[1]
+
+    def slot_at(self, T: float) -> MixtureSlot:
+        """The Mixture of the phases that may form at ``T`` (one per set, kept by the workspace)."""
+        return self.workspace.mixture(self.candidate_at(T))
 
     def _ours(self, T: float, P: float) -> SolvedState:
         from .minimiser import MinimiserInputs, minimise_gibbs
         a = self.arrays
         g = self.model.g_RT(T, P)
-        idx = np.flatnonzero(self.candidate & a.usable_species)
+        idx = np.flatnonzero(self.candidate_at(T) & a.usable_species)
+        if idx.size == 0:
+            return SolvedState(np.zeros(self.system.n_species), T, P, "element-potential minimiser (auditor.minimiser)",
+                               False, _NOT_HELD.format(T=T))
         phases_used = sorted(set(a.phase_of[idx]))
         remap = {p: i for i, p in enumerate(phases_used)}
         res = minimise_gibbs(MinimiserInputs.from_arrays(A=a.W[:, idx], g=g[idx],
@@ -150,8 +169,8 @@ class RouteSolver:
         """A single ideal-gas phase: cantera's element-potential solver (``Solution.equilibrate``,
         several times faster than the multiphase solvers).  It returns mole fractions; the
         amount follows from the conserved quantities, ``N = argmin |W (N x) - W n0|``."""
-        gas = self.model.phases[self.arrays.phase_of[np.flatnonzero(self.slot.in_mixture)[0]]]
-        idx = np.flatnonzero(self.slot.in_mixture)
+        idx = np.flatnonzero(self.slot_at(T).in_mixture)
+        gas = self.model.phases[self.arrays.phase_of[idx[0]]]
         n = np.zeros(self.system.n_species)
         try:
             x0 = np.maximum(start[idx], 0.0)
@@ -167,18 +186,26 @@ class RouteSolver:
         return SolvedState(n, T, P, "cantera element_potential", True)
 
     def _cantera(self, T: float, P: float, start: np.ndarray, solver: str = "vcs") -> SolvedState:
-        usable_mask = self.slot.in_mixture
-        if self.slot.mixture is None:
+        slot = self.slot_at(T)
+        usable_mask = slot.in_mixture
+        if slot.mixture is None:
             return SolvedState(np.zeros(self.system.n_species), T, P, f"cantera {solver}", False,
-                               "no phase of the system can form from this feed")
+                               _NOT_HELD.format(T=T) if (self.candidate & self.arrays.usable_species).any()
+                               else "no phase of the system can form from this feed")
+        if start[~usable_mask].any():
+            # the start holds species set aside at this T (a feed of ice above its melting point)
+            start = self._start_within(T, start)
+            if start is None:
+                return SolvedState(np.zeros(self.system.n_species), T, P, f"cantera {solver}", False,
+                                   _NOT_HELD.format(T=T))
         start = start[usable_mask]        # a copy
         # every species that may form gets a trace seed: zero-seeded phases break the solver,
         # and seeded species save it iterations
-        seeds = self.slot.seed_positions
+        seeds = slot.seed_positions
         empty = seeds[start[seeds] <= 0]
         if empty.size:
             start[empty] = 1e-12 * max(float(start.sum()), 1e-300)
-        mix = self.slot.mixture
+        mix = slot.mixture
         mix.T = T
         mix.P = P
         mix.species_moles = start
@@ -206,9 +233,10 @@ class RouteSolver:
         feed, then from element-preserving starting estimates, then the project's own minimiser
         (ideal phases only: it treats every phase as ideal).  An incomplete reaction list has
         one route: only the own minimiser holds the extra conserved quantities."""
-        if not self.complete or not all(self.model.usable) or self.slot.mixture is None:
+        if not self.complete or not all(self.model.usable) or not (self.candidate & self.arrays.usable_species).any():
             return (ROUTE_OURS,)
-        return ((ROUTE_ONE_GAS,) if self.slot.one_gas else ()) + CANTERA_ROUTES + ((ROUTE_OURS,) if self.arrays.ideal else ())
+        one_gas = self.workspace.mixture(self.candidate).one_gas
+        return ((ROUTE_ONE_GAS,) if one_gas else ()) + CANTERA_ROUTES + ((ROUTE_OURS,) if self.arrays.ideal else ())
 
     def start_at(self, first: int) -> None:
         """Later solves begin at route ``first`` (routes before it gave a state that failed its
@@ -216,17 +244,34 @@ class RouteSolver:
         self.first = first
         self.failures = {}
 
-    def _estimate(self, kind: str) -> np.ndarray | None:
+    def _estimate(self, kind: str, T: float) -> np.ndarray | None:
         """Element-preserving starting estimates (same conserved quantities as the feed), kept
-        per solver: ``interior`` maximises the smallest amount of any candidate species (a
-        linear program), ``shifted`` moves the feed along the reaction directions."""
-        if kind not in self._estimates:
+        per solver and set of species that may form: ``interior`` maximises the smallest amount
+        of any candidate species (a linear program), ``shifted`` moves the feed along the
+        reaction directions."""
+        mask = self.candidate_at(T)
+        key = (kind, mask.tobytes()) if kind == "interior" else (kind, b"")
+        if key not in self._estimates:
             if kind == "interior":
-                self._estimates[kind] = interior_estimate(self.arrays.W, self.n0, self.candidate & self.slot.in_mixture)
+                self._estimates[key] = interior_estimate(self.arrays.W, self.n0, mask & self.slot_at(T).in_mixture)
             else:
-                self._estimates[kind] = perturbed_start(self.n0, *self.arrays.trial_directions[0]) \
+                self._estimates[key] = perturbed_start(self.n0, *self.arrays.trial_directions[0]) \
                     if self.arrays.directions.shape[0] else None
-        return self._estimates[kind]
+        return self._estimates[key]
+
+    def _start_within(self, T: float, start: np.ndarray) -> np.ndarray | None:
+        """``start`` with the amounts of species set aside at ``T`` moved to a species that
+        may form and holds the same conserved quantities (ice to liquid water or steam); the
+        interior estimate when some have none; None when no estimate exists."""
+        a, mask = self.arrays, self.candidate_at(T) & self.slot_at(T).in_mixture
+        out = start.astype(float)
+        for k in np.flatnonzero((out > 0) & ~mask):
+            same = np.flatnonzero(mask & (np.abs(a.W - a.W[:, [k]]) <= 1e-12).all(axis=0))
+            if not same.size:
+                return self._estimate("interior", T)
+            out[same[0]] += out[k]
+            out[k] = 0.0
+        return out
 
     def _run(self, route: str, T: float, P: float, start: np.ndarray | None) -> SolvedState:
         if route == ROUTE_OURS:
@@ -234,7 +279,7 @@ class RouteSolver:
         else:
             method, origin = ROUTE_PLAN[route]
             if start is None:
-                start = self.n0 if origin == "feed" else self._estimate(origin)
+                start = self.n0 if origin == "feed" else self._estimate(origin, T)
                 if start is None:
                     return SolvedState(np.zeros(self.system.n_species), T, P, f"cantera {method}", False,
                                        "no such starting estimate for this feed", route=route)

@@ -88,6 +88,10 @@ def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
                          "other) is not handled by the confirmation yet; fix temperature or pressure")
     what, resid = others[0]
 
+    def held(sol: SolvedState) -> float:
+        # a solve that holds nothing (no species valid at this T can carry the feed) has no residual
+        return resid(sol) if sol.converged or sol.n.any() else math.nan
+
     if T is None:
         t_lo = max(max(sp.t_min for sp in system.species), 200.0)
         t_hi = min(min(sp.t_max for sp in system.species), 6000.0)
@@ -95,9 +99,9 @@ def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
             t_lo = max(t_lo, 250.0)
         if not t_lo < t_hi:
             t_lo, t_hi = 250.0, 6000.0
-        x = bracket_solve(lambda v: resid(solver.solve(v, P)), t_lo, t_hi, False, "temperature")
+        x = bracket_solve(lambda v: held(solver.solve(v, P)), t_lo, t_hi, False, "temperature")
     else:
-        x = bracket_solve(lambda v: resid(solver.solve(T, v)), 1.0, 1e9, True, "pressure")
+        x = bracket_solve(lambda v: held(solver.solve(T, v)), 1.0, 1e9, True, "pressure")
     sol = solver.solve(x, P) if T is None else solver.solve(T, x)
     if abs(resid(sol)) > RESIDUAL_TOLERANCE:
         sol = on_transition(solver, resid, x, T, P) or sol
@@ -142,7 +146,7 @@ def refine_transition(solver: RouteSolver, resid: Residual, guess: SolvedState, 
     n_g = np.maximum(guess.n, 0.0)
     totals = n_g @ a.membership
     phase_present = totals > settings.PHASE_PRESENCE_FRACTION * max(totals.sum(), 1e-300)
-    present = phase_present[a.phase_of] & (n_g > 0) & solver.candidate
+    present = phase_present[a.phase_of] & (n_g > 0) & solver.candidate_at(guess.T)
     idx = np.flatnonzero(present)
     basis = solver.workspace.present_species(present).basis[:, idx]
     W = a.W[:, idx]

@@ -17,6 +17,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .. import settings
 from ..case import Case
 from ..stoichiometry import ReactionAnalysis, basis_within
 from ..system import ChemicalSystem, feed_moles
@@ -64,6 +65,9 @@ class CaseArrays:
     t_max: np.ndarray
     t_low: float                    # every species' data are valid from t_low to t_high
     t_high: float
+    condensed: np.ndarray           # per species: in a phase that is not a gas
+    condensed_low: float            # every condensed species' data are valid from condensed_low
+    condensed_high: float           # to condensed_high (within settings.THERMO_RANGE_TOLERANCE_K)
     ideal: bool                     # every usable phase has an ideal model (G convex)
     potential_names: tuple
 
@@ -85,6 +89,8 @@ class CaseArrays:
             for j, c in d.combination:
                 comb[i, j] += float(c)
         elements = [i for i, e in enumerate(system.elements) if e != "charge"]
+        gas = {p.name for p in system.phases if p.is_gas}
+        condensed = [s for s in system.species if s.phase not in gas]
         return cls(
             W=direction_matrix([dict(c.vector) for c in analysis.conserved], ns),
             phase_of=phase_of,
@@ -103,8 +109,21 @@ class CaseArrays:
             t_max=np.array([s.t_max for s in system.species]),
             t_low=max((s.t_min for s in system.species), default=0.0),
             t_high=min((s.t_max for s in system.species), default=math.inf),
+            condensed=np.array([s.phase not in gas for s in system.species], dtype=bool),
+            condensed_low=max((s.t_min for s in condensed), default=0.0) - settings.THERMO_RANGE_TOLERANCE_K,
+            condensed_high=min((s.t_max for s in condensed), default=math.inf) + settings.THERMO_RANGE_TOLERANCE_K,
             ideal=all(ph.model in IDEAL_MODELS for ph, ok in zip(system.phases, model.usable) if ok),
             potential_names=tuple(c.name if c.is_element else f"q{i}" for i, c in enumerate(analysis.conserved)))
+
+
+def outside_range(arrays: CaseArrays, T: float) -> np.ndarray | None:
+    """Per species: a condensed species whose thermo data do not cover ``T`` (closed interval,
+    widened by ``settings.THERMO_RANGE_TOLERANCE_K``); None when every condensed species'
+    data cover it (the common case, one comparison)."""
+    if arrays.condensed_low <= T <= arrays.condensed_high:
+        return None
+    tol = settings.THERMO_RANGE_TOLERANCE_K
+    return arrays.condensed & ((T < arrays.t_min - tol) | (T > arrays.t_max + tol))
 
 
 @dataclass(frozen=True)

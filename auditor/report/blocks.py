@@ -147,7 +147,9 @@ def certificate(eq: dict, doc: dict) -> Block:
             ("equations nonsingular at the solution",
              nonsingular_words(eq["nonsingularity_test"], eq["jacobian_rcond"]) if eq["nonsingularity_test"]
              else f"n/a ({jac_why})")]
+    aside = {a["phase"] for a in eq.get("phases_set_aside", ())}
     rows += [(f"driving force to form absent phase {k}, RT (must be positive)",
-              "n/a (cannot form: needs an element the feed lacks)" if v is None else f"{v:+.4g}")
+              f"{v:+.4g}" if v is not None else "n/a (cannot form at this T: outside its thermo data range)"
+              if k in aside else "n/a (cannot form: needs an element the feed lacks)")
              for k, v in eq["absent_phase_driving_force_RT"].items()]
     return table(("certificate item", "value"), rows, "Certificate of the Gibbs minimisation")

@@ -189,4 +189,6 @@ def equilibrium_document(eq: EquilibriumCheck) -> dict:
                               for s, d, src in eq.assumed_densities],
         "route": eq.route or None,
         "attempts": [{"route": r, "outcome": o} for r, o in eq.attempts],
+        # phases outside their thermo data's temperature range at this T: left out of the solve
+        "phases_set_aside": [{"phase": p, "reason": why} for p, why in eq.set_aside],
     }

@@ -96,7 +96,9 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
     if len(eq.attempts) > 1:      # a fallback route was needed: say which, and what the earlier ones gave
         out.append(f"  solve route: {eq.route or 'none certified'}, after " + "; ".join(
             f"{route} {outcome}" for route, outcome in eq.attempts if outcome != "certified"))
-    absent = ", ".join(f"{n} {d:+.3g}" if math.isfinite(d) else f"{n} cannot form (needs an element the feed lacks)"
+    aside = dict(eq.set_aside)
+    absent = ", ".join(f"{n} {d:+.3g}" if math.isfinite(d) else f"{n} cannot form at this T (outside its thermo data)"
+                       if n in aside else f"{n} cannot form (needs an element the feed lacks)"
                        for n, d in eq.absent_phase_driving_force)
     if absent:
         out.append(f"  driving force to form absent phases (RT, must be positive): {absent}")

@@ -65,7 +65,9 @@ def equilibrium_summary_lines(eq: EquilibriumCheck) -> list[str]:
             continue
         major = sorted(p.mole_fractions, key=lambda kv: -kv[1])[:8]
         out.append(f"  {p.name}: {p.moles:.6g} mol; " + ", ".join(f"{k} {v:.4g}" for k, v in major))
-    absent = ", ".join(f"{n} {d:+.3g}" if math.isfinite(d) else f"{n} cannot form (needs an element the feed lacks)"
+    aside = dict(eq.set_aside)
+    absent = ", ".join(f"{n} {d:+.3g}" if math.isfinite(d) else f"{n} cannot form at this T (outside its thermo data)"
+                       if n in aside else f"{n} cannot form (needs an element the feed lacks)"
                        for n, d in eq.absent_phase_driving_force)
     out.append(f"  certificate: balance error {eq.element_balance_error:.2e}, max affinity "
                f"{_sci(eq.max_affinity_RT)} RT, potential residual {_sci(eq.potential_residual_RT)} RT, "

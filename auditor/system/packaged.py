@@ -65,6 +65,26 @@ def from_packaged(phases: Mapping[str, Sequence[str]], where: str = "system.phas
     return _assemble("packaged", raw)
 
 
+@functools.lru_cache(maxsize=1)
+def _by_formula() -> dict[tuple, list[tuple[str, str, float, float]]]:
+    """Every packaged species by (sorted element amounts, charge): (name, database, t_min, t_max)."""
+    out: dict[tuple, list] = {}
+    for db in (GAS_DATABASE, CONDENSED_DATABASE):
+        for name, sp in packaged_species(db).items():
+            key = (tuple(sorted((k, float(v)) for k, v in sp.composition.items() if k != "E")), float(sp.charge))
+            out.setdefault(key, []).append((name, db, *_thermo_range(sp)))
+    return out
+
+
+def same_formula_species(formula: Mapping[str, object], charge: float, T: float,
+                         tolerance: float = 0.0) -> list[tuple[str, str, float, float]]:
+    """Packaged species of this formula and charge whose thermo data cover ``T`` (widened by
+    ``tolerance`` at each end): (name, database, t_min, t_max), condensed ones first."""
+    key = (tuple(sorted((k, float(v)) for k, v in formula.items())), float(charge))
+    hits = [h for h in _by_formula().get(key, ()) if h[2] - tolerance <= T <= h[3] + tolerance]
+    return sorted(hits, key=lambda h: (h[1] == GAS_DATABASE, h[0]))
+
+
 _FORMULA_TOKEN = re.compile(r"([A-Z][a-z]?)(\d*)")
 
 
