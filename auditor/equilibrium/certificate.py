@@ -32,7 +32,7 @@ from ..structure import SpecificationAudit
 from . import jacobian
 from .result import EquilibriumCheck, PhaseState
 from .routes import RouteSolver, SolvedState, SolveError
-from .uniqueness import max_abs, mole_fractions, uniqueness
+from .uniqueness import NOT_CHECKED, max_abs, mole_fractions, uniqueness
 from .workspace import CaseArrays
 
 
@@ -91,7 +91,7 @@ class Measured:
     potential_residual: float
     max_affinity: float
     drive: tuple[tuple[str, float], ...]   # absent phase -> driving force, RT
-    unique: bool
+    unique: bool | None            # None: neither the proof nor a restart decided
     starts: int
     unique_basis: str
     amount_rcond: float | None
@@ -131,6 +131,10 @@ def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     groups, never = ws.absent_groups(phase_present, solver.candidate)
     drive = absent_driving_forces(a, groups, never, g, lam, ps.free)
     unique, starts, unique_basis, amount_rcond = uniqueness(a, solver, sol, n, totals, phase_present, drive, x_all)
+    if NOT_CHECKED in unique_basis:
+        findings.append(Finding("warning" if unique is None else "note", "equilibrium", "restarting cantera from "
+                                "another starting estimate reached no converged state, so the uniqueness of this "
+                                "state is " + ("not decided" if unique is None else "decided by the proof alone")))
 
     # ln K additivity of dependent reactions
     lnk_err = None
@@ -171,7 +175,7 @@ def _numerical_findings(m: Measured) -> tuple[bool, list[Finding]]:
             ok = False
             out.append(Finding("error", "equilibrium", f"absent phase {name} has a negative driving force "
                                f"({d:.3g} RT): it should form, so the minimisation stopped short", (name,)))
-    if not m.unique:
+    if m.unique is False:
         ok = False
         if m.amount_rcond is not None and m.amount_rcond < settings.PHASE_AMOUNT_RCOND_TOLERANCE:
             out.append(Finding("error", "equilibrium", f"the amounts of the present phases ({', '.join(m.present_names)}) "

@@ -125,6 +125,7 @@ class RouteSolver:
         self.attempts: tuple = ()     # (route, outcome) of the passes before the current one
         self._estimates: dict[str, np.ndarray | None] = {}
         self.log: list[str] = []      # what cantera's solver printed
+        self.lower: SolvedState | None = None   # a uniqueness restart's state of lower G than the one certified
         self.deadline = time.perf_counter() + settings.MINIMISATION_WALL_SECONDS
         self.slot: MixtureSlot = workspace.mixture(candidate)
 
@@ -225,20 +226,33 @@ class RouteSolver:
         return sol
 
     def solve(self, T: float, P: float, start: np.ndarray | None = None) -> SolvedState:
-        """The first route from ``self.first`` on that converges (``start``, when given, replaces
-        the routes' own starting estimates: a uniqueness restart)."""
+        """The first route from ``self.first`` on that converges; when none does, the first
+        failed state (never None: a state that did not converge, saying why).
+
+        ``start``, when given, is a uniqueness restart: it replaces the routes' own starting
+        estimates, so each of cantera's solvers among the routes is tried once from it (the
+        element-potential minimiser takes no starting estimate and is not restarted), and
+        its failures are not route failures (``self.failures`` is left alone)."""
         failed = None
+        tried: set[str] = set()
         for route in self.routes[self.first:]:
             # the wall-clock bound is checked between solves (a running cantera call cannot be stopped)
             if time.perf_counter() > self.deadline:
                 raise SolveError(f"the minimisation exceeded its wall-clock bound of "
                                  f"{settings.MINIMISATION_WALL_SECONDS:g} s (settings.MINIMISATION_WALL_SECONDS)")
-            if start is not None and ROUTE_PLAN.get(route, ("", "feed"))[1] != "feed":
-                continue                      # a restart keeps its own starting estimate
+            if start is not None:
+                method = ROUTE_PLAN[route][0] if route in ROUTE_PLAN else None
+                if method is None or method in tried:
+                    continue                  # a restart keeps its own starting estimate
+                tried.add(method)
             self.calls += 1
             sol = self._run(route, T, P, start)
             if sol.converged:
                 return sol
-            self.failures.setdefault(route, sol.message or "did not converge")
+            if start is None:
+                self.failures.setdefault(route, sol.message or "did not converge")
             failed = failed or sol
+        if failed is None:
+            why = "no route that takes a starting estimate is left" if start is not None else "no route is left"
+            failed = SolvedState(np.zeros(self.system.n_species), T, P, "", False, why)
         return failed
