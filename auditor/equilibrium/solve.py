@@ -249,7 +249,7 @@ def _certified_from(case: Case, count: PhaseRuleCount, spec: SpecificationAudit,
         first_failed = first_failed or check
         if solver.lower is not None:
             sol = replace(solver.lower, route=f"{sol.route}, then a restart of lower Gibbs energy")
-        elif not polished and failure.startswith("affinity") and sol.sides is None:
+        elif not polished and failure.startswith("affinity") and sol.sides is None and sol.solver.startswith("cantera"):
             polished, better = True, polish(solver, sol)
             if better is None:
                 attempts.append((f"{sol.route}, polished by Newton's method", "failed: the refinement on the present "
