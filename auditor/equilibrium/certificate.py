@@ -217,9 +217,10 @@ def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: 
         sp = system.species[k]
         out.append(Finding("warning", "data", f"T = {T:.1f} K is outside the thermo data range of "
                            f"{sp.label} ({sp.t_min:g}-{sp.t_max:g} K): extrapolated", (sp.label,)))
-    for line in solver.log[:5]:
-        out.append(Finding("note", "equilibrium", f"cantera's solver reported: {line} (the certificate "
-                           "above is what decides)"))
+    if solver.log:
+        from .diagnosis import log_summary
+        out.append(Finding("note", "equilibrium", f"cantera's solver printed diagnostics on the way ("
+                           f"{log_summary(solver.log)}); the certificate above is what decides"))
     out.extend(solver.model.density_notes)
     return ok, out
 

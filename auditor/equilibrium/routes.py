@@ -124,7 +124,8 @@ class RouteSolver:
         self.failures: dict[str, str] = {}   # route -> its first failure in this pass
         self.attempts: tuple = ()     # (route, outcome) of the passes before the current one
         self._estimates: dict[str, np.ndarray | None] = {}
-        self.log: list[str] = []      # what cantera's solver printed
+        self.log: list[str] = []      # what cantera's solver printed (summarised, never shown as is)
+        self.details: list[str] = []  # cantera's exception texts, for the failure classifier only
         self.lower: SolvedState | None = None   # a uniqueness restart's state of lower G than the one certified
         self.deadline = time.perf_counter() + settings.MINIMISATION_WALL_SECONDS
         self.slot: MixtureSlot = workspace.mixture(candidate)
@@ -169,8 +170,13 @@ class RouteSolver:
                 mix.equilibrate("TP", solver=solver, max_steps=2000, max_iter=200, estimate_equil=0)
             converged, msg = True, ""
         except Exception as exc:
-            # cantera frames its message in rows of asterisks: keep the words
-            converged, msg = False, one_line(str(exc).replace("*", " "), 300)
+            # cantera's own text stays inside (the failure classifier reads it); the route
+            # history gets what it means
+            from .diagnosis import solver_words
+            raw = one_line(str(exc).replace("*", " "), 300)
+            if raw not in self.details:
+                self.details.append(raw)
+            converged, msg = False, solver_words(raw, solver)
         for line in log.getvalue().splitlines():
             if line.strip() and line.strip() not in self.log:
                 self.log.append(line.strip())

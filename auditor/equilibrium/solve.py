@@ -190,7 +190,11 @@ def certified_on_routes(case: Case, count: PhaseRuleCount, spec: SpecificationAu
         except SolveError as exc:
             failure, stop = str(exc), "wall-clock" in str(exc)
         except Exception as exc:
-            failure = f"{type(exc).__name__}: {one_line(exc, 300)}"
+            # a library's text is kept for the classifier, never shown
+            from .diagnosis import solver_words
+            solver.details.append(one_line(str(exc).replace("*", " "), 300))
+            failure = solver_words(solver.details[-1], "multiphase") if "cantera" in type(exc).__module__ else \
+                "the solve stopped on an error while evaluating a state"
         else:
             failure = "" if sol is not None and sol.converged else \
                 "did not converge" + (f": {sol.message}" if sol is not None and sol.message else "")
@@ -214,9 +218,13 @@ def certified_on_routes(case: Case, count: PhaseRuleCount, spec: SpecificationAu
     notes = [Finding("error", "equilibrium", f"route {r}: {o}") for r, o in attempts]
     if first_check is not None:
         return replace(first_check, findings=first_check.findings + tuple(notes), route="", attempts=tuple(attempts))
+    from .diagnosis import failure_cause
     tried = ", ".join(dict.fromkeys(r for r, _ in attempts))
+    s = case.specified
+    cause = failure_cause(solver, s.temperature_K, s.pressure_Pa, solver.details, count.degrees_of_freedom,
+                          tuple(count.coexisting))
     findings = findings + [Finding("error", "equilibrium", f"the minimisation did not reach a certified state on any "
-                                   f"route ({tried})")] + notes
+                                   f"route ({tried}); cause: {cause}")] + notes
     return replace(EquilibriumCheck.not_solved(findings, solver.model.assumed, time.perf_counter() - t0),
                    attempts=tuple(attempts))
 
