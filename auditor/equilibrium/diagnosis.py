@@ -85,6 +85,9 @@ def failure_cause(solver: RouteSolver, T: float | None, P: float | None, texts: 
             lacking = [elements[i] for i in range(len(elements)) if supply[i] == 0 and (E[i, idx] != 0).any()]
             return (f"the feed supplies no {', '.join(lacking)}, which every species of the assumed phase {ph.name} "
                     "needs: that phase cannot form")
+    if degrees_of_freedom is not None and degrees_of_freedom <= 0:
+        return ("the assumed phases can coexist only at an invariant point (F = 0), which T and P must hit "
+                "exactly; no solver lands on it")
     # temperature beyond the data of the species that can carry the feed
     outside = np.flatnonzero(usable & ((T < a.t_min) | (T > a.t_max))) if T is not None else np.zeros(0, int)
     if T is not None and (outside.size or any("not valid at this temperature" in t for t in texts)):
@@ -92,17 +95,13 @@ def failure_cause(solver: RouteSolver, T: float | None, P: float | None, texts: 
                            f"{_distance(T, system.species[k]):.4g} K away)" for k in outside[:5])
         return f"T = {T:.2f} K is beyond the thermo data of " + (labels or "a species the solvers met")
     # the formula matrix over the species that can form
-    b, names = a.W @ solver.n0, a.potential_names
-    supplied = np.flatnonzero(b != 0)
+    supplied = np.flatnonzero(supply != 0)
     if supplied.size:
-        rank = int(np.linalg.matrix_rank(a.W[np.ix_(supplied, np.flatnonzero(usable))])) if usable.any() else 0
+        rank = int(np.linalg.matrix_rank(E[np.ix_(supplied, np.flatnonzero(usable))])) if usable.any() else 0
         if rank < supplied.size:
             return (f"the formula matrix over the species that can form has rank {rank} for {supplied.size} supplied "
-                    f"conserved quantities ({', '.join(names[i] for i in supplied)}): some occur only in a fixed "
-                    "proportion, and the solvers' element-potential equations are singular")
-    if degrees_of_freedom is not None and degrees_of_freedom <= 0:
-        return ("the assumed phases can coexist only at an invariant point (F = 0), which T and P must hit "
-                "exactly; no solver lands on it")
+                    f"elements ({', '.join(elements[i] for i in supplied)}): they occur only in fixed proportions, "
+                    "so the element potentials are not determined")
     model_problem = _model_problem(solver, T, P) if T is not None and P is not None else ""
     if model_problem:
         return model_problem

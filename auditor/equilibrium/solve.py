@@ -221,8 +221,8 @@ def certified_on_routes(case: Case, count: PhaseRuleCount, spec: SpecificationAu
     from .diagnosis import failure_cause
     tried = ", ".join(dict.fromkeys(r for r, _ in attempts))
     s = case.specified
-    cause = failure_cause(solver, s.temperature_K, s.pressure_Pa, solver.details, count.degrees_of_freedom,
-                          tuple(count.coexisting))
+    assumed = case.coexisting or tuple(p.name for p in solver.system.phases)
+    cause = failure_cause(solver, s.temperature_K, s.pressure_Pa, solver.details, count.degrees_of_freedom, assumed)
     findings = findings + [Finding("error", "equilibrium", f"the minimisation did not reach a certified state on any "
                                    f"route ({tried}); cause: {cause}")] + notes
     return replace(EquilibriumCheck.not_solved(findings, solver.model.assumed, time.perf_counter() - t0),
