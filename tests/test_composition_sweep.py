@@ -175,8 +175,12 @@ def test_every_route_is_tried_in_order_before_not_confirmed(monkeypatch):
     assert not bad.confirmed and not certificate_holds(bad) and bad.route == ""
     order = ["cantera vcs from the feed", "cantera gibbs from the feed", "cantera vcs from an interior estimate",
              "cantera gibbs from an interior estimate", "cantera vcs from a shifted estimate", ROUTE_OURS]
-    assert [r for r, _ in bad.attempts] == order
-    listed = [f.message for f in bad.findings if f.message.startswith("route ")]
+    # a cantera state that fails only on its affinity is also polished (Newton's method on
+    # its present species): that attempt follows its route in the history
+    polished = ", polished by Newton's method"
+    assert [r for r, _ in bad.attempts if polished not in r] == order
+    assert all(r.split(polished)[0] in order for r, _ in bad.attempts)
+    listed = [f.message for f in bad.findings if f.message.startswith("route ") and polished not in f.message]
     assert [m.split(":")[0] for m in listed] == [f"route {r}" for r in order]
     assert eq.route in order
 

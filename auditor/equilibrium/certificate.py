@@ -35,7 +35,7 @@ from . import jacobian
 from .ranges import RangeReport, range_report
 from .result import EquilibriumCheck, PhaseState
 from .routes import RouteSolver, SolvedState, SolveError
-from .uniqueness import max_abs, mole_fractions, uniqueness
+from .uniqueness import NOT_CHECKED, max_abs, mole_fractions, uniqueness
 from .workspace import CaseArrays
 
 
@@ -94,7 +94,7 @@ class Measured:
     potential_residual: float
     max_affinity: float
     drive: tuple[tuple[str, float], ...]   # absent phase -> driving force, RT
-    unique: bool
+    unique: bool | None            # None: neither the proof nor a restart decided
     starts: int
     unique_basis: str
     amount_rcond: float | None
@@ -136,6 +136,10 @@ def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     groups, never = ws.absent_groups(phase_present, solver.candidate_at(sol.T))
     drive = absent_driving_forces(a, groups, never, g, lam, ps.free)
     unique, starts, unique_basis, amount_rcond = uniqueness(a, solver, sol, n, totals, phase_present, drive, x_all)
+    if NOT_CHECKED in unique_basis:
+        findings.append(Finding("warning" if unique is None else "note", "equilibrium", "restarting cantera from "
+                                "another starting estimate reached no converged state, so the uniqueness of this "
+                                "state is " + ("not decided" if unique is None else "decided by the proof alone")))
 
     # ln K additivity of dependent reactions
     lnk_err = None
@@ -182,7 +186,7 @@ def _numerical_findings(m: Measured) -> tuple[bool, list[Finding]]:
             ok = False
             out.append(Finding("error", "equilibrium", f"absent phase {name} has a negative driving force "
                                f"({d:.3g} RT): it should form, so the minimisation stopped short", (name,)))
-    if not m.unique:
+    if m.unique is False:
         ok = False
         if m.amount_rcond is not None and m.amount_rcond < settings.PHASE_AMOUNT_RCOND_TOLERANCE:
             out.append(Finding("error", "equilibrium", f"the amounts of the present phases ({', '.join(m.present_names)}) "
@@ -220,9 +224,10 @@ def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: 
         out.append(Finding("error", "equilibrium", f"the minimisation does not land on the assumed phases: "
                            f"{'; '.join(parts)} (present: {', '.join(m.present_names)})", tuple(appeared + vanished)))
     out.extend(ranges.findings)
-    for line in solver.log[:5]:
-        out.append(Finding("note", "equilibrium", f"cantera's solver reported: {line} (the certificate "
-                           "above is what decides)"))
+    if solver.log:
+        from .diagnosis import log_summary
+        out.append(Finding("note", "equilibrium", f"cantera's solver printed diagnostics on the way ("
+                           f"{log_summary(solver.log)}); the certificate above is what decides"))
     out.extend(solver.model.density_notes)
     return ok, out
 

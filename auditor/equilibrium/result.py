@@ -70,9 +70,9 @@ def certificate_failure(check: EquilibriumCheck) -> str:
         return "not solved"
     tol = settings.AFFINITY_TOLERANCE_RT
     if check.element_balance_error is None or not check.element_balance_error <= settings.ELEMENT_BALANCE_TOLERANCE:
-        return f"conserved-quantity balance error {check.element_balance_error}"
+        return f"conserved-quantity balance error {_number(check.element_balance_error)}"
     if check.max_affinity_RT is None or not check.max_affinity_RT <= tol:
-        return f"affinity {check.max_affinity_RT} RT"
+        return f"affinity {_number(check.max_affinity_RT)} RT"
     bad = [n for n, d in check.absent_phase_driving_force if d < -tol]
     if bad:
         return f"absent phase(s) {', '.join(bad)} should form"
@@ -81,3 +81,8 @@ def certificate_failure(check: EquilibriumCheck) -> str:
         return "starting estimates disagree"
     return ""
 
+
+
+def _number(x: float | None) -> str:
+    """A certificate number for the route history: three significant digits."""
+    return "not computed" if x is None else f"{x:.2e}"

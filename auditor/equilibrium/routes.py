@@ -132,7 +132,9 @@ class RouteSolver:
         self.attempts: tuple = ()     # (route, outcome) of the passes before the current one
         self._estimates: dict[tuple, np.ndarray | None] = {}
         self._at: tuple = (None, candidate)  # the last temperature asked and its candidate species
-        self.log: list[str] = []      # what cantera's solver printed
+        self.log: list[str] = []      # what cantera's solver printed (summarised, never shown as is)
+        self.details: list[str] = []  # cantera's exception texts, for the failure classifier only
+        self.lower: SolvedState | None = None   # a uniqueness restart's state of lower G than the one certified
         self.deadline = time.perf_counter() + settings.MINIMISATION_WALL_SECONDS
 
     def candidate_at(self, T: float) -> np.ndarray:
@@ -179,7 +181,11 @@ class RouteSolver:
                 gas.TPX = T, P, x0 / x0.sum()
                 gas.equilibrate("TP", solver="element_potential", max_steps=2000, max_iter=200)
         except Exception as exc:
-            return SolvedState(n, T, P, "cantera element_potential", False, one_line(str(exc).replace("*", " "), 300))
+            from .diagnosis import solver_words
+            raw = one_line(str(exc).replace("*", " "), 300)
+            if raw not in self.details:
+                self.details.append(raw)
+            return SolvedState(n, T, P, "cantera element_potential", False, solver_words(raw, "element_potential"))
         w = self.arrays.W[:, idx] @ gas.X
         b = self.arrays.W @ self.n0
         n[idx] = gas.X * (float(w @ b) / max(float(w @ w), 1e-300))
@@ -199,12 +205,17 @@ class RouteSolver:
                 return SolvedState(np.zeros(self.system.n_species), T, P, f"cantera {solver}", False,
                                    _NOT_HELD.format(T=T))
         start = start[usable_mask]        # a copy
-        # every species that may form gets a trace seed: zero-seeded phases break the solver,
-        # and seeded species save it iterations
-        seeds = slot.seed_positions
+        # trace seeds: every uncharged species that may form (seeded species save the solver
+        # iterations; a charged seed would break electroneutrality), then any phase still empty
+        # (zero-seeded phases break the solver)
+        total = max(float(start.sum()), 1e-300)
+        seeds = slot.neutral_seeds
         empty = seeds[start[seeds] <= 0]
         if empty.size:
-            start[empty] = 1e-12 * max(float(start.sum()), 1e-300)
+            start[empty] = 1e-12 * total
+        for idx in slot.seeds:
+            if start[idx].sum() <= 0:
+                start[idx] = 1e-12 * total / idx.size
         mix = slot.mixture
         mix.T = T
         mix.P = P
@@ -217,8 +228,13 @@ class RouteSolver:
                 mix.equilibrate("TP", solver=solver, max_steps=2000, max_iter=200, estimate_equil=0)
             converged, msg = True, ""
         except Exception as exc:
-            # cantera frames its message in rows of asterisks: keep the words
-            converged, msg = False, one_line(str(exc).replace("*", " "), 300)
+            # cantera's own text stays inside (the failure classifier reads it); the route
+            # history gets what it means
+            from .diagnosis import solver_words
+            raw = one_line(str(exc).replace("*", " "), 300)
+            if raw not in self.details:
+                self.details.append(raw)
+            converged, msg = False, solver_words(raw, solver)
         for line in log.getvalue().splitlines():
             if line.strip() and line.strip() not in self.log:
                 self.log.append(line.strip())
@@ -292,20 +308,33 @@ class RouteSolver:
         return sol
 
     def solve(self, T: float, P: float, start: np.ndarray | None = None) -> SolvedState:
-        """The first route from ``self.first`` on that converges (``start``, when given, replaces
-        the routes' own starting estimates: a uniqueness restart)."""
+        """The first route from ``self.first`` on that converges; when none does, the first
+        failed state (never None: a state that did not converge, saying why).
+
+        ``start``, when given, is a uniqueness restart: it replaces the routes' own starting
+        estimates, so each of cantera's solvers among the routes is tried once from it (the
+        element-potential minimiser takes no starting estimate and is not restarted), and
+        its failures are not route failures (``self.failures`` is left alone)."""
         failed = None
+        tried: set[str] = set()
         for route in self.routes[self.first:]:
             # the wall-clock bound is checked between solves (a running cantera call cannot be stopped)
             if time.perf_counter() > self.deadline:
                 raise SolveError(f"the minimisation exceeded its wall-clock bound of "
                                  f"{settings.MINIMISATION_WALL_SECONDS:g} s (settings.MINIMISATION_WALL_SECONDS)")
-            if start is not None and ROUTE_PLAN.get(route, ("", "feed"))[1] != "feed":
-                continue                      # a restart keeps its own starting estimate
+            if start is not None:
+                method = ROUTE_PLAN[route][0] if route in ROUTE_PLAN else None
+                if method is None or method in tried:
+                    continue                  # a restart keeps its own starting estimate
+                tried.add(method)
             self.calls += 1
             sol = self._run(route, T, P, start)
             if sol.converged:
                 return sol
-            self.failures.setdefault(route, sol.message or "did not converge")
+            if start is None:
+                self.failures.setdefault(route, sol.message or "did not converge")
             failed = failed or sol
+        if failed is None:
+            why = "no route that takes a starting estimate is left" if start is not None else "no route is left"
+            failed = SolvedState(np.zeros(self.system.n_species), T, P, "", False, why)
         return failed

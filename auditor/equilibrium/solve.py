@@ -194,7 +194,11 @@ def certified_on_routes(case: Case, count: PhaseRuleCount, spec: SpecificationAu
         except SolveError as exc:
             failure, stop = str(exc), "wall-clock" in str(exc)
         except Exception as exc:
-            failure = f"{type(exc).__name__}: {one_line(exc, 300)}"
+            # a library's text is kept for the classifier, never shown
+            from .diagnosis import solver_words
+            solver.details.append(one_line(str(exc).replace("*", " "), 300))
+            failure = solver_words(solver.details[-1], "multiphase") if "cantera" in type(exc).__module__ else \
+                "the solve stopped on an error while evaluating a state"
         else:
             failure = "" if sol is not None and sol.converged else \
                 "did not converge" + (f": {sol.message}" if sol is not None and sol.message else "")
@@ -209,23 +213,61 @@ def certified_on_routes(case: Case, count: PhaseRuleCount, spec: SpecificationAu
             if stop or sol is None or not sol.route or route in solver.failures:
                 break
         else:
-            solver.attempts = tuple(attempts)   # the certified check carries them (no copy on the common path)
-            try:
-                check = certify(case, count, spec, solver, sol, list(findings), t0)
-            except SolveError as exc:
-                attempts.append((route, f"failed: {exc}"))
-            else:
-                if certificate_holds(check):
-                    return check
-                attempts.append((route, "certificate failed: " + (certificate_failure(check) or "see findings")))
-                first_check = first_check or check
+            check, failed_check = _certified_from(case, count, spec, solver, sol, findings, t0, attempts)
+            if check is not None:
+                return check
+            first_check = first_check or failed_check
         # the next pass starts after the route that produced this state
         first = max(first, solver.routes.index(route)) + 1
     notes = [Finding("error", "equilibrium", f"route {r}: {o}") for r, o in attempts]
     if first_check is not None:
         return replace(first_check, findings=first_check.findings + tuple(notes), route="", attempts=tuple(attempts))
+    from .diagnosis import failure_cause
     tried = ", ".join(dict.fromkeys(r for r, _ in attempts))
+    s = case.specified
+    assumed = case.coexisting or tuple(p.name for p in solver.system.phases)
+    cause = failure_cause(solver, s.temperature_K, s.pressure_Pa, solver.details, count.degrees_of_freedom, assumed)
     findings = findings + [Finding("error", "equilibrium", f"the minimisation did not reach a certified state on any "
-                                   f"route ({tried})")] + notes
+                                   f"route ({tried}); cause: {cause}")] + notes
     return replace(EquilibriumCheck.not_solved(findings, solver.model.assumed, time.perf_counter() - t0),
                    attempts=tuple(attempts))
+
+
+DESCENTS = 3    # states tried after a route's own: a polished one, or a restart's of lower Gibbs energy
+
+
+def _certified_from(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver: RouteSolver,
+                    sol: SolvedState, findings: list[Finding], t0: float, attempts: list[tuple[str, str]]
+                    ) -> tuple[EquilibriumCheck | None, EquilibriumCheck | None]:
+    """Certify a route's state; when its certificate fails, go on from it while there is a
+    better state to try: the state polished by Newton's method on its present species (a
+    small affinity left by the solver's own stopping test), or a uniqueness restart's state
+    of lower Gibbs energy (the route stopped at a saddle point or a local minimum: two liquids
+    that must split).  Each failure is appended to ``attempts``.  Returns (the certified
+    check or None, the first check whose certificate failed or None)."""
+    from .polish import polish
+    first_failed, polished = None, False
+    for _ in range(DESCENTS + 1):
+        solver.attempts = tuple(attempts)   # the certified check carries them (no copy on the common path)
+        try:
+            check = certify(case, count, spec, solver, sol, list(findings), t0)
+        except SolveError as exc:
+            attempts.append((sol.route, f"failed: {exc}"))
+            return None, first_failed
+        if certificate_holds(check):
+            return check, first_failed
+        failure = certificate_failure(check) or "see findings"
+        attempts.append((sol.route, "certificate failed: " + failure))
+        first_failed = first_failed or check
+        if solver.lower is not None:
+            sol = replace(solver.lower, route=f"{sol.route}, then a restart of lower Gibbs energy")
+        elif not polished and failure.startswith("affinity") and sol.sides is None and sol.solver.startswith("cantera"):
+            polished, better = True, polish(solver, sol)
+            if better is None:
+                attempts.append((f"{sol.route}, polished by Newton's method", "failed: the refinement on the present "
+                                 "species did not converge"))
+                return None, first_failed
+            sol = better
+        else:
+            return None, first_failed
+    return None, first_failed

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import functools
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -147,11 +147,7 @@ class MixtureSlot:
     seeds: tuple               # per phase in the mixture: its candidate species' positions (trace seeds)
     in_mixture: np.ndarray     # per system species: in the mixture
     one_gas: bool = False      # the mixture is one ideal-gas phase (cantera's element-potential solver applies)
-
-    @functools.cached_property
-    def seed_positions(self) -> np.ndarray:
-        """Positions in the mixture of every species that may form."""
-        return np.concatenate(self.seeds) if self.seeds else np.zeros(0, dtype=int)
+    neutral_seeds: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=int))  # positions of the uncharged species that may form
 
 
 def _store(table: dict, key, value):
@@ -202,8 +198,9 @@ class Workspace:
                      in zip(keep, offsets[:-1], offsets[1:]) if k]
             kept = [ph for ph, k in zip(self.system.phases, keep) if k]
             one_gas = len(kept) == 1 and kept[0].model == "ideal-gas"
+            neutral = np.array([s.charge == 0 for s in self.system.species]) & candidate & in_mixture
             got = _store(self._mixtures, key, MixtureSlot(mixture, tuple(s for s in seeds if s.size), in_mixture,
-                                                          one_gas))
+                                                          one_gas, position[neutral]))
         return got
 
     def present_species(self, present: np.ndarray) -> PresentSpecies:
