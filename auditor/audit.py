@@ -143,7 +143,8 @@ def _system_findings(system: ChemicalSystem) -> list[Finding]:
 
 def phase_set_findings(system: ChemicalSystem, count: PhaseRuleCount) -> list[Finding]:
     """Phase sets that cannot be right (system/phase_sets.py): an error when the case assumes
-    the phases present, a warning (a note for an interface) otherwise."""
+    the phases present (an interface: with a feed to minimise), a warning (a note for an
+    interface) otherwise."""
     from .system.phase_sets import interface_phases, shared_gas_phases
     assumed = set(count.coexisting) | set(count.empty_phases)
     out = [Finding("error", "phases", f"species {sp} in the ideal-gas phase {ph} is a condensed species: {why}; "
@@ -162,7 +163,10 @@ def phase_set_findings(system: ChemicalSystem, count: PhaseRuleCount) -> list[Fi
                            f"sharing {', '.join(pair.shared)}: ideal gases mix in all proportions, so {why}; "
                            "list these species in one gas phase", (a, b)))
     for ph in interface_phases(system):
-        out.append(Finding("error" if ph in assumed else "note", "phases", f"phase {ph} is a surface (interface) phase: "
+        # a count without a feed may hold an interface (its sites are a conserved row); the
+        # Gibbs minimisation of a feed cannot
+        bulk = ph in assumed and count.has_feed
+        out.append(Finding("error" if bulk else "note", "phases", f"phase {ph} is a surface (interface) phase: "
                            "its species sit on the sites of a solid surface whose amount the catalyst's area sets, "
                            "not a bulk material balance, so a bulk equilibrium audit cannot place it; name the bulk "
                            "phases under system.phases (or leave it out of 'coexisting') and treat surface "
