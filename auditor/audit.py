@@ -86,6 +86,8 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     system, reactions, analysis, count, spec = counting_stages(case, system)
     findings = _reaction_findings(analysis) + _system_findings(system) + _count_findings(count)
     findings += _specification_findings(spec)
+    set_findings = phase_set_findings(system, count)
+    findings += set_findings
     F = count.degrees_of_freedom
 
     equilibrium = None
@@ -112,7 +114,8 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
 
     # verdict before claims
     verdict = spec.status
-    if analysis.unbalanced or F < 0 or count.empty_phases or impossible:
+    if analysis.unbalanced or F < 0 or count.empty_phases or impossible or any(f.severity == "error"
+                                                                               for f in set_findings):
         verdict = "inconsistent"
     elif verdict == "well-posed" and equilibrium is not None and not equilibrium.confirmed:
         verdict = "not-confirmed"
@@ -122,6 +125,9 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     if any(c.held is False for c in checks):
         verdict = "inconsistent"
     reason = verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks, case)
+    wrong_set = [f for f in set_findings if f.severity == "error"]
+    if verdict == "inconsistent" and wrong_set and not analysis.unbalanced:
+        reason = "the phase set cannot be right: " + wrong_set[0].message.split(": ", 1)[0]
     return AuditResult(case, system, analysis, count, spec, equilibrium, tuple(checks), tuple(findings), verdict,
                        reason)
 
@@ -157,6 +163,39 @@ def _system_findings(system: ChemicalSystem) -> list[Finding]:
         findings.append(Finding("note", "reactions", f"the mechanism's reactions create or remove sites of {phase}, "
                                 "so its site total is not a conserved quantity", (phase,)))
     return findings
+
+
+def phase_set_findings(system: ChemicalSystem, count: PhaseRuleCount) -> list[Finding]:
+    """Phase sets that cannot be right (system/phase_sets.py): an error when the case assumes
+    the phases present (an interface: with a feed to minimise), a warning (a note for an
+    interface) otherwise."""
+    from .system.phase_sets import interface_phases, shared_gas_phases
+    assumed = set(count.coexisting) | set(count.empty_phases)
+    out = [Finding("error", "phases", f"species {sp} in the ideal-gas phase {ph} is a condensed species: {why}; "
+                   "inside a gas it would be counted as a gas at its partial pressure; put it in a phase of its own",
+                   (ph, sp)) for ph, sp, why in system.condensed_in_gas]
+    for pair in shared_gas_phases(system):
+        a, b = pair.phases
+        both = a in assumed and b in assumed
+        if pair.same_species:
+            why = ("they are one phase under two names, and the split of material between them is indeterminate")
+        else:
+            only = "; ".join(f"{', '.join(names)} only in {ph}" for names, ph in zip(pair.only, pair.phases) if names)
+            why = (f"both can be present only with one and the same composition ({only} absent), with an "
+                   "indeterminate split; otherwise one of them must be empty")
+        out.append(Finding("error" if both else "warning", "phases", f"phases {a} and {b} are both ideal gases "
+                           f"sharing {', '.join(pair.shared)}: ideal gases mix in all proportions, so {why}; "
+                           "list these species in one gas phase", (a, b)))
+    for ph in interface_phases(system):
+        # a count without a feed may hold an interface (its sites are a conserved row); the
+        # Gibbs minimisation of a feed cannot
+        bulk = ph in assumed and count.has_feed
+        out.append(Finding("error" if bulk else "note", "phases", f"phase {ph} is a surface (interface) phase: "
+                           "its species sit on the sites of a solid surface whose amount the catalyst's area sets, "
+                           "not a bulk material balance, so a bulk equilibrium audit cannot place it; name the bulk "
+                           "phases under system.phases (or leave it out of 'coexisting') and treat surface "
+                           "coverage separately", (ph,)))
+    return out
 
 
 def _count_findings(count: PhaseRuleCount) -> list[Finding]:

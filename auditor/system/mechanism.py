@@ -19,6 +19,7 @@ from ..exact import as_simple_fraction
 from ..settings import COEFFICIENT_MAX_DENOMINATOR, COEFFICIENT_TOLERANCE
 from .assemble import _assemble, _cantera, _site_sizes
 from .records import INTERFACE_MODELS, ChemicalSystem, MechanismReaction, unknown_name_message
+from .phase_sets import condensed_in_gas
 from .mechanism_file import alternative_pairs, alternatives_message, default_phases, mechanism_phase_names
 
 
@@ -256,7 +257,8 @@ def from_mechanism(path: str | Path, phase_names: Sequence[str] | None = None,
     site_phases = [name for name, model, _, _ in raw if model in INTERFACE_MODELS and name not in creating]
     system = _assemble(str(path), raw, library_warnings=tuple(dict.fromkeys(notes)), site_phases=site_phases)
     system = dataclasses.replace(system, file_phases=tuple(mechanism_phase_names(path)), set_aside=tuple(aside),
-                                 site_creating=tuple(n for n, model, _, _ in raw if n in creating))
+                                 site_creating=tuple(n for n, model, _, _ in raw if n in creating),
+                                 condensed_in_gas=condensed_in_gas(raw))
     if not with_reactions or species:
         return system
     offsets, n = {}, 0

@@ -126,6 +126,7 @@ class ChemicalSystem:
     file_phases: tuple[str, ...] = ()               # every phase the mechanism file defines
     set_aside: tuple[tuple[str, str], ...] = ()     # (phase not used, the alternative model used instead)
     site_creating: tuple[str, ...] = ()             # interfaces whose reactions change their site total
+    condensed_in_gas: tuple[tuple[str, str, str], ...] = ()  # (gas phase, species, why it is condensed)
 
     @functools.cached_property
     def labels(self) -> tuple[str, ...]:
