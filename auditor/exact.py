@@ -380,9 +380,11 @@ def small_integer_basis(vectors: Sequence[Mapping[int, Number]], passes: int = 2
                 if not shared:
                     continue
                 best = v
+                union = v.keys() | w.keys()
                 for k in shared:
-                    t = Fraction(-v[k], w[k])
-                    cand = {c: v.get(c, 0) + t * w.get(c, 0) for c in set(v) | set(w)}
+                    # v - (v_k / w_k) w, scaled by w_k to stay in integers (same sign as v + t w)
+                    a, c_ = (w[k], v[k]) if w[k] > 0 else (-w[k], -v[k])
+                    cand = {c: a * v.get(c, 0) - c_ * w.get(c, 0) for c in union}
                     cand = primitive({c: x for c, x in cand.items() if x != 0})
                     if cand and _size(cand) < _size(best):
                         best = cand
