@@ -179,7 +179,7 @@ class RouteSolver:
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore")
                 gas.TPX = T, P, x0 / x0.sum()
-                gas.equilibrate("TP", solver="element_potential", max_steps=2000, max_iter=200)
+                gas.equilibrate("TP", solver="element_potential", rtol=1e-14, max_steps=2000, max_iter=200)
         except Exception as exc:
             from .diagnosis import solver_words
             raw = one_line(str(exc).replace("*", " "), 300)
