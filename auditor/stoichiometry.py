@@ -345,10 +345,15 @@ def basis_within(reactions: Sequence[Reaction], n_species: int, present: Sequenc
     # listed reactions that already involve only present species come first, as written
     chosen = exact.RowEchelon(track=False)
     out = []
+    skipped = False
     for r in reactions:
         if r.stoich and all(k in present_set for k, _ in r.stoich):
             if chosen.add(dict(r.stoich)) is None:
                 out.append(exact.primitive(dict(r.stoich)))
+        elif r.stoich:
+            skipped = True
+    if not skipped:
+        return tuple(out)      # every reaction is among present species: nothing to combine
     ech = exact.RowEchelon(track=False)
     for r in reactions:
         if r.stoich:
