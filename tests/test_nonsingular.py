@@ -51,7 +51,8 @@ def numerical_rcond(path):
     for p in eq.phases:
         for name, x in p.mole_fractions:
             n[system.index_in(name, p.name)] = x * p.moles
-    _, _, dT, dP = ws.model.at_state(eq.temperature_K, eq.pressure_Pa, n)
+    ws.model.at_state(eq.temperature_K, eq.pressure_Pa, n)
+    dT, dP = ws.model.derivatives(eq.temperature_K, eq.pressure_Pa)
     lay = jacobian.layout(ws, case, count, spec)
     return lay, jacobian.jacobian_rcond(lay, dT, dP, n, ws.arrays.phase_of, n @ ws.arrays.membership), eq, system
 

@@ -124,7 +124,7 @@ def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
 
     # element potentials fitted to the present species, and the affinities of the
     # independent reactions among them
-    mu, g, g_dlnT, g_dlnP = solver.model.at_state(sol.T, sol.P, n)
+    mu, g = solver.model.at_state(sol.T, sol.P, n)
     present = phase_present[a.phase_of] & (n > 0)
     ps = ws.present_species(present)
     mu_p = mu[ps.index]
@@ -155,6 +155,8 @@ def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
             nonsingularity_test = jacobian.BY_PROOF
         else:
             try:
+                solver.model.at_state(sol.T, sol.P, n)        # the uniqueness restarts may have moved it
+                g_dlnT, g_dlnP = solver.model.derivatives(sol.T, sol.P)
                 jac = jacobian.jacobian_rcond(jacobian.layout(ws, case, count, spec), g_dlnT, g_dlnP, n, a.phase_of,
                                               totals)
                 nonsingularity_test = jacobian.BY_NUMBERS

@@ -147,18 +147,23 @@ class PhaseModel:
             out.append(ph.standard_gibbs_RT)
         return np.concatenate(out)
 
-    def at_state(self, T: float, P: float, n: np.ndarray) -> tuple[np.ndarray, ...]:
-        """At amounts n, T, P, from one setting of the state: chemical potentials mu_k/RT,
-        standard ones mu°_k(T, P)/RT, and the latter's derivatives d(mu°/RT)/d ln T = -H°/RT
-        (Gibbs-Helmholtz) and d(mu°/RT)/d ln P = P V/RT."""
+    def at_state(self, T: float, P: float, n: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """At amounts n, T, P, from one setting of the state: chemical potentials mu_k/RT and
+        standard ones mu°_k(T, P)/RT."""
         self.set_state(T, P, n)
         RT = R * 1000.0 * T
         phases = self.phases
         mu = np.concatenate([ph.chemical_potentials for ph in phases]) / RT
         g = np.concatenate([ph.standard_gibbs_RT for ph in phases])
-        dT = -np.concatenate([ph.standard_enthalpies_RT for ph in phases])
-        dP = np.concatenate([ph.partial_molar_volumes for ph in phases]) * (P / RT)
-        return mu, g, dT, dP
+        return mu, g
+
+    def derivatives(self, T: float, P: float) -> tuple[np.ndarray, np.ndarray]:
+        """At the state last set (``at_state``): d(mu°/RT)/d ln T = -H°/RT (Gibbs-Helmholtz) and
+        d(mu°/RT)/d ln P = P V/RT, per species."""
+        RT = R * 1000.0 * T
+        dT = -np.concatenate([ph.standard_enthalpies_RT for ph in self.phases])
+        dP = np.concatenate([ph.partial_molar_volumes for ph in self.phases]) * (P / RT)
+        return dT, dP
 
     def enthalpy(self, T: float, P: float, n: np.ndarray) -> float:
         """Total enthalpy, J, of amounts n (mol) at T, P."""
