@@ -50,6 +50,15 @@ MAX_CASE_SPECIES = 2_000
 MAX_CASE_PHASES = 50
 MAX_CASE_REACTIONS = 10_000
 MINIMISATION_WALL_SECONDS = 60.0
+# Mechanism and thermo files are checked before any parser expands them (system/file_guard.py).
+# The largest mechanism shipped with cantera has 1268 species, 5336 reactions and 1.3 MB.
+MAX_MECHANISM_FILE_BYTES = 40_000_000
+MAX_MECHANISM_SPECIES = 10_000            # "- name:" entries (species and phases)
+MAX_MECHANISM_REACTIONS = 100_000
+MAX_MECHANISM_DEPTH = 64                  # nesting levels
+MAX_MECHANISM_INDENT = 256                # spaces before a key or list entry
+MAX_MECHANISM_NODES = 5_000_000           # YAML nodes once aliases are followed
+MAX_ALIASED_MECHANISM_BYTES = 2_000_000   # a file with aliases is composed (slowly) to count them
 
 # Dulmage-Mendelsohn of a pattern with at most this many entries runs in plain Python (a
 # case's incidence has tens); larger ones use scipy's compiled matching, whose import costs

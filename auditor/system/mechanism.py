@@ -78,9 +78,7 @@ def load_phases(path: str | Path, phase_names: Sequence[str] | None = None, note
     ``set_aside`` receives the alternatives left out by default.
     """
     path = Path(path)
-    if not path.is_file():
-        raise MechanismError.single(path, "mechanism file not found")
-    available = mechanism_phase_names(path)
+    available = mechanism_phase_names(path)     # the file is checked first (file_guard)
     if phase_names:
         names = list(dict.fromkeys(phase_names))
         problems = [Problem(str(path), unknown_name_message("phase", n, available, path.name), "phases")

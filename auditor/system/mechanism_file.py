@@ -9,6 +9,7 @@ from pathlib import Path
 from typing import Sequence
 
 from ..errors import MechanismError
+from .file_guard import check_text, checked_stat
 
 def shipped_data_file(name: str) -> Path | None:
     """A data file shipped with cantera (``gri30.yaml``, ``example_data/...``), for a name not
@@ -47,10 +48,7 @@ def mechanism_phase_entries(path: str | Path) -> list[dict]:
 
 
 def _file_key(path: Path) -> tuple[str, int, int]:
-    try:
-        st = path.stat()
-    except OSError as exc:
-        raise MechanismError.single(path, f"cannot read mechanism file: {exc}") from None
+    st = checked_stat(path)
     return str(path), st.st_mtime_ns, st.st_size
 
 
@@ -62,6 +60,7 @@ def _phase_entries(path_text: str, _mtime: int, _size: int) -> tuple[dict, ...]:
         text = path.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as exc:
         raise MechanismError.single(path, f"cannot read mechanism file: {exc}") from None
+    check_text(path, text)      # before any parser expands it (cantera reads the same file next)
     # the block runs from a line starting 'phases:' to the next top-level key (found by
     # searching the text: splitting an 8 MB file into lines costs more than the parse)
     at = 0 if text.startswith("phases:") else text.find("\nphases:") + 1
