@@ -20,7 +20,7 @@ from .. import settings
 from ..errors import MechanismError
 
 _NOT_BRACKET = re.compile(r"[^\[\]{}]+")
-_DASH_NESTING = re.compile(r"(?:-[ \t]+){%d}" % (settings.MAX_MECHANISM_DEPTH + 1))
+_DASH_NESTING = re.compile(r"^[ \t]*(?:-[ \t]+){%d}" % (settings.MAX_MECHANISM_DEPTH + 1), re.M)
 _DEEP_INDENT = re.compile(r"^ {%d,}(?:- |[A-Za-z_\"'][^:\n]*:)" % settings.MAX_MECHANISM_INDENT, re.M)
 _ANCHOR = re.compile(r"(?:^|[\s\[\{,:-])&([A-Za-z0-9_][\w.-]*)", re.M)
 _SPECIES_OR_PHASE = re.compile(r"^[ \t]*-[ \t]+name[ \t]*:", re.M)
@@ -74,7 +74,7 @@ def check_text(path: Path, text: str, what: str = "mechanism file") -> None:
     if n_reactions > settings.MAX_MECHANISM_REACTIONS:
         refuse(f"declares {n_reactions:,} reactions, above the limit of {settings.MAX_MECHANISM_REACTIONS:,} "
                f"{_raise_it('MAX_MECHANISM_REACTIONS')}")
-    anchors = set(_ANCHOR.findall(text))
+    anchors = set(_ANCHOR.findall(text)) if "&" in text and "*" in text else ()
     if anchors and any(re.search(r"\*" + re.escape(a) + r"(?![\w.-])", text) for a in anchors):
         _check_aliases(text, refuse)
 
