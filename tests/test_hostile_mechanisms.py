@@ -79,7 +79,7 @@ def test_alias_bomb_is_refused_quickly(tmp_path):
 
 
 @pytest.mark.parametrize("nesting", ["[" * 5000 + "]" * 5000, "{a: " * 5000 + "1" + "}" * 5000,
-                                     "- " * 5000 + "x"])
+                                     "\n" + "- " * 5000 + "x"])
 def test_deep_nesting_is_refused(tmp_path, nesting):
     (tmp_path / "deep.yaml").write_text(f"deep: {nesting}\n" + PHASES, encoding="utf-8")
     refused(["reactions", str(tmp_path / "deep.yaml")], tmp_path, "MAX_MECHANISM_DEPTH")
