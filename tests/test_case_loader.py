@@ -186,14 +186,15 @@ ROWS = {
     # -300 degC = -26.85 K (definition of the Celsius scale)
     "temperature-below-zero-degC": Row(SYS + "specified:\n  temperature: -300 degC\n", "specified.temperature", 6,
                                        "temperature must be above absolute zero, got -26.85 K"),
+    # a bare number is refused before its value is judged (issue 19, item 1)
     "temperature-negative-bare": Row(SYS + "specified:\n  temperature: -5\n", "specified.temperature", 6,
-                                     "got -5 K"),
+                                     "a temperature needs a unit: write -5 degC or -5 degF"),
     "temperature-wrong-dimension": Row(SYS + "specified:\n  temperature: 1 bar\n", "specified.temperature", 6,
                                        "unit 'bar' is not a unit of temperature"),
     "temperature-unknown-unit": Row(SYS + "specified:\n  temperature: 300 kelvinz\n", "specified.temperature", 6,
                                     "cannot read unit 'kelvinz' of temperature"),
     "temperature-not-a-quantity": Row(SYS + "specified:\n  temperature: hot\n", "specified.temperature", 6,
-                                      "expected a temperature such as '850 degC' or 1123.15 (K), got 'hot'"),
+                                      "expected a temperature such as '850 degC' or '1123.15 K', got 'hot'"),
     "pressure-zero": Row(SYS + "specified:\n  pressure: 0 bar\n", "specified.pressure", 6,
                          "pressure must be positive, got 0 Pa"),
     # -1 atm = -101325 Pa (BIPM SI brochure: 1 atm = 101325 Pa exactly)

@@ -238,7 +238,7 @@ CHECK_FAILURES = {
     "temperature -300 degC": case_row("t300", demo_with("850 degC", "-300 degC"),
                                       r"specified\.temperature: temperature must be above absolute zero, "
                                       r"got -26\.85 K", "temperature"),
-    "temperature -5 K": case_row("tm5", demo_with("850 degC", "-5"),
+    "temperature -5 K": case_row("tm5", demo_with("850 degC", "-5 K"),
                                  r"specified\.temperature: temperature must be above absolute zero", "temperature"),
     "adiabatic feed temperature below 0 K": case_row(
         "adiab", demo_with("temperature: 850 degC", "adiabatic: {feed-temperature: -500 degF}"),

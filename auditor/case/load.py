@@ -13,7 +13,7 @@ from .conditions import read_claims, read_restrictions, read_specified
 from .quantities import feed_quantities, read_units
 from .records import Case, SystemSpec, _exact
 
-TOP_KEYS = ("title", "units", "system", "reactions", "feed", "coexisting", "specified", "restrictions", "claims")
+TOP_KEYS = ("title", "system", "reactions", "feed", "coexisting", "specified", "restrictions", "claims", "units")
 SYSTEM_KEYS = ("source", "mechanism", "phases")
 
 

@@ -67,6 +67,8 @@ def _unit_needed(kind: str, number: str) -> str:
             spell = f"{_number(n)} Pa or {_number(n / 1000)} kPa"
         else:
             spell = f"{_number(n)} bar or {_number(n * 100)} kPa"
+    elif n <= 0:
+        spell = f"{_number(n)} degC or {_number(n)} degF"
     else:
         spell = f"{_number(n)} K or {_number(n)} degC"
     return (f"a {kind} needs a unit: write {spell} (a bare number is not read in any unit; to give "
@@ -117,7 +119,8 @@ def outside_limits(kind: str, si: float, text: str) -> str | None:
 def feed_quantities(rd: NodeReader, fm, declared: dict[str, str]) -> list[tuple[str, units.Quantity]]:
     """(species, quantity) of each feed entry that reads, in file order; bare numbers in the
     declared feed unit, or in mol when no entry has a unit; problems recorded."""
-    entries = []
+    unit, before = declared.get("feed"), len(rd.problems)
+    out, bare = [], []
     for sp, (kn, vn) in fm.items():
         kp = f"feed.{sp}"
         v = rd.value_of(vn, kp)
@@ -125,15 +128,6 @@ def feed_quantities(rd: NodeReader, fm, declared: dict[str, str]) -> list[tuple[
             word, rest = sp.split(None, 1)
             rd.problem(kn, f"feed.{word}", f"a colon is missing after {word!r}: write '{word}: {rest}'")
             continue
-        entries.append((sp, kn, vn, kp, v))
-    unit = declared.get("feed")
-    with_unit = [(sp, v) for sp, _, _, _, v in entries if units.unit_written(v)]
-    bare = [(sp, vn, kp, v) for sp, _, vn, kp, v in entries if units.is_bare(v) and not _is_zero(v)]
-    if unit is None and with_unit and bare:
-        _mixed_feed(rd, bare, with_unit)
-        return []
-    out = []
-    for sp, kn, vn, kp, v in entries:
         text = f"{v} {unit}" if unit is not None and units.is_bare(v) else v
         try:
             q = units.parse(text, ("amount", "mass"))
@@ -147,24 +141,23 @@ def feed_quantities(rd: NodeReader, fm, declared: dict[str, str]) -> list[tuple[
             rd.problem(vn, kp, problem)
             continue
         out.append((sp, q))
+        if units.is_bare(v) and q.si != 0:
+            bare.append((sp, vn, kp, v))
+    with_unit = [(sp, q) for sp, q in out if not units.is_bare(q.text)]
+    if unit is None and with_unit and bare and len(rd.problems) == before:
+        _mixed_feed(rd, bare, with_unit)
+        return []
     return out
-
-
-def _is_zero(v) -> bool:
-    try:
-        return float(v) == 0
-    except (TypeError, ValueError, OverflowError):
-        return False
 
 
 def _mixed_feed(rd: NodeReader, bare, with_unit) -> None:
     """One refusal for a feed that mixes amounts with and without a unit, at the first bare one."""
     sp, vn, kp, v = bare[0]
-    written_units = {units.split(w, "amount")[2] for _, w in with_unit if isinstance(w, str)}
+    written_units = {q.unit for _, q in with_unit}
     unit = written_units.pop() if len(written_units) == 1 else "kmol"
     named = ", ".join(s for s, *_ in bare)
-    example_sp, example_v = with_unit[0]
-    rd.problem(vn, kp, f"this feed mixes amounts with a unit ({example_sp}: {example_v}) and without one "
+    example_sp, example_q = with_unit[0]
+    rd.problem(vn, kp, f"this feed mixes amounts with a unit ({example_sp}: {example_q.text}) and without one "
                        f"({named}): write {sp}: {_number(v)} {unit} (or mol), giving each amount its unit; "
                        "a feed with no unit anywhere is read in mol")
 
