@@ -189,11 +189,8 @@ def load_nodes(path: Path):
     try:
         docs = list(yaml.compose_all(text, Loader=yaml.SafeLoader))
     except yaml.YAMLError as exc:
-        mark = getattr(exc, "problem_mark", None)
-        line = mark.line + 1 if mark else None
-        col = mark.column + 1 if mark else None
-        what = getattr(exc, "problem", None) or str(exc)
-        raise CaseError(Problem(str(path), f"YAML syntax error: {what}", "", line, col)) from None
+        from .yaml_syntax import syntax_problem
+        raise CaseError(syntax_problem(str(path), text, exc)) from None
     except RecursionError:
         raise LimitError(Problem(str(path), f"case file nests deeper than {settings.MAX_YAML_DEPTH} levels; "
                                  "refused")) from None
