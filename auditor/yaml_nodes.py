@@ -86,7 +86,12 @@ class NodeReader:
     # ---- values of the wanted kinds; each records the problem and gives None otherwise
     def check_keys(self, mapping: "NodeMapping", allowed, where: str):
         for key, (knode, _) in mapping.items():
-            if key not in allowed:
+            word, _, rest = key.partition(" ")
+            if key not in allowed and word in allowed and rest.strip():
+                # 'temperature 850 degC' in a flow mapping reads as one key without a value
+                self.problem(knode, f"{where}.{word}".lstrip("."),
+                             f"a colon is missing after {word!r}: write '{word}: {rest.strip()}'")
+            elif key not in allowed:
                 self.problem(knode, f"{where}.{key}".lstrip("."), f"unknown key {key!r}{suggest(key, allowed)}")
 
     @staticmethod

@@ -101,7 +101,8 @@ def read(case) -> Entered:
     except (OSError, UnicodeDecodeError, yaml.YAMLError):
         raw, text, root = b"", "", None
     top = {k.value: v for k, v in root.value} if isinstance(root, yaml.MappingNode) else {}
-    source = str(case.system.mechanism) if case.system.mechanism is not None else case.system.source
+    from ..system import display_source
+    source = display_source(case.system.mechanism) if case.system.mechanism is not None else case.system.source
     system = top.get("system")
     if isinstance(system, yaml.MappingNode):
         given = {k.value: v for k, v in system.value}
