@@ -55,8 +55,7 @@ def _parser() -> argparse.ArgumentParser:
     c.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
     w = sub.add_parser("sweep", help="run the confirmation over a grid of temperature, pressure or feed composition",
                        epilog=EPILOG_SWEEP, formatter_class=argparse.RawDescriptionHelpFormatter)
-    w.add_argument("case", metavar="CASE", help="the case file to sweep (YAML, with a feed); its other "
-                   "specifications are kept at every point")
+    w.add_argument("case", metavar="CASE", help="the case file to sweep (YAML, with a feed)")
     w.add_argument("--vary", action="append", metavar="NAME=START:STOP:STEP",
                    help="temperature (K), pressure (bar), feed.SPECIES (mol of a feed species) or ratio.X/Y "
                         "(atoms of element X per atom of Y in the feed); repeat for a two-dimensional grid")
@@ -78,8 +77,7 @@ def _parser() -> argparse.ArgumentParser:
     n = sub.add_parser("new", help="write a commented starter case file",
                        epilog="example:\n  auditor new my_case.yaml && auditor check my_case.yaml",
                        formatter_class=argparse.RawDescriptionHelpFormatter)
-    n.add_argument("path", metavar="PATH", help="where to write the starter case (a new .yaml file; an existing "
-                   "file is kept unless --force)")
+    n.add_argument("path", metavar="PATH", help="where to write the starter case (a .yaml file)")
     n.add_argument("--force", action="store_true", help="overwrite an existing file")
     n.add_argument("--quiet", action="store_true", help="write the file without printing what to do next")
     n.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
@@ -90,10 +88,8 @@ def _parser() -> argparse.ArgumentParser:
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     q.add_argument("query", metavar="QUERY", help="a common name (methanol, steam, graphite), part of a "
                    "database name, or a formula such as CH4O")
-    q.add_argument("--limit", type=int, default=40, metavar="N",
-                   help="show at most N matching species, best matches first (default 40)")
-    q.add_argument("--json", action="store_true", help="print the matches as a JSON list (name, kind, database, "
-                   "formula, charge, thermo range t_min/t_max in K) for a program")
+    q.add_argument("--limit", type=int, default=40, metavar="N", help="show at most N matching species (default 40)")
+    q.add_argument("--json", action="store_true", help="print the matches as a JSON list (name, kind, formula, ...)")
     q.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
     r = sub.add_parser("reactions", help="stoichiometric analysis of a mechanism's own reactions",
                        epilog=EPILOG_REACTIONS, formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -353,19 +349,11 @@ def _cmd_species(args) -> int:
     return EXIT_OK
 
 
-def _sha256_of(path: str) -> str:
-    import hashlib
-    return hashlib.sha256(Path(path).read_bytes()).hexdigest()
-
-
 def _cmd_reactions(args) -> int:
     from .report.reactions import reactions_document, reactions_text
     from .stoichiometry import analyse, from_mechanism as mechanism_reactions
-    from .system import from_mechanism, shipped_by, shipped_data_file, shipped_name
+    from .system import from_mechanism, shipped_data_file
     path = args.mechanism if Path(args.mechanism).exists() else str(shipped_data_file(args.mechanism) or args.mechanism)
-    # a file that ships with cantera goes by the name the user gave, not by where it is installed
-    shown = (f"{args.mechanism} (ships with {shipped_by()}, SHA-256 {_sha256_of(path)})" if shipped_name(path)
-             else path)
     # The exact analysis of a large mechanism allocates a few hundred thousand small objects
     # and builds no reference cycles; the cyclic collector's passes over them cost a fifth of
     # the run, so it is paused for this bounded piece of work (reference counting still frees).
@@ -383,7 +371,7 @@ def _cmd_reactions(args) -> int:
         else:
             print(json.dumps(doc, separators=(",", ":")))
     else:
-        sys.stdout.write(reactions_text(analysis, shown, None if args.limit == 0 else args.limit,
+        sys.stdout.write(reactions_text(analysis, path, None if args.limit == 0 else args.limit,
                                         system.library_warnings, system))
     return EXIT_PROBLEM if analysis.unbalanced else EXIT_OK
 

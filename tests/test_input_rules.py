@@ -130,6 +130,9 @@ def test_declared_units_give_bare_numbers_their_meaning(tmp_path):
     assert dict(case.feed)["H2S"] == 90_000                     # 90 kmol = 90000 mol, exact (SI prefix)
     assert case.as_written["specified.pressure"] == "1.6 bar"   # reports show the unit the case declared
     assert case.as_written["feed.H2S"] == "90 kmol"
+    report = tmp_path / "furnace.md"
+    assert run(["check", path, "--report", report])[0] == 0
+    assert "| pressure | 1.6 (read as 1.6 bar, from 'units:') | 160000 Pa |" in report.read_text(encoding="utf-8")
 
 
 @pytest.mark.parametrize("units_text, key_path, message", [
@@ -288,7 +291,7 @@ def test_golden_files_carry_no_machine_path():
 # ------------------------------------------------------------------ item 11: help a newcomer reads
 
 @pytest.mark.parametrize("argv, words", [
-    (["new", "--help"], ["PATH  where to write the starter case", "--quiet  write the file without printing"]),
+    (["new", "--help"], ["PATH where to write the starter case", "--quiet write the file without printing"]),
     (["species", "--help"], ["--limit N", "show at most N matching species", "--json", "as a JSON list"]),
     (["sweep", "--help"], ["CASE", "the case file to sweep"]),
 ])
