@@ -55,7 +55,7 @@ def _parser() -> argparse.ArgumentParser:
     c.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
     w = sub.add_parser("sweep", help="run the confirmation over a grid of temperature, pressure or feed composition",
                        epilog=EPILOG_SWEEP, formatter_class=argparse.RawDescriptionHelpFormatter)
-    w.add_argument("case", metavar="CASE")
+    w.add_argument("case", metavar="CASE", help="the case file to sweep (YAML, with a feed)")
     w.add_argument("--vary", action="append", metavar="NAME=START:STOP:STEP",
                    help="temperature (K), pressure (bar), feed.SPECIES (mol of a feed species) or ratio.X/Y "
                         "(atoms of element X per atom of Y in the feed); repeat for a two-dimensional grid")
@@ -77,9 +77,9 @@ def _parser() -> argparse.ArgumentParser:
     n = sub.add_parser("new", help="write a commented starter case file",
                        epilog="example:\n  auditor new my_case.yaml && auditor check my_case.yaml",
                        formatter_class=argparse.RawDescriptionHelpFormatter)
-    n.add_argument("path", metavar="PATH")
+    n.add_argument("path", metavar="PATH", help="where to write the starter case (a .yaml file)")
     n.add_argument("--force", action="store_true", help="overwrite an existing file")
-    n.add_argument("--quiet", action="store_true")
+    n.add_argument("--quiet", action="store_true", help="write the file without printing what to do next")
     n.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
     q = sub.add_parser("species", help="search the packaged thermo databases by name or formula",
                        epilog="examples:\n  auditor species CaCO3\n  auditor species 'C(gr)'\n  auditor species methanol"
@@ -88,8 +88,8 @@ def _parser() -> argparse.ArgumentParser:
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     q.add_argument("query", metavar="QUERY", help="a common name (methanol, steam, graphite), part of a "
                    "database name, or a formula such as CH4O")
-    q.add_argument("--limit", type=int, default=40, metavar="N")
-    q.add_argument("--json", action="store_true")
+    q.add_argument("--limit", type=int, default=40, metavar="N", help="show at most N matching species (default 40)")
+    q.add_argument("--json", action="store_true", help="print the matches as a JSON list (name, kind, formula, ...)")
     q.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
     r = sub.add_parser("reactions", help="stoichiometric analysis of a mechanism's own reactions",
                        epilog=EPILOG_REACTIONS, formatter_class=argparse.RawDescriptionHelpFormatter)

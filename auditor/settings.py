@@ -42,6 +42,16 @@ JACOBIAN_RANK_TOLERANCE = 1e-10
 # reported when it holds more than this share of an element at equilibrium ("most of it").
 HINDERED_ELEMENT_SHARE = 0.5
 
+# Values no physical case holds, refused as input errors (a slipped unit or exponent):
+# temperatures outside 1 K to 1e5 K, pressures above 1e4 bar, feed amounts outside 1e-30 to
+# 1e30 in the unit written (0 is allowed: "not fed").  Values inside these ranges but outside
+# the species' thermo data are findings, not errors.
+MIN_TEMPERATURE_K = 1.0
+MAX_TEMPERATURE_K = 1e5
+MAX_PRESSURE_PA = 1e9          # 1e4 bar
+MIN_FEED_AMOUNT = 1e-30
+MAX_FEED_AMOUNT = 1e30
+
 # Limits against hostile input.
 MAX_CASE_FILE_BYTES = 1_000_000
 MAX_YAML_DEPTH = 20

@@ -21,7 +21,7 @@ from fractions import Fraction
 from dataclasses import dataclass, replace
 from typing import Callable, Iterable, Sequence
 
-from .case import Case, load_case, parse_quantity
+from .case import Case, load_case, outside_limits, parse_quantity
 from .errors import InputError, Problem
 
 VARIABLES = {"temperature": ("temperature", "K"), "pressure": ("pressure", "bar")}
@@ -86,6 +86,9 @@ def parse_vary(text: str) -> Axis:
         if si < 0 or (si == 0 and kind in ("temperature", "pressure")):
             fail(f"{name} must stay above zero (got {v} {unit})".rstrip() if kind in ("temperature", "pressure")
                  else f"{name} must not be negative (got {v})")
+        beyond = outside_limits(kind, si, f"{v:g} {unit}") if kind in ("temperature", "pressure") else None
+        if beyond:
+            fail(f"{name}: {beyond}")
         values.append(si)
     return Axis(name, tuple(values))
 

@@ -32,8 +32,8 @@ TABLE = _DATA / "units.json"
 
 # kind -> (pint dimensionality, SI unit, default unit of a bare number, example for messages)
 KINDS = {
-    "temperature": ("[temperature]", "K", "K", "'850 degC' or 1123.15 (K)"),
-    "pressure": ("[mass] / [length] / [time] ** 2", "Pa", "Pa", "'25 bar' or 101325 (Pa)"),
+    "temperature": ("[temperature]", "K", "K", "'850 degC' or '1123.15 K'"),
+    "pressure": ("[mass] / [length] / [time] ** 2", "Pa", "Pa", "'25 bar' or '101325 Pa'"),
     "amount": ("[substance]", "mol", "mol", "'2 kmol' or 1.5 (mol)"),
     "mass": ("[mass]", "kg", "kg", "'10 kg' or '1 t'"),
 }
@@ -120,6 +120,24 @@ def split(value: Any, kind: str) -> tuple[str, str, str]:
     raise ValueError(f"expected a {kind} such as {example(kind)}, got {_kind_of(value)}")
 
 
+def unit_written(value: Any) -> str | None:
+    """The unit text written with a value: ``"bar"`` for ``"1.6 bar"``, ``""`` for a bare number
+    (``1.6`` or ``"1.6"``), None for anything that is not a quantity at all."""
+    if isinstance(value, bool) or value is None:
+        return None
+    if isinstance(value, (int, float)):
+        return ""
+    if isinstance(value, str):
+        m = _NUMBER_UNIT.match(value)
+        return m.group(2) if m else None
+    return None
+
+
+def is_bare(value: Any) -> bool:
+    """A number written without a unit."""
+    return unit_written(value) == ""
+
+
 def _kind_of(v) -> str:
     if isinstance(v, dict):
         return "a mapping"
@@ -150,6 +168,7 @@ def parse(value: Any, kinds: tuple[str, ...] | str) -> Quantity:
         si = number * float(scale) + float(offset) if offset else number * float(scale)
         exact = None if offset else Fraction(number_text) * scale if _finite_text(number_text) else None
     else:
+        _rate(number_text, unit, kinds)
         _near_miss(number_text, unit, kinds)
         try:
             kind, si = _with_pint(number, unit, kinds, what)
@@ -181,6 +200,26 @@ def _near_miss(number_text: str, unit: str, kinds: tuple[str, ...]) -> None:
                 raise ValueError(f"cannot read unit {unit!r} of {kind}: a gauge pressure; give the absolute "
                                  "pressure (gauge plus the local atmospheric pressure), e.g. in bar")
             raise ValueError(f"cannot read unit {unit!r} of {kind}; did you mean {number_text} {meant}?")
+
+
+# a flow rate written where an amount is wanted: 'kg/h', 'kmol/hr', 't/d', 'lb per hour'
+_TIMES = {"s": "second", "sec": "second", "min": "minute", "h": "hour", "hr": "hour", "hrs": "hour",
+          "hour": "hour", "d": "day", "day": "day", "yr": "year", "y": "year", "a": "year", "year": "year"}
+_RATE = re.compile(r"^\s*(.+?)\s*(?:/|\bper\s+)\s*([A-Za-z]+)\s*$")
+
+
+def _rate(number_text: str, unit: str, kinds: tuple[str, ...]) -> None:
+    """Raise, in engineering words, when an amount is written as a flow rate."""
+    if "amount" not in kinds and "mass" not in kinds:
+        return
+    m = _RATE.match(unit)
+    key = m.group(2).lower() if m else ""
+    per = _TIMES.get(key) or _TIMES.get(key.rstrip("s"))
+    if per is None:
+        return
+    raise ValueError(f"{number_text} {unit} is a flow rate; a feed is the amount charged to a closed system, and "
+                     f"rates are not supported yet: write the amount fed in one {per}, {number_text} {m.group(1)} "
+                     "(the equilibrium composition does not depend on the basis chosen)")
 
 
 def _other_case(number_text: str, unit: str, kinds: tuple[str, ...]) -> None:

@@ -86,7 +86,12 @@ class NodeReader:
     # ---- values of the wanted kinds; each records the problem and gives None otherwise
     def check_keys(self, mapping: "NodeMapping", allowed, where: str):
         for key, (knode, _) in mapping.items():
-            if key not in allowed:
+            word, _, rest = key.partition(" ")
+            if key not in allowed and word in allowed and rest.strip():
+                # 'temperature 850 degC' in a flow mapping reads as one key without a value
+                self.problem(knode, f"{where}.{word}".lstrip("."),
+                             f"a colon is missing after {word!r}: write '{word}: {rest.strip()}'")
+            elif key not in allowed:
                 self.problem(knode, f"{where}.{key}".lstrip("."), f"unknown key {key!r}{suggest(key, allowed)}")
 
     @staticmethod
@@ -189,11 +194,8 @@ def load_nodes(path: Path):
     try:
         docs = list(yaml.compose_all(text, Loader=yaml.SafeLoader))
     except yaml.YAMLError as exc:
-        mark = getattr(exc, "problem_mark", None)
-        line = mark.line + 1 if mark else None
-        col = mark.column + 1 if mark else None
-        what = getattr(exc, "problem", None) or str(exc)
-        raise CaseError(Problem(str(path), f"YAML syntax error: {what}", "", line, col)) from None
+        from .yaml_syntax import syntax_problem
+        raise CaseError(syntax_problem(str(path), text, exc)) from None
     except RecursionError:
         raise LimitError(Problem(str(path), f"case file nests deeper than {settings.MAX_YAML_DEPTH} levels; "
                                  "refused")) from None

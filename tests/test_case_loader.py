@@ -186,14 +186,15 @@ ROWS = {
     # -300 degC = -26.85 K (definition of the Celsius scale)
     "temperature-below-zero-degC": Row(SYS + "specified:\n  temperature: -300 degC\n", "specified.temperature", 6,
                                        "temperature must be above absolute zero, got -26.85 K"),
+    # a bare number is refused before its value is judged (issue 19, item 1)
     "temperature-negative-bare": Row(SYS + "specified:\n  temperature: -5\n", "specified.temperature", 6,
-                                     "got -5 K"),
+                                     "a temperature needs a unit: write -5 degC or -5 degF"),
     "temperature-wrong-dimension": Row(SYS + "specified:\n  temperature: 1 bar\n", "specified.temperature", 6,
                                        "unit 'bar' is not a unit of temperature"),
     "temperature-unknown-unit": Row(SYS + "specified:\n  temperature: 300 kelvinz\n", "specified.temperature", 6,
                                     "cannot read unit 'kelvinz' of temperature"),
     "temperature-not-a-quantity": Row(SYS + "specified:\n  temperature: hot\n", "specified.temperature", 6,
-                                      "expected a temperature such as '850 degC' or 1123.15 (K), got 'hot'"),
+                                      "expected a temperature such as '850 degC' or '1123.15 K', got 'hot'"),
     "pressure-zero": Row(SYS + "specified:\n  pressure: 0 bar\n", "specified.pressure", 6,
                          "pressure must be positive, got 0 Pa"),
     # -1 atm = -101325 Pa (BIPM SI brochure: 1 atm = 101325 Pa exactly)
@@ -322,23 +323,54 @@ def test_directory_instead_of_file(tmp_path):
 
 
 YAML_SYNTAX = {
-    # text: (line, column) of the error mark -- by hand
+    # text: (line, column) where the mistake is, key path, our words, the parser's words -- by hand
     "unclosed-flow-list": ("title: t\nsystem:\n  source: packaged\n  phases: {gas: [CH4, H2O}\n", 4, 26,
+                           "system.phases", "the '[' opened in column 17 is closed here with '}': close it with ']'",
                            "expected ',' or ']', but got '}'"),
-    "tab-indentation": ("title: t\nsystem:\n  source: packaged\n\tphases: x\n", 4, 1,
-                        "found character '\\t' that cannot start any token"),
-    "unclosed-flow-mapping": ("title: t\nfeed: {CH4: 1\nspecified: {}\n", 3, 10, "expected ',' or '}', but got ':'"),
+    "tab-indentation": ("title: t\nsystem:\n  source: packaged\n\tphases: x\n", 4, 1, "phases",
+                        "a tab character: YAML indents with spaces only", "found character '\\t' that cannot start"),
+    # the '{' of line 2 is never closed: the parser notices on line 3, the mistake is on line 2
+    "unclosed-flow-mapping": ("title: t\nfeed: {CH4: 1\nspecified: {}\n", 2, 7, "feed",
+                              "the '{' opened here is not closed: end it with '}' on this line",
+                              "expected ',' or '}', but got ':'"),
+    # issue 19 item 3: a missing colon after 'pressure' is on the pressure line, not the next
+    "missing-colon-before-key": ("title: t\nspecified:\n  pressure 25 bar\n  temperature: 850 degC\n", 3, 3,
+                                 "specified.pressure", "a colon is missing after 'pressure': write 'pressure: 25 bar'",
+                                 "mapping values are not allowed here"),
+    "missing-colon-last-key": ("title: t\nspecified:\n  temperature: 850 degC\n  pressure 25 bar\nclaims: {}\n",
+                               4, 3, "specified.pressure",
+                               "a colon is missing after 'pressure': write 'pressure: 25 bar'",
+                               "could not find expected ':'"),
+    "no-space-after-colon": ("title: t\nspecified:\n  temperature:850 degC\n  pressure: 25 bar\n", 3, 3,
+                             "specified.temperature", "put a space after the colon: write 'temperature: 850 degC'",
+                             "mapping values are not allowed here"),
+    "over-indented-key": ("title: t\nspecified:\n  temperature: 850 degC\n   pressure: 25 bar\n", 4, 4,
+                          "specified.pressure", "this line is indented more than the line above",
+                          "mapping values are not allowed here"),
+    "under-indented-key": ("title: t\nspecified:\n  temperature: 850 degC\n pressure: 25 bar\n", 4, 2,
+                           "specified.pressure", "this line's indentation (1 space) matches no key above",
+                           "expected <block end>"),
+    "missing-comma": ("title: t\nfeed: {CH4: 1 H2O: 2}\n", 2, 18, "feed",
+                      "a comma is missing between two entries here", "expected ',' or '}', but got ':'"),
+    "colon-in-value": ("title: Reformer: design A\n", 1, 16, "title", "a value that holds ': ' must be quoted",
+                       "mapping values are not allowed here"),
+    "list-item-without-dash": ("title: t\nreactions:\n  - CH4 + H2O <=> CO + 3 H2\n  CO + H2O <=> CO2 + H2\n", 4, 3,
+                               "reactions", "does not start with '- ': write '- CO + H2O <=> CO2 + H2'",
+                               "could not find expected ':'"),
+    "unclosed-quote": ("title: 'Reformer\nspecified: {}\n", 1, 8, "title",
+                       "the quote opened here is not closed", "found unexpected end of stream"),
 }
 
 
-@pytest.mark.parametrize("text,line,column,what", list(YAML_SYNTAX.values()), ids=list(YAML_SYNTAX))
-def test_yaml_syntax_error_has_line_and_column(tmp_path, text, line, column, what):
+@pytest.mark.parametrize("text,line,column,key_path,ours,parser", list(YAML_SYNTAX.values()), ids=list(YAML_SYNTAX))
+def test_yaml_syntax_error_is_located_where_the_mistake_is(tmp_path, text, line, column, key_path, ours, parser):
     path = write(tmp_path, text)
     with pytest.raises(CaseError) as info:
         load_case(path)
     (problem,) = info.value.problems
-    assert (problem.line, problem.column) == (line, column)
-    assert problem.message == f"YAML syntax error: {what}"
+    assert (problem.line, problem.column, problem.key_path) == (line, column, key_path), str(problem)
+    assert problem.message.startswith("YAML syntax error: ") and ours in problem.message, problem.message
+    assert f"(the YAML parser says: {parser}" in problem.message       # the parser's text follows ours
     assert str(info.value).startswith(f"{path}:{line}:{column}:")
 
 

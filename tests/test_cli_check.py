@@ -296,8 +296,10 @@ def test_bad_file_among_good_ones_json(capsys, tmp_path):
     docs = json.loads(out)
     assert rc == 2
     assert [Path(d["case"]).name for d in docs] == [DESIGN.name, LIME.name]
-    # by hand: the unclosed '[' of line 1 is found at the end of the stream, line 2 column 1
-    assert f"auditor: error: {bad}:2:1: YAML syntax error: expected ',' or ']', but got '<stream end>'" in err
+    # by hand: the parser finds the unclosed '[' of line 1 at the end of the stream (line 2); the
+    # message points at the '[' itself, line 1 column 9
+    assert (f"auditor: error: {bad}:1:9: system: YAML syntax error: the '[' opened here is not closed: end it with "
+            "']' on this line (the YAML parser says: expected ',' or ']', but got '<stream end>')") in err
 
 
 def test_deeply_nested_file_among_good_ones(capsys, tmp_path):

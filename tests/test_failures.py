@@ -171,7 +171,8 @@ CHECK_FAILURES = {
     "missing file": _missing,
     "a directory": _directory,
     "YAML syntax error": case_row("syntax", demo_with("coexisting: [gas]", "- coexisting"),
-                                  r"YAML syntax error: expected <block end>, but found '-'", "- coexisting"),
+                                  r"YAML syntax error: a list item \('- \.\.\.'\) where a 'key: value' line was expected "
+                                  r"\(the YAML parser says: expected <block end>, but found '-'\)", "- coexisting"),
     "empty file": case_row("empty", "  \n\n \n", r"case file is empty"),
     "comment-only file": case_row("comments", "# title: to do\n# system: to do\n", r"case file is empty"),
     "binary file": case_row("binary", b"\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR", r"this is a binary file"),
@@ -238,7 +239,7 @@ CHECK_FAILURES = {
     "temperature -300 degC": case_row("t300", demo_with("850 degC", "-300 degC"),
                                       r"specified\.temperature: temperature must be above absolute zero, "
                                       r"got -26\.85 K", "temperature"),
-    "temperature -5 K": case_row("tm5", demo_with("850 degC", "-5"),
+    "temperature -5 K": case_row("tm5", demo_with("850 degC", "-5 K"),
                                  r"specified\.temperature: temperature must be above absolute zero", "temperature"),
     "adiabatic feed temperature below 0 K": case_row(
         "adiab", demo_with("temperature: 850 degC", "adiabatic: {feed-temperature: -500 degF}"),

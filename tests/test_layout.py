@@ -55,11 +55,28 @@ def test_only_exact_does_rank_decisions_with_sympy_or_flint():
         assert not mods & {"sympy", "flint"} or path.name == "exact.py", path.name
 
 
+def test_package_does_not_import_sympy_and_does_not_require_it():
+    """sympy checks the exact ranks in the tests only: it belongs to the test extra (issue 19, item 11)."""
+    tomllib = pytest.importorskip("tomllib")     # Python 3.11 on
+    assert not [p.name for p in PACKAGE.rglob("*.py") if "sympy" in {m.split(".")[0] for m in imports_of(p)}]
+    project = tomllib.loads((PACKAGE.parent / "pyproject.toml").read_text(encoding="utf-8"))["project"]
+    assert not [d for d in project["dependencies"] if d.lower().startswith("sympy")]
+    assert [d for d in project["optional-dependencies"]["test"] if d.lower().startswith("sympy")]
+
+
+def test_readme_links_stay_inside_the_repository():
+    import re
+    readme = (PACKAGE.parent / "README.md").read_text(encoding="utf-8")
+    outside = [t for t in re.findall(r"`([^`\s]+\.(?:md|py|yaml|txt|toml))`|\]\(([^)]+)\)", readme)
+               for t in t if t and (t.startswith(("../", "/")) or "/../" in t)]
+    assert not outside, outside
+
+
 # Import direction (DEVELOPERS.md): cli -> report -> audit -> {stoichiometry, phase_rule,
 # structure, equilibrium} -> {system, exact}; case -> system, units.  (system/from_case.py
 # names the Case type for annotations only.)  A room may import only
 # rooms of a lower rank; the support modules may be imported from anywhere.
-SUPPORT = {"errors", "settings", "findings", "exact", "units", "dm", "yaml_nodes", "common_names", "__version__"}
+SUPPORT = {"errors", "settings", "findings", "exact", "units", "dm", "yaml_nodes", "yaml_syntax", "common_names", "__version__"}
 RANK = {"system": 1, "case": 2, "stoichiometry": 3, "phase_rule": 4, "structure": 5, "equilibrium": 6,
         "hindered": 7, "audit": 8, "sweep": 9, "executors": 9, "report": 10, "cli": 11, "__main__": 12}
 

@@ -120,10 +120,10 @@ def test_mass_and_mole_feeds_give_the_same_audit(tmp_path):
 
 
 def test_inputs_kept_as_written(tmp_path):
-    path = write(tmp_path, SYS + "feed: {CH4: 2 kmol, H2O: 6.0, N2: 10 lb}\n"
+    path = write(tmp_path, SYS + "feed: {CH4: 2 kmol, H2O: 6.0 kmol, N2: 10 lb}\n"
                  "specified:\n  temperature: 850 degC\n  pressure: 25 bar\n")
     case = load_case(path)
-    assert case.as_written == {"feed.CH4": "2 kmol", "feed.H2O": "6.0", "feed.N2": "10 lb",
+    assert case.as_written == {"feed.CH4": "2 kmol", "feed.H2O": "6.0 kmol", "feed.N2": "10 lb",
                                "specified.temperature": "850 degC", "specified.pressure": "25 bar"}
     assert case.specified.temperature_K == pytest.approx(1123.15)
 

@@ -12,16 +12,19 @@ each species' molar mass once the species are known: :func:`auditor.system.feed_
 feed amount and specification is kept as written (``Case.as_written``) for reports.
 
 Rooms: ``records.py`` (the frozen records, units), ``load.py`` (``load_case``: title, system,
-reactions, feed, coexisting), ``conditions.py`` (specified, restrictions, claims).
+reactions, feed, coexisting), ``conditions.py`` (specified, restrictions, claims), ``quantities.py``
+(units required or declared in ``units:``, physical limits).
 """
 from __future__ import annotations
 
 from ..errors import CaseError
 from .conditions import CLAIM_KEYS, RATIO_KEYS, SPECIFIED_KEYS, VERDICTS
 from .load import SYSTEM_KEYS, TOP_KEYS, load_case
+from .quantities import UNIT_KEYS, outside_limits
 from .records import (Case, DeclaredRestriction, MoleFractionSpec, PhaseFractionSpec, RatioSpec, Specified,
                       SystemSpec, parse_amount, parse_quantity)
 
 __all__ = ["CaseError", "CLAIM_KEYS", "RATIO_KEYS", "SPECIFIED_KEYS", "VERDICTS", "SYSTEM_KEYS", "TOP_KEYS",
            "load_case", "Case", "DeclaredRestriction", "MoleFractionSpec", "PhaseFractionSpec", "RatioSpec",
-           "Specified", "SystemSpec", "parse_amount", "parse_quantity"]
+           "Specified", "SystemSpec", "parse_amount", "parse_quantity",
+           "UNIT_KEYS", "outside_limits"]

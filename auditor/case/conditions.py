@@ -4,8 +4,8 @@ from __future__ import annotations
 from typing import Any
 
 from ..yaml_nodes import NodeMapping, NodeReader, kind_of, suggest
-from .records import (DeclaredRestriction, MoleFractionSpec, PhaseFractionSpec, RatioSpec, Specified,
-                      parse_quantity)
+from .quantities import read_condition
+from .records import DeclaredRestriction, MoleFractionSpec, PhaseFractionSpec, RatioSpec, Specified
 
 SPECIFIED_KEYS = ("temperature", "pressure", "mole-fractions", "ratios", "phase-fractions", "adiabatic")
 RATIO_KEYS = ("phase", "numerator", "denominator", "value")
@@ -37,22 +37,6 @@ def _read_ratio(rd: NodeReader, node, kp: str) -> RatioSpec | None:
     return RatioSpec(phase, num, den, val, kp)
 
 
-def _read_positive(rd: NodeReader, sm: NodeMapping, key: str, kind: str, unit: str, what: str) -> float | None:
-    """A temperature or pressure above zero, or None with the problem recorded."""
-    if key not in sm:
-        return None
-    vn, kp = rd.get(sm, key), f"specified.{key}"
-    try:
-        value = parse_quantity(rd.value_of(vn, kp), kind)
-    except ValueError as exc:
-        rd.problem(vn, kp, str(exc))
-        return None
-    if value <= 0:
-        rd.problem(vn, kp, f"{what}, got {value:g} {unit}")
-        return None
-    return value
-
-
 def _read_mole_fractions(rd: NodeReader, node) -> tuple[MoleFractionSpec, ...]:
     mfs = []
     mm = rd.want_mapping(node, "specified.mole-fractions")
@@ -77,7 +61,7 @@ def _read_phase_fractions(rd: NodeReader, node) -> tuple[PhaseFractionSpec, ...]
     return tuple(pfs)
 
 
-def _read_adiabatic(rd: NodeReader, node) -> float | None:
+def _read_adiabatic(rd: NodeReader, node, declared: dict[str, str]) -> float | None:
     """The feed temperature of an adiabatic enthalpy balance, K."""
     am = rd.want_mapping(node, "specified.adiabatic")
     if am is None:
@@ -86,28 +70,21 @@ def _read_adiabatic(rd: NodeReader, node) -> float | None:
     if "feed-temperature" not in am:
         rd.problem(node, "specified.adiabatic", "missing key 'feed-temperature'")
         return None
-    vn = rd.get(am, "feed-temperature")
-    kp = "specified.adiabatic.feed-temperature"
-    try:
-        adiabatic = parse_quantity(rd.value_of(vn, kp), "temperature")
-    except ValueError as exc:
-        rd.problem(vn, kp, str(exc))
-        return None
-    if adiabatic <= 0:
-        rd.problem(vn, kp, "temperature must be above absolute zero")
-        return None
-    return adiabatic
+    return read_condition(rd, rd.get(am, "feed-temperature"), "specified.adiabatic.feed-temperature", "temperature",
+                          declared)
 
 
-def read_specified(rd: NodeReader, spnode) -> Specified:
+def read_specified(rd: NodeReader, spnode, declared: dict[str, str] | None = None) -> Specified:
+    """What the case fixes; bare temperatures and pressures in the ``units:`` the case declares."""
+    declared = declared or {}
     if spnode is None:
         return Specified()
     sm = rd.want_mapping(spnode, "specified")
     if sm is None:
         return Specified()
     rd.check_keys(sm, SPECIFIED_KEYS, "specified")
-    temperature = _read_positive(rd, sm, "temperature", "temperature", "K", "temperature must be above absolute zero")
-    pressure = _read_positive(rd, sm, "pressure", "pressure", "Pa", "pressure must be positive")
+    temperature, pressure = (read_condition(rd, rd.get(sm, k), f"specified.{k}", k, declared) if k in sm else None
+                             for k in ("temperature", "pressure"))
     mfs = _read_mole_fractions(rd, rd.get(sm, "mole-fractions")) if "mole-fractions" in sm else ()
     ratios = []
     if "ratios" in sm:
@@ -117,7 +94,7 @@ def read_specified(rd: NodeReader, spnode) -> Specified:
             if r:
                 ratios.append(r)
     pfs = _read_phase_fractions(rd, rd.get(sm, "phase-fractions")) if "phase-fractions" in sm else ()
-    adiabatic = _read_adiabatic(rd, rd.get(sm, "adiabatic")) if "adiabatic" in sm else None
+    adiabatic = _read_adiabatic(rd, rd.get(sm, "adiabatic"), declared) if "adiabatic" in sm else None
     return Specified(temperature_K=temperature, pressure_Pa=pressure, mole_fractions=mfs, ratios=tuple(ratios),
                      phase_fractions=pfs, adiabatic_feed_temperature_K=adiabatic)
 

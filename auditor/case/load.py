@@ -5,14 +5,15 @@ from __future__ import annotations
 from fractions import Fraction
 from pathlib import Path
 
-from .. import settings, units
+from .. import settings
 from ..errors import CaseError, InputError
 from ..system import shipped_data_file
 from ..yaml_nodes import NodeMapping, NodeReader, kind_of, load_nodes, suggest
 from .conditions import read_claims, read_restrictions, read_specified
+from .quantities import feed_quantities, read_units
 from .records import Case, SystemSpec, _exact
 
-TOP_KEYS = ("title", "system", "reactions", "feed", "coexisting", "specified", "restrictions", "claims")
+TOP_KEYS = ("title", "system", "reactions", "feed", "coexisting", "specified", "restrictions", "claims", "units")
 SYSTEM_KEYS = ("source", "mechanism", "phases")
 
 
@@ -32,11 +33,12 @@ def load_case(path: str | Path) -> Case:
     rd.check_keys(top, TOP_KEYS, "")
     # read in the order of the keys above (problems on one line keep that order)
     title = _read_title(rd, top, path)
+    declared = read_units(rd, rd.get(top, "units"))
     system_spec = _read_system(rd, top, root, path)
     reactions = _read_reactions(rd, rd.get(top, "reactions"), system_spec)
-    feed, feed_mass = _read_feed(rd, rd.get(top, "feed"))
+    feed, feed_mass = _read_feed(rd, rd.get(top, "feed"), declared)
     coexisting = _read_coexisting(rd, rd.get(top, "coexisting"))
-    specified = read_specified(rd, rd.get(top, "specified"))
+    specified = read_specified(rd, rd.get(top, "specified"), declared)
     restrictions = read_restrictions(rd, rd.get(top, "restrictions"))
     claims = read_claims(rd, rd.get(top, "claims"))
     case = Case(path=path, title=title, system=system_spec, reactions=reactions, feed=feed, coexisting=coexisting,
@@ -186,7 +188,8 @@ def _read_reactions(rd: NodeReader, rnode, system_spec: SystemSpec | None) -> st
     return "complete"
 
 
-def _read_feed(rd: NodeReader, fnode) -> tuple[tuple[tuple[str, Fraction], ...] | None, frozenset[str]]:
+def _read_feed(rd: NodeReader, fnode, declared: dict[str, str]
+               ) -> tuple[tuple[tuple[str, Fraction], ...] | None, frozenset[str]]:
     """The feed amounts, exact as written (mol, or kg for the species given in a mass unit),
     and the species given in a mass unit."""
     if fnode is None:
@@ -195,19 +198,8 @@ def _read_feed(rd: NodeReader, fnode) -> tuple[tuple[tuple[str, Fraction], ...] 
     if fm is None:
         return None, frozenset()
     items, feed_mass = [], set()
-    for sp, (kn, vn) in fm.items():
-        kp = f"feed.{sp}"
-        v = rd.value_of(vn, kp)
-        try:
-            q = units.parse(v, ("amount", "mass"))
-        except ValueError as exc:
-            rd.problem(vn, kp, str(exc))
-            continue
-        amount = _exact(q)
-        if amount < 0:
-            rd.problem(vn, kp, f"feed amount must not be negative, got {kind_of(v)}")
-            continue
-        items.append((sp, amount))
+    for sp, q in feed_quantities(rd, fm, declared):
+        items.append((sp, _exact(q)))
         if q.kind == "mass":
             feed_mass.add(sp)
     if fm and items and all(a == 0 for _, a in items):

@@ -42,7 +42,7 @@ def versions() -> dict:
     import platform
     from importlib import metadata
     out = {"auditor": __version__, "python": platform.python_version()}
-    for lib in ("cantera", "numpy", "scipy", "sympy", "pint", "PyYAML"):
+    for lib in ("cantera", "numpy", "scipy", "pint", "PyYAML"):
         try:
             out[lib] = metadata.version(lib)
         except metadata.PackageNotFoundError:
@@ -51,9 +51,10 @@ def versions() -> dict:
 
 
 def system_block(r: AuditResult) -> dict:
+    from ..system import display_source
     s = r.system
     return {
-        "source": s.source,
+        "source": s.source if s.source == "packaged" else display_source(s.source),
         "phases": [{"name": p.name, "model": p.model, "species": list(p.species)} for p in s.phases],
         "elements": list(s.elements),
         "formula_matrix": [[format_fraction(x) for x in row] for row in s.formula_matrix],
@@ -64,17 +65,18 @@ def system_block(r: AuditResult) -> dict:
 
 def thermo_inputs(r: AuditResult) -> list[dict]:
     """Every thermo or mechanism file the audit read: path as the case gives it, SHA-256, role."""
+    from ..system import CONDENSED_DATABASE, GAS_DATABASE, shipped_by, shipped_data_file, shipped_name
     if r.system.source != "packaged":
         from .entered import read
-        return [{"path": read(r.case).source, "sha256": _sha256(r.system.source), "role": "mechanism"}]
-    from ..system import CONDENSED_DATABASE, GAS_DATABASE, shipped_data_file
+        role = f"mechanism (ships with {shipped_by()})" if shipped_name(r.system.source) else "mechanism"
+        return [{"path": read(r.case).source, "sha256": _sha256(r.system.source), "role": role}]
     out = []
     for name, wanted in ((GAS_DATABASE, any(p.is_gas for p in r.system.phases)),
                          (CONDENSED_DATABASE, any(not p.is_gas for p in r.system.phases))):
         if wanted:
             found = shipped_data_file(name)
             out.append({"path": name, "sha256": _sha256(found) if found else None,
-                        "role": "thermo data (ships with cantera)"})
+                        "role": f"thermo data (ships with {shipped_by()})"})
     return out
 
 

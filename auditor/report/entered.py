@@ -48,6 +48,12 @@ def _leaves(text: str, node, prefix: str):
         yield prefix, _snippet(text, node)
 
 
+def _declared(written: str, read_as: str | None) -> str:
+    if read_as is None or read_as == written:
+        return written
+    return f"{written} (read as {read_as}, from 'units:')"
+
+
 def _molar_unit(unit: str) -> float | None:
     """mol per ``unit`` when it is an amount of substance (mol, kmol, lbmol), else None."""
     if unit in ("", "mol"):
@@ -101,7 +107,8 @@ def read(case) -> Entered:
     except (OSError, UnicodeDecodeError, yaml.YAMLError):
         raw, text, root = b"", "", None
     top = {k.value: v for k, v in root.value} if isinstance(root, yaml.MappingNode) else {}
-    source = str(case.system.mechanism) if case.system.mechanism is not None else case.system.source
+    from ..system import display_source
+    source = display_source(case.system.mechanism) if case.system.mechanism is not None else case.system.source
     system = top.get("system")
     if isinstance(system, yaml.MappingNode):
         given = {k.value: v for k, v in system.value}
@@ -110,6 +117,8 @@ def read(case) -> Entered:
             source = node.value
     feed = feed_as_written(case)
     specified = list(_leaves(text, top["specified"], "")) if isinstance(top.get("specified"), yaml.MappingNode) else []
+    # a bare number read in the unit the case declares under 'units:' says so
+    specified = [(kp, _declared(t, case.as_written.get(f"specified.{kp}"))) for kp, t in specified]
     restrictions = []
     if isinstance(top.get("restrictions"), yaml.SequenceNode):
         restrictions = [_snippet(text, n) for n in top["restrictions"].value]

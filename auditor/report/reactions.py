@@ -1,6 +1,8 @@
 """Renderers for the stoichiometric analysis alone (``auditor reactions``)."""
 from __future__ import annotations
 
+from pathlib import Path
+
 from ..exact import format_fraction
 from ..stoichiometry import ReactionAnalysis
 from ..system import SITES_PREFIX
@@ -164,11 +166,22 @@ def _defect_lines(a: ReactionAnalysis) -> list[str]:
     return lines
 
 
+def _source_label(source: str) -> str:
+    """A file that ships with cantera by its name, the library's version and the file's hash
+    (never where the library is installed); any other file as given."""
+    import hashlib
+    from ..system import shipped_by, shipped_name
+    name = shipped_name(source)
+    if name is None:
+        return source
+    return f"{name} (ships with {shipped_by()}, SHA-256 {hashlib.sha256(Path(source).read_bytes()).hexdigest()})"
+
+
 def reactions_text(a: ReactionAnalysis, source: str, limit: int | None = None, warnings_: tuple[str, ...] = (),
                    system=None) -> str:
     """Human-readable account; reaction numbers ``#n`` count from 1 in file order (the
     mechanism's first reaction is #1; JSON's ``index`` is this number minus one)."""
-    lines = [f"Stoichiometric analysis of {source}", ""]
+    lines = [f"Stoichiometric analysis of {_source_label(source)}", ""]
     if system is not None:
         lines += _system_lines(system)
     lines += _count_lines(a)

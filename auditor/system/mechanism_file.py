@@ -29,6 +29,41 @@ def shipped_data_file(name: str) -> Path | None:
     return None
 
 
+def shipped_name(path: str | Path) -> str | None:
+    """The name a file shipped with cantera goes by (``h2o2.yaml``, ``example_data/x.yaml``):
+    its path inside cantera's data directory; None for any other file.  Output names shipped
+    files this way, so that nothing depends on where the library is installed."""
+    if path in (None, "", "packaged"):
+        return None
+    try:
+        import cantera as ct
+        p = Path(path).resolve()
+    except (ImportError, OSError, ValueError):
+        return None
+    for d in ct.get_data_directories():
+        if not Path(d).is_absolute():
+            continue
+        try:
+            return p.relative_to(Path(d).resolve()).as_posix()
+        except ValueError:
+            continue
+    return None
+
+
+def display_source(path: str | Path) -> str:
+    """A mechanism path for output: a shipped file by its name, any other file as given."""
+    return shipped_name(path) or str(path)
+
+
+def shipped_by() -> str:
+    """Which library ships the data files named by :func:`shipped_name`, with its version."""
+    try:
+        import cantera as ct
+        return f"cantera {ct.__version__}"
+    except ImportError:
+        return "cantera"
+
+
 _TOP_KEY = re.compile(r"^[A-Za-z_][\w-]*\s*:")
 _TOP_KEY_ML = re.compile(r"^[A-Za-z_][\w-]*\s*:", re.M)
 
