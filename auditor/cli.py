@@ -138,7 +138,7 @@ def _audit_all(paths, args, tick=lambda: None):
 
 def _cmd_check(args) -> int:
     from importlib import resources
-    from .report.console import colourise, progress_bar
+    from .report.console import colourise, progress_bar, terminal_safe
     from .report.document import check_document
     from .report.terminal import audit_text, summary_line
     paths = args.cases or [str(resources.files("auditor") / "data" / "default_case.yaml")]
@@ -152,7 +152,7 @@ def _cmd_check(args) -> int:
             if Path(args.report).suffix.lower() not in REPORT_FORMATS:
                 raise InputError.single(args.report, "report format follows the suffix: .html, .md or .json")
         except InputError as exc:
-            print(f"auditor: error: {exc}", file=sys.stderr)
+            print(terminal_safe(f"auditor: error: {exc}"), file=sys.stderr)
             return EXIT_INPUT
     results, docs, status = [], [], EXIT_OK
     with progress_bar(len(paths), "case", args.quiet or len(paths) == 1, every_update=True) as bar:
@@ -161,7 +161,7 @@ def _cmd_check(args) -> int:
                 if args.debug:
                     raise result
                 bar.clear()
-                print(f"auditor: error: {result}", file=sys.stderr)
+                print(terminal_safe(f"auditor: error: {result}"), file=sys.stderr)
                 status = max(status, EXIT_INPUT)
                 continue
             if isinstance(result, BaseException):
@@ -182,7 +182,7 @@ def _cmd_check(args) -> int:
         sys.stdout.write(colourise(audit_text(results[0], explain=args.explain)))
     elif not args.quiet or len(paths) > 1:
         for r in results:
-            print(summary_line(r))
+            print(terminal_safe(summary_line(r)))
     return status
 
 
@@ -391,7 +391,8 @@ def main(argv: list[str] | None = None) -> int:
     except InputError as exc:
         if args.debug:
             raise
-        print(f"auditor: error: {exc}", file=sys.stderr)
+        from .report.console import terminal_safe
+        print(terminal_safe(f"auditor: error: {exc}"), file=sys.stderr)
         return EXIT_INPUT
     except KeyboardInterrupt:
         print("auditor: interrupted", file=sys.stderr)

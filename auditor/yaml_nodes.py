@@ -11,10 +11,14 @@ from __future__ import annotations
 import difflib
 import functools
 import math
+import re
 from pathlib import Path
 
 from . import settings
 from .errors import CaseError, LimitError, Problem, one_line
+
+
+_SURROGATE = re.compile("[\ud800-\udfff]")
 
 
 class NodeMapping(dict):
@@ -73,6 +77,11 @@ class NodeReader:
             return NodeMapping(out)
         if isinstance(node, yaml.SequenceNode):
             return [(v, self.plain(v, f"{key_path}[{i}]", depth + 1, names)) for i, v in enumerate(node.value)]
+        if isinstance(node, yaml.ScalarNode) and _SURROGATE.search(node.value):
+            raise CaseError(Problem(self.file, "this text holds a lone surrogate code point (" +
+                                    ascii(_SURROGATE.search(node.value).group())[1:-1] + "), which is not a character; "
+                                    "remove it or write the character it stood for", key_path,
+                                    node.start_mark.line + 1, node.start_mark.column + 1))
         if names and isinstance(node, yaml.ScalarNode) and node.style is None and node.tag.endswith(":bool"):
             return node.value  # a species called NO, not the YAML 1.1 boolean
         try:

@@ -3,6 +3,7 @@ colours, the summary lines of a sweep and the species search's table.  Heavy imp
 from __future__ import annotations
 
 import os
+import re
 import sys
 from collections import Counter
 
@@ -19,8 +20,20 @@ def progress_bar(total: int, unit: str, quiet: bool, initial: int = 0, every_upd
                                               "[{elapsed} elapsed, {remaining} left, {rate_fmt}]")
 
 
+_CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f\ud800-\udfff]")
+
+
+def terminal_safe(text: str) -> str:
+    """Untrusted text (a title, a name, a file name) as it may be printed: control characters
+    (a clear-screen or set-window-title sequence) and lone surrogates shown as escapes."""
+    return _CONTROL.sub(lambda m: m.group().encode("unicode_escape", "backslashreplace").decode("ascii")
+                        if ord(m.group()) < 0xd800 else f"\\u{ord(m.group()):04x}", text)
+
+
 def colourise(text: str) -> str:
-    """Colour the verdict line on a terminal only (NO_COLOR honoured: https://no-color.org)."""
+    """The rendered text made safe for a terminal (``terminal_safe``), then the verdict line
+    coloured on a terminal only (NO_COLOR honoured: https://no-color.org)."""
+    text = terminal_safe(text)
     if os.environ.get("NO_COLOR") or not sys.stdout.isatty():
         return text
     from .style import TERMINAL_SEVERITY, TERMINAL_VERDICT
