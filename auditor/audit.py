@@ -141,9 +141,10 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
 def _ideal_gas_check(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, equilibrium, workspace):
     """The ideal-gas assumption at pressure (equilibrium/real_gas.py): the check of a certified
     state, and the high-pressure caution.  Returns (RealGasAudit or None, findings)."""
+    from .equilibrium.real_gas import (audit_ideal_gas, high_pressure_caution, real_gas_findings,
+                                       requested_model_findings)
     if not any(p.is_gas and p.model == "ideal-gas" for p in system.phases):
-        return None, []
-    from .equilibrium.real_gas import audit_ideal_gas, high_pressure_caution, real_gas_findings
+        return None, requested_model_findings(system)
     solved = equilibrium is not None and equilibrium.solved
     P = equilibrium.pressure_Pa if solved else case.specified.pressure_Pa
     checked = audit_ideal_gas(case, system, analysis, equilibrium, workspace) if solved else None

@@ -83,6 +83,9 @@ REAL_GAS_MAJOR_FRACTION = 0.01
 REAL_GAS_LNK_TOLERANCE = 0.05
 # The re-solve stops when ln phi changes by less than this between iterations.
 REAL_GAS_FIXED_POINT_TOLERANCE = 1e-9
+# A Peng-Robinson gas root with a compressibility below this is liquid-like (a gas has Z near 1;
+# a liquid 0.01-0.2): the check then says the mixture may not be a gas at the state.
+REAL_GAS_LIQUID_LIKE_Z = 0.3
 # Above this pressure a gas treated as ideal gets a caution in the terminal and the report.
 HIGH_PRESSURE_CAUTION_PA = 50e5
 
