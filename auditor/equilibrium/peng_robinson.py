@@ -73,6 +73,8 @@ class PengRobinsonGas:
 
 def gas_root(A: float, B: float) -> float:
     """The largest real root of the Peng-Robinson cubic in Z above B."""
+    if not (np.isfinite(A) and np.isfinite(B) and B > 0):
+        raise NoGasRoot(f"A = {A:.4g}, B = {B:.4g}")
     roots = np.roots([1.0, -(1.0 - B), A - 3 * B ** 2 - 2 * B, -(A * B - B ** 2 - B ** 3)])
     real = roots[np.abs(roots.imag) <= 1e-9 * np.maximum(1.0, np.abs(roots.real))].real
     real = real[real > B]
