@@ -201,7 +201,13 @@ def _state(audit: RealGasAudit) -> str:
     return f"{audit.pressure_Pa / 1e5:.4g} bar and {audit.temperature_K:.2f} K"
 
 
-def real_gas_findings(audit: RealGasAudit | None) -> list[Finding]:
+def _how_to_confirm(system: ChemicalSystem) -> str:
+    if system.source == "packaged":
+        return "write 'gas-model: peng-robinson' under system"
+    return "give the gas phase a real-gas model in the mechanism (thermo: Peng-Robinson)"
+
+
+def real_gas_findings(audit: RealGasAudit | None, system: ChemicalSystem | None = None) -> list[Finding]:
     """The audit in words: a warning when the assumption matters (both answers, the largest
     fugacity coefficients), a note saying by how much it moves the answer otherwise."""
     if audit is None:
@@ -240,7 +246,7 @@ def real_gas_findings(audit: RealGasAudit | None) -> list[Finding]:
         out.append(Finding("warning", "real-gas", f"the ideal-gas assumption matters at {_state(audit)}: re-solved with "
                            f"{audit.model} fugacity coefficients, {moved}; ln K in mole fractions of '{eq}' moves by "
                            f"{dlnk:+.3f} ({tol}); largest fugacity coefficients: {phis}; to confirm with the real-gas "
-                           "model write 'gas-model: peng-robinson' under system", (sp,)))
+                           f"model {_how_to_confirm(system) if system is not None else 'use a real-gas model'}", (sp,)))
     else:
         out.append(Finding("note", "real-gas", f"ideal-gas assumption checked at {_state(audit)} with {audit.model}: "
                            f"the answer moves by at most {abs(dx):.4f} in a major mole fraction ({sp}) and "
@@ -259,8 +265,8 @@ def high_pressure_caution(system: ChemicalSystem, pressure_Pa: float | None, usa
         return []
     return [Finding("warning", "real-gas", f"caution: at {pressure_Pa / 1e5:.4g} bar (above "
                     f"{settings.HIGH_PRESSURE_CAUTION_PA / 1e5:g} bar) the gas phase {', '.join(gases)} is treated as "
-                    "an ideal gas; real-gas behaviour can move the equilibrium (see the ideal-gas check, or write "
-                    "'gas-model: peng-robinson' under system)", tuple(gases))]
+                    f"an ideal gas; real-gas behaviour can move the equilibrium (see the ideal-gas check, or "
+                    f"{_how_to_confirm(system)})", tuple(gases))]
 
 
 def requested_model_findings(system: ChemicalSystem) -> list[Finding]:

@@ -11,7 +11,8 @@ Two tables, looked up in this order for a species of a given name and compositio
    is dimethyl ether, and ethanol shares its formula).
 2. the project's own ``auditor/data/critical_constants.yaml``, for the species cantera's
    table lacks (ammonia, water, hydrogen sulfide, ...) or cannot identify (isomers); keyed
-   by packaged species name, each row with its source.
+   by packaged species name, each row with its source; by formula (a mechanism's "AR") under
+   the same rule as above.
 """
 from __future__ import annotations
 
@@ -113,4 +114,9 @@ def critical_constants(name: str, composition: Mapping[str, object], packaged: b
         own = own_table().get(name)
         if own is not None and own[0] == key:
             row = own[1]
+        else:
+            # a mechanism's own spelling ("AR" for argon): by formula when one row has it
+            rows = [r for k, r in own_table().values() if k == key]
+            if len(rows) == 1 and (not packaged or _packaged_formula_counts().get(key, 0) == 1):
+                row = rows[0]
     return None if row is None else CriticalConstants(name, *row)
