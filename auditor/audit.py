@@ -38,6 +38,7 @@ class AuditResult:
     findings: tuple[Finding, ...]
     verdict: str
     reason: str = ""             # the verdict's reason in one plain sentence
+    real_gas: Any = None         # RealGasAudit (equilibrium/real_gas.py) or None: the ideal-gas assumption checked
 
 
     @property
@@ -92,8 +93,9 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
 
     equilibrium = None
     if confirm and case.feed is not None:
-        from .equilibrium import confirm as confirm_equilibrium
-        equilibrium = confirm_equilibrium(case, system, analysis, count, spec)
+        from .equilibrium import Workspace, confirm as confirm_equilibrium
+        workspace = Workspace(system, analysis)
+        equilibrium = confirm_equilibrium(case, system, analysis, count, spec, workspace)
         findings.extend(equilibrium.findings)
         found = equilibrium.phases_present
         if equilibrium.solved and set(found) != set(count.coexisting) and found:
@@ -105,6 +107,9 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
                                     tuple(found)))
         if case.reactions == "complete":
             findings.extend(hindered_product_findings(case, system, equilibrium))
+    real_gas, gas_findings = _ideal_gas_check(case, system, analysis, equilibrium,
+                                              workspace if equilibrium is not None else None)
+    findings += gas_findings
 
     impossible = assumed_outside_range(case, system, count)
     shown = set(dict(equilibrium.set_aside)) if equilibrium is not None else set()
@@ -129,7 +134,25 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     if verdict == "inconsistent" and wrong_set and not analysis.unbalanced:
         reason = "the phase set cannot be right: " + wrong_set[0].message.split(": ", 1)[0]
     return AuditResult(case, system, analysis, count, spec, equilibrium, tuple(checks), tuple(findings), verdict,
-                       reason)
+                       reason, real_gas)
+
+
+def _ideal_gas_check(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, equilibrium, workspace):
+    """The ideal-gas assumption at pressure (equilibrium/real_gas.py): the check of a certified
+    state, and the high-pressure caution.  Returns (RealGasAudit or None, findings)."""
+    from . import settings
+    if not any(p.is_gas and p.model == "ideal-gas" for p in system.phases):
+        if system.source == "packaged" and any(p.model == "Peng-Robinson" for p in system.phases):
+            from .equilibrium.real_gas import requested_model_findings
+            return None, requested_model_findings(system)
+        return None, []
+    solved = equilibrium is not None and equilibrium.solved
+    P = equilibrium.pressure_Pa if solved else case.specified.pressure_Pa
+    if P is None or P < min(settings.REAL_GAS_AUDIT_PRESSURE_PA, settings.HIGH_PRESSURE_CAUTION_PA):
+        return None, []     # (the common low-pressure path imports nothing more)
+    from .equilibrium.real_gas import audit_ideal_gas, high_pressure_caution, real_gas_findings
+    checked = audit_ideal_gas(case, system, analysis, equilibrium, workspace) if solved else None
+    return checked, high_pressure_caution(system, P) + real_gas_findings(checked, system)
 
 
 def assumed_outside_range(case: Case, system: ChemicalSystem, count: PhaseRuleCount) -> list[tuple[str, str]]:

@@ -88,3 +88,24 @@ TOLERANCES = {
     "hindered_element_share": HINDERED_ELEMENT_SHARE,
     "thermo_range_tolerance_K": THERMO_RANGE_TOLERANCE_K,
 }
+
+# The ideal-gas assumption (auditor/equilibrium/real_gas.py).  At or above this pressure a
+# certified state with an ideal gas phase is re-solved with Peng-Robinson fugacity
+# coefficients (below it the fugacity coefficients of the common permanent gases are within
+# about 1 % of one; common practice).
+REAL_GAS_AUDIT_PRESSURE_PA = 10e5
+# The assumption matters when a major mole fraction (at least REAL_GAS_MAJOR_FRACTION in
+# either answer) moves by more than this, absolute ...
+REAL_GAS_MOLE_FRACTION_TOLERANCE = 0.01
+REAL_GAS_MAJOR_FRACTION = 0.01
+# ... or ln K in mole fractions of an independent reaction by more than this (5 % in K).
+REAL_GAS_LNK_TOLERANCE = 0.05
+# The re-solve stops when ln phi changes by less than this between iterations.
+REAL_GAS_FIXED_POINT_TOLERANCE = 1e-9
+# A Peng-Robinson gas root with a compressibility below this is liquid-like (a gas has Z near 1;
+# a liquid 0.01-0.2): the check then says the mixture may not be a gas at the state.
+REAL_GAS_LIQUID_LIKE_Z = 0.3
+# Above this pressure a gas treated as ideal gets a caution in the terminal and the report.
+HIGH_PRESSURE_CAUTION_PA = 50e5
+
+# (these five are printed in the JSON's real_gas block, not in 'tolerances', which every case carries)

@@ -14,7 +14,8 @@ from .quantities import feed_quantities, read_units
 from .records import Case, SystemSpec, _exact
 
 TOP_KEYS = ("title", "system", "reactions", "feed", "coexisting", "specified", "restrictions", "claims", "units")
-SYSTEM_KEYS = ("source", "mechanism", "phases")
+SYSTEM_KEYS = ("source", "mechanism", "phases", "gas-model")
+GAS_MODELS = ("ideal-gas", "peng-robinson")   # system.gas-model: the model of a packaged gas phase
 
 
 def load_case(path: str | Path) -> Case:
@@ -158,7 +159,24 @@ def _read_system(rd: NodeReader, top: NodeMapping, root, path: Path) -> SystemSp
     n_sp = sum(len(s or ()) for _, s in phases)
     if n_sp > settings.MAX_CASE_SPECIES:
         rd.problem(pnode, "system.phases", f"{n_sp} species is more than the limit of {settings.MAX_CASE_SPECIES}")
-    return SystemSpec(source, mech, tuple(phases))
+    return SystemSpec(source, mech, tuple(phases), _read_gas_model(rd, sm, source))
+
+
+def _read_gas_model(rd: NodeReader, sm: NodeMapping, source: str) -> str:
+    """``system.gas-model``: ideal-gas (the default) or peng-robinson, for a packaged gas phase."""
+    node = rd.get(sm, "gas-model")
+    if node is None:
+        return "ideal-gas"
+    v = rd.value_of(node, "system.gas-model")
+    if source != "packaged":
+        rd.problem(node, "system.gas-model", "'gas-model' applies to packaged species; a mechanism file sets each "
+                   "phase's model itself (thermo: Peng-Robinson)")
+    elif v not in GAS_MODELS:
+        rd.problem(node, "system.gas-model", f"expected one of {', '.join(GAS_MODELS)}, got {kind_of(v)}"
+                   + (suggest(v, GAS_MODELS) if isinstance(v, str) else ""))
+    else:
+        return v
+    return "ideal-gas"
 
 
 def _read_reactions(rd: NodeReader, rnode, system_spec: SystemSpec | None) -> str | tuple[tuple[str, str], ...]:

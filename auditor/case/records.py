@@ -75,6 +75,7 @@ class SystemSpec:
     source: str                                 # "packaged" or "mechanism"
     mechanism: Path | None
     phases: tuple[tuple[str, tuple[str, ...] | None], ...]  # (phase, species or None = all)
+    gas_model: str = "ideal-gas"                # packaged gas phases: "ideal-gas" or "peng-robinson"
 
 
 @dataclass(frozen=True)

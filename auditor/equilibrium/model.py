@@ -80,6 +80,11 @@ class PhaseModel:
                 rho, src = DEFAULT_DENSITY, "default (no tabulated value; only the P*V term uses it)"
             self.assumed.append((sp_def.label, rho, src))
             entry["equation-of-state"] = {"model": "constant-volume", "density": f"{rho} kg/m^3"}
+        elif self.system.phase(sp_def.phase).model == "Peng-Robinson":
+            from ..system.critical import critical_constants
+            c = critical_constants(sp_def.name, sp_def.formula)   # the system stage checked that it exists
+            entry["critical-parameters"] = {"critical-temperature": c.Tc, "critical-pressure": c.Pc,
+                                            "acentric-factor": c.omega}
         return entry
 
     def _packaged(self):
@@ -88,7 +93,8 @@ class PhaseModel:
         for ph in self.system.phases:
             sps = [s for s in self.system.species if s.phase == ph.name]
             entries = [self._species_entry(s, not ph.is_gas) for s in sps]
-            thermo = {"ideal-gas": "ideal-gas", "fixed-stoichiometry": "fixed-stoichiometry"}.get(ph.model, "ideal-condensed")
+            thermo = {"ideal-gas": "ideal-gas", "fixed-stoichiometry": "fixed-stoichiometry",
+                      "Peng-Robinson": "Peng-Robinson"}.get(ph.model, "ideal-condensed")
             phase = {"name": ph.name, "thermo": thermo, "species": [e["name"] for e in entries],
                      "state": {"T": 300.0, "P": 101325.0}}
             if thermo == "ideal-condensed":

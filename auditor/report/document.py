@@ -151,6 +151,8 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
                                       for g in a.duplicates]
     doc["reactions"]["derived_complete_set"] = [x.equation for x in a.derived_basis]
     doc["system"] = system_block(r)
+    if getattr(r, "real_gas", None) is not None:   # the ideal-gas assumption checked (equilibrium/real_gas.py)
+        doc["real_gas"] = real_gas_document(r.real_gas)
     if with_context:
         import datetime
         inputs = [{"path": str(r.case.path), "sha256": _sha256(r.case.path), "role": "case file"}]
@@ -193,4 +195,32 @@ def equilibrium_document(eq: EquilibriumCheck) -> dict:
         "attempts": [{"route": r, "outcome": o} for r, o in eq.attempts],
         # phases outside their thermo data's temperature range at this T: left out of the solve
         "phases_set_aside": [{"phase": p, "reason": why} for p, why in eq.set_aside],
+    }
+
+
+def real_gas_document(rg) -> dict:
+    """The ``real_gas`` block: the certified state re-solved with Peng-Robinson fugacity coefficients."""
+    from .. import settings
+    shift, lnk = rg.largest_shift, rg.largest_lnK_shift
+    return {
+        "status": rg.status,
+        "model": rg.model,
+        "temperature_K": rg.temperature_K,
+        "pressure_Pa": rg.pressure_Pa,
+        "matters": rg.matters,
+        "ideal_mole_fractions": dict(rg.ideal),
+        "real_mole_fractions": dict(rg.real),
+        "fugacity_coefficients": dict(rg.fugacity_coefficients),
+        "largest_shift": {"species": shift[0], "change": shift[1]} if shift else None,
+        "lnK_shifts": [{"equation": e, "change": v} for e, v in rg.lnK_shifts],
+        "largest_lnK_shift": {"equation": lnk[0], "change": lnk[1]} if lnk else None,
+        "compressibility": rg.compressibility,
+        "missing_constants": list(rg.missing),
+        "constants_sources": dict(rg.sources),
+        "iterations": rg.iterations,
+        "tolerances": {"audit_pressure_Pa": settings.REAL_GAS_AUDIT_PRESSURE_PA,
+                       "mole_fraction": settings.REAL_GAS_MOLE_FRACTION_TOLERANCE,
+                       "major_fraction": settings.REAL_GAS_MAJOR_FRACTION,
+                       "lnK": settings.REAL_GAS_LNK_TOLERANCE,
+                       "high_pressure_caution_Pa": settings.HIGH_PRESSURE_CAUTION_PA},
     }

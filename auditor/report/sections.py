@@ -20,7 +20,7 @@ from .document import check_document
 # where a finding of each topic is stated in full (titles of SECTIONS, at the end)
 TOPIC_SECTION = {"reactions": "Reactions", "phase-rule": "Phase rule", "specification": "Specification audit",
                  "equilibrium": "Equilibrium and certificate", "claims": "Claims", "data": "Assumptions",
-                 "safety": "Cautions"}
+                 "safety": "Cautions", "real-gas": "Equilibrium and certificate"}
 
 
 def _si(value: float, unit: str) -> str:
@@ -242,6 +242,9 @@ def _equilibrium(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Bloc
                             f"confirmed: {yes_no(eq['confirmed'])}."))
         blocks.append(composition(eq, e, doc["phase_rule"]["coexisting"]))
         blocks.append(certificate(eq, doc))
+        if doc.get("real_gas"):
+            from .text import real_gas_line
+            blocks.append(_para(real_gas_line(doc["real_gas"]) + "."))
     return blocks
 
 
@@ -260,6 +263,9 @@ def _assumptions(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Bloc
         blocks.append(_table(("species", "density kg/m3", "source"),
                              [(d["species"], d["density_kg_m3"], d["source"]) for d in eq["assumed_densities"]],
                              "Densities assumed"))
+    if doc.get("real_gas") and doc["real_gas"]["constants_sources"]:
+        blocks.append(_table(("species", "source of critical constants"), sorted(doc["real_gas"]["constants_sources"].items()),
+                             f"Critical constants for the ideal-gas check ({doc['real_gas']['model']})"))
     blocks.append(_table(("tolerance", "value"), sorted(doc["tolerances"].items()), "Named tolerances"))
     blocks.append(_table(("species", "thermo data range, K"),
                          [(s["label"], f"{s['thermo_range_K'][0]:g} - {s['thermo_range_K'][1]:g}")

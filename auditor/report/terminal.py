@@ -104,6 +104,10 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
         out.append(f"  driving force to form absent phases (RT, must be positive): {absent}")
     if eq.nonsingularity_test:
         out.append(f"  equations nonsingular at the solution: {nonsingular_words(eq.nonsingularity_test, eq.jacobian_rcond)}")
+    if getattr(r, "real_gas", None) is not None:
+        from .document import real_gas_document
+        from .text import real_gas_line
+        out.append("  " + real_gas_line(real_gas_document(r.real_gas)))
     return out
 
 

@@ -80,3 +80,23 @@ def equilibrium_summary_lines(eq: EquilibriumCheck) -> list[str]:
         out.append(f"  solve route: {eq.route or 'none certified'}, after " + "; ".join(
             f"{r} {o}" for r, o in eq.attempts if o != "certified"))
     return out
+
+
+def real_gas_line(rg: dict) -> str:
+    """The ideal-gas check (the JSON ``real_gas`` block) in one line."""
+    where = f"{rg['pressure_Pa'] / 1e5:.4g} bar, {rg['temperature_K']:.2f} K"
+    if rg["status"] != "checked":
+        why = {"no-constants": "no gas species has critical constants",
+               "no-gas-root": "the Peng-Robinson cubic has no gas root at this state",
+               "not-converged": "the re-solve with fugacity coefficients did not settle"}.get(rg["status"], rg["status"])
+        return f"ideal-gas check ({where}): not completed: {why}"
+    shift = rg["largest_shift"] or {"species": "none", "change": 0.0}
+    lnk = rg["largest_lnK_shift"] or {"equation": "none", "change": 0.0}
+    ideal, real = rg["ideal_mole_fractions"].get(shift["species"]), rg["real_mole_fractions"].get(shift["species"])
+    moved = (f"x({shift['species']}) {ideal:.4f} -> {real:.4f}" if ideal is not None
+             else f"x({shift['species']}) {shift['change']:+.4f}")
+    phis = ", ".join(f"{k} {v:.3f}" for k, v in list(rg["fugacity_coefficients"].items())[:3])
+    verdict = "MATTERS" if rg["matters"] else "within tolerance"
+    missing = f"; not checked (no critical constants): {', '.join(rg['missing_constants'])}" if rg["missing_constants"] else ""
+    return (f"ideal-gas check ({rg['model'].split(' (')[0]}, {where}): {verdict}: {moved}, ln K {lnk['change']:+.3f}; "
+            f"phi: {phis}{missing}")

@@ -23,7 +23,7 @@ def build_system(case: Case) -> ChemicalSystem:
     spec = case.system
     try:
         if spec.source == "packaged":
-            return from_packaged(dict(spec.phases))
+            return from_packaged(dict(spec.phases), gas_model=spec.gas_model)
         names = [p for p, _ in spec.phases] or None
         subsets = {p: s for p, s in spec.phases if s is not None}
         if names:

@@ -22,7 +22,8 @@ def packaged_species(database: str) -> dict[str, object]:
 
 
 
-def from_packaged(phases: Mapping[str, Sequence[str]], where: str = "system.phases") -> ChemicalSystem:
+def from_packaged(phases: Mapping[str, Sequence[str]], where: str = "system.phases",
+                 gas_model: str = "ideal-gas") -> ChemicalSystem:
     """Phases of species picked by name from the databases shipped with cantera.
 
     Raises
@@ -59,10 +60,24 @@ def from_packaged(phases: Mapping[str, Sequence[str]], where: str = "system.phas
                                     f"{where}.{pname}"))
         is_gas = kinds == {"gas"}
         model = "ideal-gas" if is_gas else ("fixed-stoichiometry" if len(sps) == 1 else "ideal-condensed")
+        if is_gas and gas_model == "peng-robinson":
+            model = "Peng-Robinson"
+            problems += _without_constants(pname, sps)
         raw.append((pname, model, is_gas, sps))
     if problems:
         raise MechanismError(problems)
     return _assemble("packaged", raw)
+
+
+def _without_constants(phase: str, sps) -> list[Problem]:
+    """A Peng-Robinson gas phase needs critical constants for every species (system/critical.py)."""
+    from .critical import critical_constants
+    missing = [sp.name for sp in sps if critical_constants(sp.name, sp.composition) is None]
+    if not missing:
+        return []
+    return [Problem("packaged databases", f"gas-model peng-robinson needs the critical constants (Tc, Pc, acentric "
+                    f"factor) of every species of phase {phase!r}; neither cantera's critical-properties.yaml nor "
+                    f"auditor/data/critical_constants.yaml has {', '.join(missing)}", "system.gas-model")]
 
 
 @functools.lru_cache(maxsize=1)
