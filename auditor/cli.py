@@ -10,6 +10,7 @@ from pathlib import Path
 
 from . import __version__
 from .errors import InputError
+from .verdicts import Verdict
 
 EXIT_OK, EXIT_PROBLEM, EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
 
@@ -311,7 +312,7 @@ def _cmd_sweep(args) -> int:
         print("\n".join(sweep_summary(results, bool(args.ternary), csv_path, svg_path)))
     if args.ternary:
         return EXIT_OK if all(r.certified for r in results) else EXIT_PROBLEM
-    return EXIT_OK if all(r.verdict == "well-posed" for r in results) else EXIT_PROBLEM
+    return EXIT_OK if all(r.verdict == Verdict.WELL_POSED for r in results) else EXIT_PROBLEM
 
 
 def _cmd_new(args) -> int:
@@ -351,7 +352,7 @@ def _cmd_species(args) -> int:
 
 def _cmd_reactions(args) -> int:
     from .report.reactions import reactions_document, reactions_text
-    from .stoichiometry import analyse, from_mechanism as mechanism_reactions
+    from .stoichiometry import analyse, mechanism_reactions
     from .system import from_mechanism, shipped_data_file
     path = args.mechanism if Path(args.mechanism).exists() else str(shipped_data_file(args.mechanism) or args.mechanism)
     # The exact analysis of a large mechanism allocates a few hundred thousand small objects

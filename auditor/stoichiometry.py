@@ -170,7 +170,7 @@ def parse_equation(text: str, system: ChemicalSystem, file: str = "", key_path: 
     return Reaction(text.strip(), stoich)
 
 
-def from_mechanism(system: ChemicalSystem) -> tuple[Reaction, ...]:
+def mechanism_reactions(system: ChemicalSystem) -> tuple[Reaction, ...]:
     """The mechanism's own reactions as :class:`Reaction` records."""
     return tuple(Reaction(r.equation, r.stoich) for r in system.reactions)
 
@@ -368,7 +368,7 @@ def build_reactions(case: Case, system: ChemicalSystem, basis: tuple[Reaction, .
     if case.reactions == "complete":
         return basis if basis is not None else derived_basis(system)
     if case.reactions == "from-mechanism":
-        return from_mechanism(system)
+        return mechanism_reactions(system)
     problems, out = [], []
     for eq, kp in case.reactions:
         try:
@@ -378,3 +378,6 @@ def build_reactions(case: Case, system: ChemicalSystem, basis: tuple[Reaction, .
     if problems:
         raise CaseError(problems)
     return tuple(out)
+
+
+from_mechanism = mechanism_reactions     # the earlier name, kept for callers

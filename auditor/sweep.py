@@ -23,6 +23,7 @@ from typing import Callable, Iterable, Sequence
 
 from .case import Case, load_case, parse_quantity
 from .errors import InputError, Problem
+from .verdicts import Verdict
 
 VARIABLES = {"temperature": ("temperature", "K"), "pressure": ("pressure", "bar")}
 FEED, RATIO, TERNARY = "feed.", "ratio.", "ternary"
@@ -307,18 +308,18 @@ def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> Point
     try:
         if point.feed is not None:
             # the feed enters the restriction count; the system and reactions do not change
-            from .phase_rule import count as count_phase_rule
-            from .structure import audit as audit_specification
+            from .phase_rule import count_phase_rule
+            from .structure import audit_specification
             here = replace(here, feed=point.feed)
             count = count_phase_rule(here, system, reactions, analysis)
             structure = audit_specification(here, system, count)
         eq = confirm(here, system, analysis, count, structure, workspace)
     except Exception as exc:  # a point that fails is recorded, never fatal
-        return PointResult(*where, "failed", (), (), (), f"{type(exc).__name__}: {exc}", point.coordinates)
+        return PointResult(*where, Verdict.FAILED, (), (), (), f"{type(exc).__name__}: {exc}", point.coordinates)
     if not eq.solved:
         msg = "; ".join(f.message for f in eq.findings if f.severity != "note") or \
             "; ".join(f.message for f in eq.findings)
-        verdict = structure.status if structure.status != "well-posed" else "not-confirmed"
+        verdict = structure.status if structure.status != Verdict.WELL_POSED else Verdict.NOT_CONFIRMED
         return PointResult(*where, verdict, (), (), (), msg, point.coordinates)
     xs = tuple((f"{p.name}:{k}", round(v, 12)) for p in eq.phases for k, v in p.mole_fractions)
     moles = tuple((p.name, round(p.moles, 12)) for p in eq.phases)
@@ -326,7 +327,8 @@ def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> Point
     certified = certificate_holds(eq)
     # an assumed phase outside its thermo data at this T: the point is not a possible state (as ``check`` says)
     impossible = any(p in count.coexisting for p, _ in eq.set_aside)
-    verdict = "well-posed" if eq.confirmed else "inconsistent" if impossible else "not-confirmed"
+    verdict = (Verdict.WELL_POSED if eq.confirmed else Verdict.INCONSISTENT if impossible
+               else Verdict.NOT_CONFIRMED)
     return PointResult(point.index, eq.temperature_K, eq.pressure_Pa, verdict, eq.phases_present, xs, moles, msg,
                        point.coordinates, certified, eq.route if certified else "", len(eq.attempts) > 1)
 
@@ -395,7 +397,7 @@ def run_sweep(case_path: str, axes: Sequence[Axis], executor, *, done: Iterable[
     blocks = blocks_of(todo, workers, block_size, getattr(executor, "blocks_per_worker", 8))
     for block, outcome in executor.map_blocks(evaluate_block, [(case_path, vary, b) for b in blocks]):
         if isinstance(outcome, BaseException):
-            outcome = [PointResult(p.index, p.temperature_K, p.pressure_Pa, "failed", (), (), (),
+            outcome = [PointResult(p.index, p.temperature_K, p.pressure_Pa, Verdict.FAILED, (), (), (),
                                    f"{type(outcome).__name__}: {outcome}", p.coordinates) for p in block[2]]
         for r in outcome:
             finished[r.index] = r
