@@ -53,7 +53,7 @@ def _reaction_findings(a: ReactionAnalysis) -> list[Finding]:
     for d in a.dependent:
         if d.index in dup:
             continue
-        combo = signed_terms((c, f"reaction {j + 1}") for j, c in d.combination)
+        combo = signed_terms(((c, f"reaction {j + 1}") for j, c in d.combination), " x ", unit_coefficient=True)
         out.append(Finding("note", "reactions", f"reaction {d.index + 1} '{a.reactions[d.index].equation}' is "
                            f"redundant: it equals {combo}"))
     for g in a.duplicates:

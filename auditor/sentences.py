@@ -19,10 +19,21 @@ def yes_no(flag: bool | None) -> str:
     return "not decided" if flag is None else ("yes" if flag else "no")
 
 
-def signed_terms(terms: Iterable[tuple[Fraction | int, str]], times: str = " x ") -> str:
-    """``a x u - b x v + ...`` from (coefficient, name) pairs, exact; a leading plus is left out."""
-    text = " ".join(f"{'+' if c > 0 else '-'} {format_fraction(abs(c))}{times}{name}" for c, name in terms)
-    return text.lstrip("+ ")
+def signed_terms(terms: Iterable[tuple[Fraction | int, str]], times: str = " ", unit_coefficient: bool = False,
+                 limit: int | None = None, empty: str = "") -> str:
+    """Every signed linear combination the tool writes: ``u - 2 v + 1/2 w`` from (coefficient,
+    name) pairs, exact, a leading plus left out.  ``times`` goes between a coefficient and its
+    name (" x " for reactions); a coefficient of 1 is written only with ``unit_coefficient``;
+    past ``limit`` terms the rest are counted, not written; ``empty`` stands for no terms."""
+    parts = []
+    for c, name in terms:
+        mag = abs(Fraction(c))
+        coef = f"{format_fraction(mag)}{times}" if mag != 1 or unit_coefficient else ""
+        parts.append(f"{'-' if c < 0 else '+'} {coef}{name}")
+    if limit is not None and len(parts) > limit:   # a mechanism-sized relation: its start and its length
+        parts = parts[:limit] + [f"+ ... ({len(parts) - limit} more terms)"]
+    text = " ".join(parts)
+    return text[2:] if text.startswith("+ ") else (text or empty)
 
 
 def imbalance_text(imbalance) -> str:

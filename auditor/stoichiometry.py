@@ -21,6 +21,7 @@ from typing import Mapping, Sequence
 from . import exact
 from .case import Case
 from .errors import CaseError, EquationError, InputError, Problem
+from .sentences import signed_terms
 from .system import ChemicalSystem, unknown_name_message
 
 Stoich = tuple[tuple[int, int | Fraction], ...]  # exact; int whenever the value is whole
@@ -220,15 +221,7 @@ def _imbalance(system: ChemicalSystem, columns, stoich: Stoich) -> tuple[tuple[s
 
 
 def _describe_quantity(vec: Mapping[int, Fraction | int], labels: Sequence[str]) -> str:
-    terms = []
-    for k, c in sorted(vec.items()):
-        c = Fraction(c)
-        sign = "-" if c < 0 else "+"
-        mag = abs(c)
-        coef = "" if mag == 1 else exact.format_fraction(mag) + " "
-        terms.append(f"{sign} {coef}n({labels[k]})")
-    text = " ".join(terms)
-    return text[2:] if text.startswith("+ ") else text
+    return signed_terms((c, f"n({labels[k]})") for k, c in sorted(vec.items()))
 
 
 def analyse(system: ChemicalSystem, reactions: Sequence[Reaction],

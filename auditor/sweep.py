@@ -23,6 +23,7 @@ from typing import Callable, Iterable, Sequence
 
 from .case import Case, load_case, parse_quantity
 from .errors import InputError, Problem
+from .sentences import yes_no
 from .verdicts import Verdict
 
 VARIABLES = {"temperature": ("temperature", "K"), "pressure": ("pressure", "bar")}
@@ -374,7 +375,7 @@ def csv_text(results: Sequence[PointResult]) -> str:
         w.writerow([r.index] + [_num(cs.get(c)) for c in coord_cols]
                    + [_num(r.temperature_K), _num(r.pressure_Pa), r.verdict, " ".join(r.phases_present)]
                    + [_num(xs.get(c)) for c in x_cols] + [_num(ps.get(c)) for c in p_cols]
-                   + ["yes" if r.certified else "no", r.route, r.message])
+                   + [yes_no(r.certified), r.route, r.message])
     return buf.getvalue()
 
 

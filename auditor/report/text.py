@@ -7,14 +7,10 @@ import math
 from typing import TYPE_CHECKING
 
 from ..phase_rule import PhaseRuleCount
+from ..sentences import yes_no
 
 if TYPE_CHECKING:   # the stage is imported only where a case is confirmed (cold start)
     from ..equilibrium import EquilibriumCheck
-
-
-def yes_no(flag: bool | None) -> str:
-    """A flag in words: yes, no, or "not decided" when there is none."""
-    return "not decided" if flag is None else ("yes" if flag else "no")
 
 
 def nonsingular_words(test: str, rcond: float | None) -> str:
