@@ -3,7 +3,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 from pathlib import Path
-from typing import Any
+from typing import Any, NamedTuple
 
 from . import case as case_mod
 from .case import Case
@@ -11,7 +11,7 @@ from .errors import InputError
 from .findings import Finding
 from .sentences import imbalance_text, show_value, signed_terms, verdict_reason
 from .phase_rule import PhaseRuleCount, count_phase_rule
-from .stoichiometry import ReactionAnalysis, analyse, build_reactions, derived_basis
+from .stoichiometry import Reaction, ReactionAnalysis, analyse, build_reactions, derived_basis
 from .structure import SpecificationAudit, audit_specification
 from .system import ChemicalSystem, build_system, check_names
 from .verdicts import Verdict
@@ -67,7 +67,18 @@ def _reaction_findings(a: ReactionAnalysis) -> list[Finding]:
     return out
 
 
-def counting_stages(case: Case, system: ChemicalSystem | None = None):
+class CountingStages(NamedTuple):
+    """The frozen results of the stages before the minimisation, by name (a named tuple, so
+    that ``system, reactions, analysis, count, specification = stages`` also reads)."""
+
+    system: ChemicalSystem
+    reactions: tuple[Reaction, ...]     # the reactions the case lists (or the derived complete set)
+    analysis: ReactionAnalysis
+    count: PhaseRuleCount
+    specification: SpecificationAudit
+
+
+def counting_stages(case: Case, system: ChemicalSystem | None = None) -> CountingStages:
     """The stages before the minimisation: system, reactions, analysis, phase-rule count, specification audit."""
     if system is None:
         system = build_system(case)
@@ -76,12 +87,14 @@ def counting_stages(case: Case, system: ChemicalSystem | None = None):
     reactions = build_reactions(case, system, basis)
     analysis = analyse(system, reactions, basis)
     count = count_phase_rule(case, system, reactions, analysis)
-    return system, reactions, analysis, count, audit_specification(case, system, count)
+    return CountingStages(system, reactions, analysis, count, audit_specification(case, system, count))
 
 
 def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) -> AuditResult:
     """Audit one validated case (its system may be passed in when already built)."""
-    system, reactions, analysis, count, spec = counting_stages(case, system)
+    stages = counting_stages(case, system)
+    system, reactions, analysis, count, spec = stages.system, stages.reactions, stages.analysis, stages.count, \
+        stages.specification
     findings = _reaction_findings(analysis) + _system_findings(system) + _count_findings(count)
     findings += _specification_findings(spec)
     set_findings = phase_set_findings(system, count)
@@ -97,7 +110,7 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
         if equilibrium.solved and set(found) != set(count.coexisting) and found:
             actual = count_phase_rule(replace(case, coexisting=tuple(found)), system, reactions, analysis)
             findings.append(Finding("warning", "phase-rule", f"for the phases found present ({', '.join(found)}) the "
-                                    f"phase rule gives N = {actual.n_species}, pi = {actual.n_phases}, m = "
+                                    f"phase rule gives N = {actual.n_present}, pi = {actual.n_phases}, m = "
                                     f"{actual.independent_reactions}, r = {actual.restrictions}, F = "
                                     f"{actual.degrees_of_freedom}; revise 'coexisting' or the specifications",
                                     tuple(found)))

@@ -49,7 +49,7 @@ class Relation:
 class PhaseRuleCount:
     coexisting: tuple[str, ...]
     present_species: tuple[int, ...]          # phase-species of the coexisting phases
-    n_species: int                            # N
+    n_present: int                            # N: phase-species that can be present in the coexisting phases
     n_phases: int                             # pi
     independent_reactions: int                # m (among present species)
     reactions_present: tuple[Reaction, ...]   # a basis of those reactions
@@ -63,16 +63,21 @@ class PhaseRuleCount:
     feed_words: tuple[tuple[str, str], ...] = ()  # (phase, the feed relations of it as ratios in words)
 
     @property
+    def n_species(self) -> int:
+        """N under its earlier name (``ChemicalSystem.n_species`` counts every phase-species of the system)."""
+        return self.n_present
+
+    @property
     def restrictions(self) -> int:
         return self.r_feed + self.r_declared
 
     @property
     def components(self) -> int:
-        return self.n_species - self.independent_reactions - self.restrictions
+        return self.n_present - self.independent_reactions - self.restrictions
 
     @property
     def degrees_of_freedom(self) -> int:
-        return 2 + self.n_species - self.n_phases - self.independent_reactions - self.restrictions
+        return 2 + self.n_present - self.n_phases - self.independent_reactions - self.restrictions
 
 
 def relation_text(phase: str, coeffs: dict[int, Fraction | int], labels: Sequence[str], rhs: str = "0") -> str:
@@ -307,7 +312,7 @@ def count_phase_rule(case: Case, system: ChemicalSystem, reactions: Sequence[Rea
             tally.declared(rel)
     _same_composition(case, system, coexisting, tally)
     return PhaseRuleCount(
-        coexisting=tuple(coexisting), present_species=present, n_species=len(present),
+        coexisting=tuple(coexisting), present_species=present, n_present=len(present),
         n_phases=len(coexisting), independent_reactions=len(basis), reactions_present=reactions_present,
         r_feed=tally.r_feed, r_declared=tally.r_declared, relations=tuple(tally.relations),
         double_counted=tuple(tally.double), has_feed=case.feed is not None,

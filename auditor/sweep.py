@@ -19,12 +19,16 @@ import json
 import math
 from fractions import Fraction
 from dataclasses import dataclass, replace
-from typing import Callable, Iterable, Sequence
+from typing import TYPE_CHECKING, Callable, Iterable, NamedTuple, Sequence
 
 from .case import Case, load_case, parse_quantity
 from .errors import InputError, Problem
 from .sentences import yes_no
 from .verdicts import Verdict
+
+if TYPE_CHECKING:
+    from .audit import CountingStages
+    from .equilibrium import Workspace
 
 VARIABLES = {"temperature": ("temperature", "K"), "pressure": ("pressure", "bar")}
 FEED, RATIO, TERNARY = "feed.", "ratio.", "ternary"
@@ -285,7 +289,16 @@ class PointResult:
 
 
 @functools.lru_cache(maxsize=8)
-def _prepared(case_path: str, vary: tuple[str, ...]):
+class Prepared(NamedTuple):
+    """What every point of one case's sweep shares in a worker: the case (its varied variables
+    counted as specified), its counting stages and its equilibrium workspace."""
+
+    case: Case
+    stages: CountingStages
+    workspace: Workspace
+
+
+def _prepared(case_path: str, vary: tuple[str, ...]) -> Prepared:
     """Counting stages of a case and its equilibrium workspace, made once per worker process."""
     from .audit import counting_stages
     case = load_case(case_path)
@@ -294,15 +307,17 @@ def _prepared(case_path: str, vary: tuple[str, ...]):
     spec = replace(spec, temperature_K=spec.temperature_K if spec.temperature_K or "temperature" not in vary else 300.0,
                    pressure_Pa=spec.pressure_Pa if spec.pressure_Pa or "pressure" not in vary else 1e5)
     case = replace(case, specified=spec)
-    system, reactions, analysis, count, structure = counting_stages(case)
+    stages = counting_stages(case)
     from .equilibrium import Workspace
     # one workspace per case and worker: every point of the sweep shares its cantera objects
-    return case, system, reactions, analysis, count, structure, Workspace(system, analysis)
+    return Prepared(case, stages, Workspace(stages.system, stages.analysis))
 
 
 def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> PointResult:
     from .equilibrium import certificate_holds, confirm
-    case, system, reactions, analysis, count, structure, workspace = _prepared(case_path, vary)
+    case, stages, workspace = _prepared(case_path, vary)
+    system, reactions, analysis = stages.system, stages.reactions, stages.analysis
+    count, structure = stages.count, stages.specification
     spec = replace(case.specified, temperature_K=point.temperature_K, pressure_Pa=point.pressure_Pa)
     here = replace(case, specified=spec)
     where = (point.index, point.temperature_K, point.pressure_Pa)

@@ -21,7 +21,7 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
     out += _wrap(f"Why: {r.reason}", "") if r.reason else []
     out.append("")
     out.append("Phase rule over the phases assumed to coexist:")
-    rows = [("N  phase-species", pr.n_species), ("pi phases", pr.n_phases),
+    rows = [("N  phase-species", pr.n_present), ("pi phases", pr.n_phases),
             ("m  independent reactions", pr.independent_reactions),
             ("r  restrictions (feed + electroneutrality, declared)", f"{pr.restrictions} ({pr.r_feed} + {pr.r_declared})"),
             ("C  components = N - m - r", pr.components), ("F  degrees of freedom = 2 + C - pi", pr.degrees_of_freedom)]
