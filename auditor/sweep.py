@@ -23,7 +23,7 @@ from typing import TYPE_CHECKING, Callable, Iterable, NamedTuple, Sequence
 
 from .case import Case, load_case, parse_quantity
 from .errors import InputError, Problem
-from .sentences import yes_no
+from .sweep_files import PointResult, csv_text
 from .verdicts import Verdict
 
 if TYPE_CHECKING:
@@ -255,40 +255,6 @@ def grid(case: Case, axes: Sequence[Axis]) -> list[Point]:
                   f[0], f[1]) for i, (f, c) in enumerate(order)]
 
 
-@dataclass(frozen=True)
-class PointResult:
-    index: int
-    temperature_K: float | None
-    pressure_Pa: float | None
-    verdict: str
-    phases_present: tuple[str, ...]
-    mole_fractions: tuple[tuple[str, float], ...]   # phase:species -> x
-    phase_moles: tuple[tuple[str, float], ...]
-    message: str = ""
-    coordinates: tuple[tuple[str, float], ...] = ()  # feed-axis values
-    certified: bool = False      # the certificate holds (whatever the phases assumed)
-    route: str = ""              # the solve route that produced the certified state
-    fallback: bool = False       # the first route failed and a later one was needed
-
-    def to_json(self) -> str:
-        return json.dumps({"index": self.index, "temperature_K": self.temperature_K, "pressure_Pa": self.pressure_Pa,
-                           "verdict": self.verdict, "phases_present": list(self.phases_present),
-                           "mole_fractions": [list(x) for x in self.mole_fractions],
-                           "phase_moles": [list(x) for x in self.phase_moles], "message": self.message,
-                           "coordinates": [list(x) for x in self.coordinates], "certified": self.certified,
-                           "route": self.route, "fallback": self.fallback},
-                          sort_keys=True)
-
-    @classmethod
-    def from_json(cls, text: str) -> "PointResult":
-        d = json.loads(text)
-        return cls(d["index"], d["temperature_K"], d["pressure_Pa"], d["verdict"], tuple(d["phases_present"]),
-                   tuple((a, b) for a, b in d["mole_fractions"]), tuple((a, b) for a, b in d["phase_moles"]),
-                   d.get("message", ""), tuple((a, b) for a, b in d.get("coordinates", ())),
-                   bool(d.get("certified", False)), d.get("route", ""), bool(d.get("fallback", False)))
-
-
-@functools.lru_cache(maxsize=8)
 class Prepared(NamedTuple):
     """What every point of one case's sweep shares in a worker: the case (its varied variables
     counted as specified), its counting stages and its equilibrium workspace."""
@@ -298,6 +264,7 @@ class Prepared(NamedTuple):
     workspace: Workspace
 
 
+@functools.lru_cache(maxsize=8)
 def _prepared(case_path: str, vary: tuple[str, ...]) -> Prepared:
     """Counting stages of a case and its equilibrium workspace, made once per worker process."""
     from .audit import counting_stages
@@ -361,41 +328,6 @@ def blocks_of(points: Sequence[Point], workers: int, block_size: int | None = No
     if block_size is None:
         block_size = max(1, min(500, -(-len(points) // max(1, workers * blocks_per_worker))))
     return [list(points[i:i + block_size]) for i in range(0, len(points), block_size)]
-
-
-def csv_text(results: Sequence[PointResult]) -> str:
-    """CSV of the sweep in grid order (deterministic: fixed columns, repr of floats)."""
-    import csv
-    import io
-    x_cols: list[str] = []
-    p_cols: list[str] = []
-    for r in results:
-        for k, _ in r.mole_fractions:
-            if k not in x_cols:
-                x_cols.append(k)
-        for k, _ in r.phase_moles:
-            if k not in p_cols:
-                p_cols.append(k)
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    coord_cols: list[str] = []
-    for r in results:
-        for k, _ in r.coordinates:
-            if k not in coord_cols:
-                coord_cols.append(k)
-    w.writerow(["index"] + coord_cols + ["temperature_K", "pressure_Pa", "verdict", "phases_present"]
-               + [f"x[{c}]" for c in x_cols] + [f"moles[{c}]" for c in p_cols] + ["certified", "route", "message"])
-    for r in sorted(results, key=lambda r: r.index):
-        xs, ps, cs = dict(r.mole_fractions), dict(r.phase_moles), dict(r.coordinates)
-        w.writerow([r.index] + [_num(cs.get(c)) for c in coord_cols]
-                   + [_num(r.temperature_K), _num(r.pressure_Pa), r.verdict, " ".join(r.phases_present)]
-                   + [_num(xs.get(c)) for c in x_cols] + [_num(ps.get(c)) for c in p_cols]
-                   + [yes_no(r.certified), r.route, r.message])
-    return buf.getvalue()
-
-
-def _num(v) -> str:
-    return "" if v is None else repr(float(v))
 
 
 def run_sweep(case_path: str, axes: Sequence[Axis], executor, *, done: Iterable[PointResult] = (),
