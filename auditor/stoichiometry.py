@@ -88,12 +88,6 @@ class ReactionAnalysis:
     def max_independent(self) -> int:
         return len(self.labels) - self.formula_rank
 
-    def combination_of(self, index: int) -> tuple[tuple[int, Fraction], ...] | None:
-        for d in self.dependent:
-            if d.index == index:
-                return d.combination
-        return None
-
 
 # ------------------------------------------------------------------ equations
 
