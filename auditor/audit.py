@@ -3,20 +3,18 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 from pathlib import Path
-from typing import Any
+from typing import Any, NamedTuple
 
 from . import case as case_mod
 from .case import Case
 from .errors import InputError
-from .exact import format_fraction
 from .findings import Finding
-from .phase_rule import PhaseRuleCount, count as count_phase_rule
-from .stoichiometry import ReactionAnalysis, analyse, build_reactions, derived_basis
-from .structure import SpecificationAudit, audit as audit_specification
+from .sentences import imbalance_text, show_value, signed_terms, verdict_reason
+from .phase_rule import PhaseRuleCount, count_phase_rule
+from .stoichiometry import Reaction, ReactionAnalysis, analyse, build_reactions, derived_basis
+from .structure import SpecificationAudit, audit_specification
 from .system import ChemicalSystem, build_system, check_names
-
-VERDICT_ORDER = ("well-posed", "under-specified", "over-specified", "not-confirmed", "inconsistent")
-
+from .verdicts import Verdict
 
 @dataclass(frozen=True)
 class ClaimCheck:
@@ -36,29 +34,29 @@ class AuditResult:
     equilibrium: Any             # EquilibriumCheck or None
     claims: tuple[ClaimCheck, ...]
     findings: tuple[Finding, ...]
-    verdict: str
+    verdict: Verdict
     reason: str = ""             # the verdict's reason in one plain sentence
     real_gas: Any = None         # RealGasAudit (equilibrium/real_gas.py) or None: the ideal-gas assumption checked
 
 
     @property
     def exit_status(self) -> int:
-        return 0 if self.verdict == "well-posed" and all(c.held is not False for c in self.claims) else 1
+        return 0 if self.verdict == Verdict.WELL_POSED and all(c.held is not False for c in self.claims) else 1
 
 
 def _reaction_findings(a: ReactionAnalysis) -> list[Finding]:
     out = []
     for u in a.unbalanced:
-        imb = ", ".join(f"{e} {'+' if v > 0 else ''}{format_fraction(v)}" for e, v in u.imbalance)
+        imb = imbalance_text(u.imbalance)
         out.append(Finding("error", "reactions", f"reaction {u.index + 1} '{a.reactions[u.index].equation}' does not "
                            f"balance (products - reactants: {imb})", tuple(e for e, _ in u.imbalance)))
     dup = {i for g in a.duplicates for i, _ in g.members}
     for d in a.dependent:
         if d.index in dup:
             continue
-        combo = " ".join(f"{'+' if c > 0 else '-'} {format_fraction(abs(c))} x reaction {j + 1}" for j, c in d.combination)
+        combo = signed_terms(((c, f"reaction {j + 1}") for j, c in d.combination), " x ", unit_coefficient=True)
         out.append(Finding("note", "reactions", f"reaction {d.index + 1} '{a.reactions[d.index].equation}' is "
-                           f"redundant: it equals {combo.lstrip('+ ')}"))
+                           f"redundant: it equals {combo}"))
     for g in a.duplicates:
         out.append(Finding("note", "reactions", f"reactions {', '.join(str(i + 1) for i, _ in g.members)} repeat the "
                            f"net change of reaction {g.representative + 1} '{a.reactions[g.representative].equation}'"))
@@ -70,7 +68,18 @@ def _reaction_findings(a: ReactionAnalysis) -> list[Finding]:
     return out
 
 
-def counting_stages(case: Case, system: ChemicalSystem | None = None):
+class CountingStages(NamedTuple):
+    """The frozen results of the stages before the minimisation, by name (a named tuple, so
+    that ``system, reactions, analysis, count, specification = stages`` also reads)."""
+
+    system: ChemicalSystem
+    reactions: tuple[Reaction, ...]     # the reactions the case lists (or the derived complete set)
+    analysis: ReactionAnalysis
+    count: PhaseRuleCount
+    specification: SpecificationAudit
+
+
+def counting_stages(case: Case, system: ChemicalSystem | None = None) -> CountingStages:
     """The stages before the minimisation: system, reactions, analysis, phase-rule count, specification audit."""
     if system is None:
         system = build_system(case)
@@ -79,12 +88,14 @@ def counting_stages(case: Case, system: ChemicalSystem | None = None):
     reactions = build_reactions(case, system, basis)
     analysis = analyse(system, reactions, basis)
     count = count_phase_rule(case, system, reactions, analysis)
-    return system, reactions, analysis, count, audit_specification(case, system, count)
+    return CountingStages(system, reactions, analysis, count, audit_specification(case, system, count))
 
 
 def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) -> AuditResult:
     """Audit one validated case (its system may be passed in when already built)."""
-    system, reactions, analysis, count, spec = counting_stages(case, system)
+    stages = counting_stages(case, system)
+    system, reactions, analysis, count, spec = stages.system, stages.reactions, stages.analysis, stages.count, \
+        stages.specification
     findings = _reaction_findings(analysis) + _system_findings(system) + _count_findings(count)
     findings += _specification_findings(spec)
     set_findings = phase_set_findings(system, count)
@@ -93,7 +104,7 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
 
     equilibrium = None
     if confirm and case.feed is not None:
-        from .equilibrium import Workspace, confirm as confirm_equilibrium
+        from .equilibrium import Workspace, confirm_equilibrium
         workspace = Workspace(system, analysis)
         equilibrium = confirm_equilibrium(case, system, analysis, count, spec, workspace)
         findings.extend(equilibrium.findings)
@@ -101,7 +112,7 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
         if equilibrium.solved and set(found) != set(count.coexisting) and found:
             actual = count_phase_rule(replace(case, coexisting=tuple(found)), system, reactions, analysis)
             findings.append(Finding("warning", "phase-rule", f"for the phases found present ({', '.join(found)}) the "
-                                    f"phase rule gives N = {actual.n_species}, pi = {actual.n_phases}, m = "
+                                    f"phase rule gives N = {actual.n_present}, pi = {actual.n_phases}, m = "
                                     f"{actual.independent_reactions}, r = {actual.restrictions}, F = "
                                     f"{actual.degrees_of_freedom}; revise 'coexisting' or the specifications",
                                     tuple(found)))
@@ -121,17 +132,17 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     verdict = spec.status
     if analysis.unbalanced or F < 0 or count.empty_phases or impossible or any(f.severity == "error"
                                                                                for f in set_findings):
-        verdict = "inconsistent"
-    elif verdict == "well-posed" and equilibrium is not None and not equilibrium.confirmed:
-        verdict = "not-confirmed"
+        verdict = Verdict.INCONSISTENT
+    elif verdict == Verdict.WELL_POSED and equilibrium is not None and not equilibrium.confirmed:
+        verdict = Verdict.NOT_CONFIRMED
 
     checks, claim_findings = _claim_checks(case, count, equilibrium, verdict)
     findings += claim_findings
     if any(c.held is False for c in checks):
-        verdict = "inconsistent"
-    reason = verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks, case)
+        verdict = Verdict.INCONSISTENT
+    reason = verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks, case, impossible)
     wrong_set = [f for f in set_findings if f.severity == "error"]
-    if verdict == "inconsistent" and wrong_set and not analysis.unbalanced:
+    if verdict == Verdict.INCONSISTENT and wrong_set and not analysis.unbalanced:
         reason = "the phase set cannot be right: " + wrong_set[0].message.split(": ", 1)[0]
     return AuditResult(case, system, analysis, count, spec, equilibrium, tuple(checks), tuple(findings), verdict,
                        reason, real_gas)
@@ -257,11 +268,11 @@ def _count_findings(count: PhaseRuleCount) -> list[Finding]:
 
 def _specification_findings(spec: SpecificationAudit) -> list[Finding]:
     findings = []
-    if spec.status != "well-posed":
+    if spec.status != Verdict.WELL_POSED:
         findings.append(Finding("error", "specification", f"{spec.status}: {spec.reasons[-1] if len(spec.reasons) > 1 else spec.reasons[0]}"
                                 + (f"; {spec.suggestion}" if spec.suggestion else ""),
                                 spec.conflicting or spec.free))
-    if spec.conflicting and spec.status == "over-specified":
+    if spec.conflicting and spec.status == Verdict.OVER_SPECIFIED:
         findings.append(Finding("error", "specification", "conflicting specifications: " + "; ".join(spec.conflicting),
                                 spec.conflicting))
     return findings
@@ -325,101 +336,6 @@ def hindered_product_findings(case: Case, system: ChemicalSystem, equilibrium) -
                                "form: if it is kinetically hindered in this unit, list the intended reactions "
                                "instead of 'complete'", (sp.label, *(e for e, _ in most))))
     return out
-
-
-def short_name(spec: str) -> str:
-    """A specification's short symbol for a sentence: T, P, x(CO2), x(H2)/x(N2), or the name."""
-    import re
-    if spec == "temperature":
-        return "T"
-    if spec == "pressure":
-        return "P"
-    m = re.match(r"mole fraction (x\([^)]*\))", spec)
-    if m:
-        return m.group(1)
-    m = re.match(r"ratio (x\([^)]*\)/x\([^)]*\))", spec)
-    if m:
-        return m.group(1)
-    m = re.match(r"phase fraction of (\S+)", spec)
-    if m:
-        return f"the {m.group(1)} fraction"
-    return "the enthalpy balance" if spec.startswith("adiabatic") else spec
-
-
-def _one_of(names) -> str:
-    names = list(names)
-    return names[0] if len(names) == 1 else ", ".join(names[:-1]) + " and " + names[-1]
-
-
-def verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks, case=None) -> str:
-    """Why the verdict is what it is, in one sentence an engineer would use."""
-    eqs = [x.equation for x in analysis.reactions]
-    if verdict == "inconsistent":
-        if analysis.unbalanced:
-            u = analysis.unbalanced[0]
-            imb = ", ".join(f"{e} {'+' if v > 0 else ''}{format_fraction(v)}" for e, v in u.imbalance)
-            more = f" (and {len(analysis.unbalanced) - 1} more)" if len(analysis.unbalanced) > 1 else ""
-            return f"reaction {u.index + 1} '{eqs[u.index]}' does not balance ({imb}){more}: correct the equation"
-        if count.empty_phases:
-            return (f"{_one_of(count.empty_phases)} cannot form from this feed, yet the case assumes "
-                    f"{'it' if len(count.empty_phases) == 1 else 'them'} present")
-        impossible = assumed_outside_range(case, system, count) if case is not None else []
-        if impossible:
-            return (f"{_one_of(p for p, _ in impossible)} cannot exist at T = {case.specified.temperature_K:.2f} K "
-                    f"({'; '.join(why for _, why in impossible)}), yet the case assumes "
-                    f"{'it' if len(impossible) == 1 else 'them'} present: not a well-posed case")
-        if count.degrees_of_freedom < 0:
-            return (f"the phases assumed to coexist ({', '.join(count.coexisting)}) cannot coexist: the phase rule "
-                    f"gives F = {count.degrees_of_freedom}")
-        bad = [c for c in checks if c.held is False]
-        if bad:
-            c = bad[0]
-            return f"the case claims {c.name} = {show_value(c.claimed)}, but the audit finds {show_value(c.found)}"
-    if verdict == "over-specified":
-        names = [short_name(s) for s in (spec.conflicting or spec.intensive + spec.extensive)]
-        n_intensive, n_all = len(spec.intensive), len(spec.intensive) + len(spec.extensive)
-        excess = max(n_intensive - count.degrees_of_freedom, n_all - 2 if count.has_feed else 0, 1)
-        what = "one" if excess == 1 else str(excess)
-        why = (f"F = {count.degrees_of_freedom} allows {max(count.degrees_of_freedom, 0)} intensive"
-               if n_intensive > count.degrees_of_freedom else "a known feed takes exactly two")
-        return f"over-specified: drop {what} of {', '.join(names)} ({why})"
-    if verdict == "under-specified":
-        return "under-specified: " + (spec.suggestion or "fix more variables")
-    if verdict == "not-confirmed" and equilibrium is not None:
-        assumed = tuple(count.coexisting)
-        found = tuple(equilibrium.phases_present)
-        appeared = [p for p in found if p not in assumed]
-        vanished = [p for p in assumed if p not in found]
-        state = (f"the {'-'.join(assumed)}-only state assumed" if len(assumed) == 1
-                 else f"the assumed {' + '.join(assumed)} state")
-        if appeared:
-            carbon = [p for p in appeared if all(set(system.species[k].formula) == {"C"}
-                                                 for k in system.phase_indices(p))]
-            if carbon:
-                return f"{_one_of(carbon)} forms at equilibrium: carbon deposition expected, not {state}"
-            return f"{_one_of(appeared)} form{'s' if len(appeared) == 1 else ''} at equilibrium, not {state}"
-        if vanished:
-            return f"{_one_of(vanished)} {'is' if len(vanished) == 1 else 'are'} absent at equilibrium, not {state}"
-        errors = [f.message for f in equilibrium.findings if f.severity == "error"]
-        if not equilibrium.solved:
-            return "the Gibbs minimisation did not solve: " + (errors[0] if errors else "see the equilibrium section")
-        return "the Gibbs minimisation's certificate fails: " + (errors[0] if errors else "see the equilibrium section")
-    given = [short_name(s) for s in spec.intensive + spec.extensive]
-    fixed = f"{_one_of(given)} fix{'es' if len(given) == 1 else ''}" if given else "nothing fixes"
-    if count.has_feed:
-        text = f"{fixed} the state (Duhem's two for a known feed; F = {count.degrees_of_freedom})"
-    else:
-        text = f"{fixed} the intensive state (F = {count.degrees_of_freedom})"
-    if equilibrium is not None and equilibrium.confirmed:
-        text += f", and the Gibbs minimisation confirms the assumed phases ({', '.join(count.coexisting)})"
-    return text
-
-
-def show_value(v) -> str:
-    """A claimed or found value as text: lists as [a, b], a missing value as 'not computed'."""
-    if isinstance(v, (tuple, list)):
-        return "[" + ", ".join(map(str, v)) + "]"
-    return "not computed" if v is None else str(v)
 
 
 def audit_file(path: str | Path, confirm: bool = True) -> AuditResult:

@@ -10,6 +10,7 @@ from pathlib import Path
 
 from . import __version__
 from .errors import InputError
+from .verdicts import Verdict
 
 EXIT_OK, EXIT_PROBLEM, EXIT_INPUT, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 1, 2, 3, 130
 
@@ -217,35 +218,6 @@ def _sweep_axes(args) -> list:
     return axes
 
 
-def _journal_header(case_path, axes) -> str:
-    """The journal's first line: which case file and grid it belongs to."""
-    from .report.files import file_sha256
-    return json.dumps({"journal": 1, "case_sha256": file_sha256(case_path),
-                       "grid": [[a.name + (":" + ",".join(a.elements) if a.elements else ""), list(a.values)]
-                                for a in axes]}, sort_keys=True)
-
-
-def _points_done(journal: Path, header: str, args) -> list:
-    """The points a stopped sweep journalled (with --resume), else none; refuses a journal of
-    another case or grid, and an unfinished one without --resume or --force."""
-    from .sweep import PointResult
-    done = []
-    if args.resume and journal.exists():
-        lines = journal.read_text(encoding="utf-8").splitlines()
-        if not lines or lines[0] != header:
-            raise InputError.single(journal, "this journal belongs to another case file or grid; run without "
-                                    "--resume (and with --force) to start again")
-        for line in lines[1:]:
-            try:
-                done.append(PointResult.from_json(line))
-            except (ValueError, KeyError, TypeError):
-                continue  # a line cut short by the interruption
-    elif journal.exists() and not args.force:
-        raise InputError.single(journal, "an unfinished sweep left this journal; pass --resume to continue it "
-                                "or --force to start again")
-    return done
-
-
 def _run_points(args, case, axes, journal: Path, header: str, done: list) -> list:
     """Every point of the grid, each journalled as it finishes, with a progress bar."""
     from .executors import make_executor
@@ -290,7 +262,7 @@ def _cmd_sweep(args) -> int:
     from .case import load_case
     from .report.console import sweep_summary
     from .report.files import check_target, write_atomic
-    from .sweep import csv_text
+    from .sweep_files import csv_text, journal_header, points_done
     axes = _sweep_axes(args)
     case = load_case(args.case)
     if case.feed is None:
@@ -302,8 +274,8 @@ def _cmd_sweep(args) -> int:
         raise InputError.single(csv_path.parent, "output directory does not exist")
     for target in (csv_path, svg_path):
         check_target(target, [args.case], args.force or args.resume)
-    header = _journal_header(args.case, axes)
-    results = _run_points(args, case, axes, journal, header, _points_done(journal, header, args))
+    header = journal_header(args.case, axes)
+    results = _run_points(args, case, axes, journal, header, points_done(journal, header, args.resume, args.force))
     write_atomic(csv_path, csv_text(results))
     write_atomic(svg_path, _sweep_picture(args, case, axes, results))
     journal.unlink(missing_ok=True)
@@ -311,7 +283,7 @@ def _cmd_sweep(args) -> int:
         print("\n".join(sweep_summary(results, bool(args.ternary), csv_path, svg_path)))
     if args.ternary:
         return EXIT_OK if all(r.certified for r in results) else EXIT_PROBLEM
-    return EXIT_OK if all(r.verdict == "well-posed" for r in results) else EXIT_PROBLEM
+    return EXIT_OK if all(r.verdict == Verdict.WELL_POSED for r in results) else EXIT_PROBLEM
 
 
 def _cmd_new(args) -> int:
@@ -325,19 +297,8 @@ def _cmd_new(args) -> int:
 
 
 def _cmd_species(args) -> int:
-    from .common_names import lookup
-    from .system import search_species
-    hits, seen = [], set()
-    for common, name in lookup(args.query):
-        for h in search_species(name, limit=args.limit):
-            if h["name"] == name and name not in seen:
-                seen.add(name)
-                hits.append(dict(h, common_name=common))
-    for h in search_species(args.query, limit=args.limit):
-        if h["name"] not in seen:
-            seen.add(h["name"])
-            hits.append(h)
-    hits = hits[:args.limit]
+    from .system import find_species
+    hits = find_species(args.query, args.limit)
     if args.json:
         print(json.dumps(hits, indent=1))
         return EXIT_OK if hits else EXIT_PROBLEM
@@ -351,7 +312,7 @@ def _cmd_species(args) -> int:
 
 def _cmd_reactions(args) -> int:
     from .report.reactions import reactions_document, reactions_text
-    from .stoichiometry import analyse, from_mechanism as mechanism_reactions
+    from .stoichiometry import analyse, mechanism_reactions
     from .system import from_mechanism, shipped_data_file
     path = args.mechanism if Path(args.mechanism).exists() else str(shipped_data_file(args.mechanism) or args.mechanism)
     # The exact analysis of a large mechanism allocates a few hundred thousand small objects

@@ -28,6 +28,7 @@ from typing import Sequence
 
 from . import exact
 from .case import Case
+from .sentences import signed_terms
 from .system import feed_moles, matching_species
 from .stoichiometry import ReactionAnalysis, Reaction, basis_within, format_equation
 from .system import ChemicalSystem
@@ -48,7 +49,7 @@ class Relation:
 class PhaseRuleCount:
     coexisting: tuple[str, ...]
     present_species: tuple[int, ...]          # phase-species of the coexisting phases
-    n_species: int                            # N
+    n_present: int                            # N: phase-species that can be present in the coexisting phases
     n_phases: int                             # pi
     independent_reactions: int                # m (among present species)
     reactions_present: tuple[Reaction, ...]   # a basis of those reactions
@@ -62,31 +63,25 @@ class PhaseRuleCount:
     feed_words: tuple[tuple[str, str], ...] = ()  # (phase, the feed relations of it as ratios in words)
 
     @property
+    def n_species(self) -> int:
+        """N under its earlier name (``ChemicalSystem.n_species`` counts every phase-species of the system)."""
+        return self.n_present
+
+    @property
     def restrictions(self) -> int:
         return self.r_feed + self.r_declared
 
     @property
     def components(self) -> int:
-        return self.n_species - self.independent_reactions - self.restrictions
+        return self.n_present - self.independent_reactions - self.restrictions
 
     @property
     def degrees_of_freedom(self) -> int:
-        return 2 + self.n_species - self.n_phases - self.independent_reactions - self.restrictions
+        return 2 + self.n_present - self.n_phases - self.independent_reactions - self.restrictions
 
 
 def relation_text(phase: str, coeffs: dict[int, Fraction | int], labels: Sequence[str], rhs: str = "0") -> str:
-    terms = []
-    for k, c in sorted(coeffs.items()):
-        c = Fraction(c)
-        sign = "-" if c < 0 else "+"
-        mag = abs(c)
-        coef = "" if mag == 1 else f"{exact.format_fraction(mag)} "
-        terms.append(f"{sign} {coef}x({labels[k]})")
-    more = len(terms) - 12
-    if more > 0:   # a mechanism-sized relation: show its start and say how long it is
-        terms = terms[:12] + [f"+ ... ({more} more terms)"]
-    text = " ".join(terms)
-    text = text[2:] if text.startswith("+ ") else text
+    text = signed_terms(((c, f"x({labels[k]})") for k, c in sorted(coeffs.items())), limit=12)
     return f"in phase {phase}: {text} = {rhs}"
 
 
@@ -141,22 +136,21 @@ def _count_declared(rel: Relation, u, counted, feed_only, relations, double) -> 
     return 0
 
 
-def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
-          analysis: ReactionAnalysis) -> PhaseRuleCount:
-    """Phase-rule count for a case over its assumed coexisting phases."""
-    # longer than 80 lines on purpose: the terms N, pi, m, r are counted from one set of present species, in
-    # the order of the explanation
-    labels = system.labels
-    coexisting = case.coexisting or tuple(p.name for p in system.phases)
+def _feed_amounts(case: Case, system: ChemicalSystem) -> dict[int, Fraction]:
+    """Step 1: the feed as exact moles per phase-species (empty without a feed)."""
     n0: dict[int, Fraction] = {}
     for name, amount in feed_moles(case, system) or ():
         k = system.find(name)[0]
         n0[k] = n0.get(k, Fraction(0)) + _exact_amount(amount)
-    # with a feed, a species that a one-signed conserved quantity of zero feed value contains
-    # can never be present (an element the feed lacks, or a species the listed reactions
-    # cannot form and the feed does not hold): it is not a phase-species of the equilibrium
-    # state, its mole fraction being identically zero
-    excluded = []
+    return n0
+
+
+def _excluded_species(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, n0: dict[int, Fraction],
+                      coexisting: Sequence[str]) -> list[int]:
+    """Step 2: with a feed, a species that a one-signed conserved quantity of zero feed value
+    contains can never be present (an element the feed lacks, or a species the listed
+    reactions cannot form and the feed does not hold): its mole fraction is identically zero."""
+    excluded: list[int] = []
     if case.feed is not None:
         vectors = [dict(c.vector) for c in analysis.conserved]
         vectors += [{k: x for k, x in enumerate(row) if x != 0}
@@ -165,105 +159,164 @@ def count(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
             one_signed = all(x > 0 for x in w.values()) or all(x < 0 for x in w.values())
             if w and one_signed and sum((w.get(k, 0) * a for k, a in n0.items()), Fraction(0)) == 0:
                 excluded += [k for k in w if k not in excluded]
-    excluded = sorted(k for k in excluded if system.species[k].phase in coexisting)
+    return sorted(k for k in excluded if system.species[k].phase in coexisting)
+
+
+def _declared_ratios(case: Case, system: ChemicalSystem) -> dict[str, list[Relation]]:
+    """Step 5 (read first): the declared ratio restrictions, as relations grouped by phase."""
+    labels = system.labels
+    by_phase: dict[str, list[Relation]] = {}
+    for r in case.restrictions:
+        if r.kind == "ratio":
+            rr = r.ratio
+            i_num, i_den = system.index_in(rr.numerator, rr.phase), system.index_in(rr.denominator, rr.phase)
+            u = {i_num: 1, i_den: -Fraction(repr(float(rr.value)))}
+            by_phase.setdefault(rr.phase, []).append(Relation(
+                rr.phase, tuple(sorted(u.items())), "declared",
+                f"in phase {rr.phase}: x({labels[i_num]}) / x({labels[i_den]}) = {rr.value:g}", r.key_path))
+    return by_phase
+
+
+def _feed_vectors(W, b, idx, outside) -> list[dict]:
+    """lambda in the left null space of [b | W on the present species outside the phase],
+    each giving the relation lambda^T W on the phase's species."""
+    out: list[dict] = []
+    mat = [[b[i]] + [Fraction(W[i].get(k, 0)) for k in outside] for i in range(len(W))]
+    for lam in exact.left_nullspace(mat):
+        u: dict = {}
+        for i, li in enumerate(lam):
+            if li:
+                for k in idx:
+                    wk = W[i].get(k, 0)
+                    if wk:
+                        u[k] = u.get(k, 0) + li * wk
+        u = {k: v for k, v in u.items() if v != 0}
+        if u:
+            out.append(u)
+    return out
+
+
+def _phase_relations(phase: str, system: ChemicalSystem, analysis: ReactionAnalysis, present, W, b
+                     ) -> tuple[list[Relation], str]:
+    """Step 4: the electroneutrality and feed relations on one phase's mole fractions, and the
+    feed relations as ratios in words ("" when they do not read as ratios)."""
+    labels, present_set = system.labels, set(present)
+    idx = [k for k in system.phase_indices(phase) if k in present_set]
+    outside = [k for k in present if k not in set(idx)]
+    found: list[Relation] = []
+    charges = {k: system.species[k].charge for k in idx if system.species[k].charge != 0}
+    if charges:
+        z = exact.primitive(charges)
+        # first, so that a feed relation that coincides with it is the one left out
+        found.append(Relation(phase, tuple(sorted(z.items())), "electroneutrality", relation_text(phase, z, labels)))
+    words = ""
+    if b is not None and W:
+        # same span as the null-space vectors, written with small integer coefficients a reviewer can read
+        basis_small = exact.small_integer_basis(_feed_vectors(W, b, idx, outside))
+        found += [Relation(phase, tuple(sorted(u.items())), "feed", relation_text(phase, u, labels), "feed")
+                  for u in basis_small]
+        words = feed_ratios(W, [c.name for c in analysis.conserved], b, idx, outside, basis_small,
+                            [c.is_element for c in analysis.conserved])
+    return found, words
+
+
+class _Tally:
+    """The relations counted so far, by exact rank (all phases together)."""
+
+    def __init__(self):
+        self.counted = exact.RowEchelon(track=False)     # every relation counted so far
+        self.feed_only = exact.RowEchelon(track=False)   # those the feed (and electroneutrality) imply
+        self.relations: list[Relation] = []
+        self.double: list[Relation] = []
+        self.r_feed = self.r_declared = 0
+
+    def implied(self, rel: Relation) -> None:
+        """A relation that holds without being a restriction (fed to both, counted in neither)."""
+        self.counted.add(dict(rel.coefficients))
+        self.feed_only.add(dict(rel.coefficients))
+
+    def feed(self, rel: Relation) -> None:
+        u = dict(rel.coefficients)
+        self.feed_only.add(u)
+        if self.counted.add(u) is None:
+            self.relations.append(rel)
+            self.r_feed += 1
+
+    def declared(self, rel: Relation) -> int:
+        u = dict(rel.coefficients)
+        new = _count_declared(rel, u, self.counted, self.feed_only, self.relations, self.double)
+        self.r_declared += new
+        return new
+
+    def across(self, rel: Relation) -> int:
+        """A declared relation across phases: counted when new (a repeated declaration is
+        reported whole by the caller)."""
+        if self.counted.add(dict(rel.coefficients)) is None:
+            self.relations.append(rel)
+            self.r_declared += 1
+            return 1
+        return 0
+
+
+def _same_composition(case: Case, system: ChemicalSystem, coexisting: Sequence[str], tally: _Tally) -> None:
+    """Step 6: relations that tie phases together; both normalisations make x(a) - x(c) summed
+    over all species zero already, so that combination is implied and not counted."""
+    labels = system.labels
+    for r in case.restrictions:
+        if r.kind != "same-composition" or not all(p in coexisting for p in r.phases):
+            continue
+        first = r.phases[0]
+        for other in r.phases[1:]:
+            pairs = matching_species(system, first, other)
+            implied = {}
+            for a, c in pairs:
+                implied[a], implied[c] = 1, -1
+            tally.implied(Relation("across phases", tuple(sorted(implied.items())), "implied", "both normalisations"))
+            new = sum(tally.across(Relation("across phases", ((a, 1), (c, -1)), "declared",
+                                              f"x({labels[a]}) = x({labels[c]}) (same composition of {first} "
+                                              f"and {other})", r.key_path)) for a, c in pairs)
+            if not new:   # the whole declaration repeats what is already counted
+                tally.double.append(Relation("across phases", (), "implied by the other restrictions",
+                                             f"same composition of {first} and {other}", r.key_path))
+
+
+def count_phase_rule(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
+                     analysis: ReactionAnalysis) -> PhaseRuleCount:
+    """Phase-rule count for a case over its assumed coexisting phases, in the order of the explanation:
+    feed amounts, excluded species, the present basis (N, pi, m), relations per phase (r), same composition."""
+    labels = system.labels
+    coexisting = case.coexisting or tuple(p.name for p in system.phases)
+    n0 = _feed_amounts(case, system)
+    excluded = _excluded_species(case, system, analysis, n0, coexisting)
+    # step 3: the present basis
     present = tuple(k for k, s in enumerate(system.species) if s.phase in coexisting and k not in excluded)
     empty = tuple(p for p in coexisting if not any(system.species[k].phase == p for k in present))
     coexisting = tuple(p for p in coexisting if p not in empty)
-    present_set = set(present)
     basis = basis_within(reactions, system.n_species, present)
-    m = len(basis)
     reactions_present = tuple(Reaction(format_equation(tuple(sorted(v.items())), labels), tuple(sorted(v.items())))
                               for v in basis)
-
     # conserved quantities and their feed values
     W = [dict(c.vector) for c in analysis.conserved]
     b = None
     if case.feed is not None:
         b = [sum((Fraction(w.get(k, 0)) * a for k, a in n0.items()), Fraction(0)) for w in W]
-
-    relations: list[Relation] = []
-    double: list[Relation] = []
-    r_feed = r_declared = 0
-    declared_by_phase: dict[str, list[tuple[dict, str, str]]] = {}
-    feed_words: list[tuple[str, str]] = []
-    for r in case.restrictions:
-        if r.kind == "ratio":
-            rr = r.ratio
-            i_num = system.index_in(rr.numerator, rr.phase)
-            i_den = system.index_in(rr.denominator, rr.phase)
-            val = Fraction(repr(float(rr.value)))
-            declared_by_phase.setdefault(rr.phase, []).append(({i_num: 1, i_den: -val}, r.key_path,
-                                                               f"x({labels[i_num]}) / x({labels[i_den]}) = {rr.value:g}"))
-
-    counted = exact.RowEchelon(track=False)     # every relation counted so far
-    feed_only = exact.RowEchelon(track=False)   # those the feed (and electroneutrality) imply
+    declared = _declared_ratios(case, system)
+    tally, feed_words = _Tally(), []
     for phase in coexisting:
-        idx = [k for k in system.phase_indices(phase) if k in present_set]
-        outside = [k for k in present if k not in set(idx)]
-        found: list[tuple[dict, str, str, str]] = []   # (vector, origin, text, key path)
-        charges = {k: system.species[k].charge for k in idx if system.species[k].charge != 0}
-        if charges:
-            z = exact.primitive({k: c for k, c in charges.items()})
-            # first, so that a feed relation that coincides with it is the one left out
-            found.append((z, "electroneutrality", relation_text(phase, z, labels), ""))
-        if b is not None and W:
-            # lambda in the left null space of [b | W restricted to present species outside the phase]
-            feed_vectors: list[dict] = []
-            mat = [[b[i]] + [Fraction(W[i].get(k, 0)) for k in outside] for i in range(len(W))]
-            for lam in exact.left_nullspace(mat):
-                u = {}
-                for i, li in enumerate(lam):
-                    if li:
-                        for k in idx:
-                            wk = W[i].get(k, 0)
-                            if wk:
-                                u[k] = u.get(k, 0) + li * wk
-                u = {k: v for k, v in u.items() if v != 0}
-                if u:
-                    feed_vectors.append(u)
-            # same span, written with small integer coefficients a reviewer can read
-            basis_small = exact.small_integer_basis(feed_vectors)
-            for u in basis_small:
-                found.append((u, "feed", relation_text(phase, u, labels), "feed"))
-            words = feed_ratios(W, [c.name for c in analysis.conserved], b, idx, outside, basis_small,
-                                [c.is_element for c in analysis.conserved])
-            if words:
-                feed_words.append((phase, words))
-        # independent feed/electroneutrality relations of this phase
-        for u, origin, text, kp in found:
-            feed_only.add(u)
-            if counted.add(u) is None:
-                relations.append(Relation(phase, tuple(sorted(u.items())), origin, text, kp))
-                r_feed += 1
-        for u, kp, text in declared_by_phase.get(phase, []):
-            rel = Relation(phase, tuple(sorted(u.items())), "declared", f"in phase {phase}: {text}", kp)
-            r_declared += _count_declared(rel, u, counted, feed_only, relations, double)
-    # relations that tie phases together; both normalisations make x(a) - x(c) summed over all
-    # species zero already, so that combination is implied and not counted
-    for r in case.restrictions:
-        if r.kind == "same-composition" and all(p in coexisting for p in r.phases):
-            first = r.phases[0]
-            for other in r.phases[1:]:
-                pairs = matching_species(system, first, other)
-                implied = {}
-                for a, c in pairs:
-                    implied[a], implied[c] = 1, -1
-                counted.add(implied)
-                feed_only.add(implied)
-                new = 0
-                for a, c in pairs:
-                    if counted.add({a: 1, c: -1}) is None:
-                        relations.append(Relation("across phases", ((a, 1), (c, -1)), "declared",
-                                                  f"x({labels[a]}) = x({labels[c]}) (same composition of {first} "
-                                                  f"and {other})", r.key_path))
-                        new += 1
-                r_declared += new
-                if not new:   # the whole declaration repeats what is already counted
-                    double.append(Relation("across phases", (), "implied by the other restrictions",
-                                           f"same composition of {first} and {other}", r.key_path))
+        found, words = _phase_relations(phase, system, analysis, present, W, b)
+        if words:
+            feed_words.append((phase, words))
+        for rel in found:
+            tally.feed(rel)
+        for rel in declared.get(phase, []):
+            tally.declared(rel)
+    _same_composition(case, system, coexisting, tally)
     return PhaseRuleCount(
-        coexisting=tuple(coexisting), present_species=present, n_species=len(present),
-        n_phases=len(coexisting), independent_reactions=m, reactions_present=reactions_present,
-        r_feed=r_feed, r_declared=r_declared, relations=tuple(relations), double_counted=tuple(double),
-        has_feed=case.feed is not None, excluded=tuple(system.labels[k] for k in excluded), empty_phases=empty,
-        feed_words=tuple(feed_words))
+        coexisting=tuple(coexisting), present_species=present, n_present=len(present),
+        n_phases=len(coexisting), independent_reactions=len(basis), reactions_present=reactions_present,
+        r_feed=tally.r_feed, r_declared=tally.r_declared, relations=tuple(tally.relations),
+        double_counted=tuple(tally.double), has_feed=case.feed is not None,
+        excluded=tuple(system.labels[k] for k in excluded), empty_phases=empty, feed_words=tuple(feed_words))
+
+
+count = count_phase_rule          # the name tests and parallel work import

@@ -21,6 +21,7 @@ from typing import Mapping, Sequence
 from . import exact
 from .case import Case
 from .errors import CaseError, EquationError, InputError, Problem
+from .sentences import signed_terms
 from .system import ChemicalSystem, unknown_name_message
 
 Stoich = tuple[tuple[int, int | Fraction], ...]  # exact; int whenever the value is whole
@@ -86,12 +87,6 @@ class ReactionAnalysis:
     @property
     def max_independent(self) -> int:
         return len(self.labels) - self.formula_rank
-
-    def combination_of(self, index: int) -> tuple[tuple[int, Fraction], ...] | None:
-        for d in self.dependent:
-            if d.index == index:
-                return d.combination
-        return None
 
 
 # ------------------------------------------------------------------ equations
@@ -170,7 +165,7 @@ def parse_equation(text: str, system: ChemicalSystem, file: str = "", key_path: 
     return Reaction(text.strip(), stoich)
 
 
-def from_mechanism(system: ChemicalSystem) -> tuple[Reaction, ...]:
+def mechanism_reactions(system: ChemicalSystem) -> tuple[Reaction, ...]:
     """The mechanism's own reactions as :class:`Reaction` records."""
     return tuple(Reaction(r.equation, r.stoich) for r in system.reactions)
 
@@ -220,15 +215,7 @@ def _imbalance(system: ChemicalSystem, columns, stoich: Stoich) -> tuple[tuple[s
 
 
 def _describe_quantity(vec: Mapping[int, Fraction | int], labels: Sequence[str]) -> str:
-    terms = []
-    for k, c in sorted(vec.items()):
-        c = Fraction(c)
-        sign = "-" if c < 0 else "+"
-        mag = abs(c)
-        coef = "" if mag == 1 else exact.format_fraction(mag) + " "
-        terms.append(f"{sign} {coef}n({labels[k]})")
-    text = " ".join(terms)
-    return text[2:] if text.startswith("+ ") else text
+    return signed_terms((c, f"n({labels[k]})") for k, c in sorted(vec.items()))
 
 
 def analyse(system: ChemicalSystem, reactions: Sequence[Reaction],
@@ -373,7 +360,7 @@ def build_reactions(case: Case, system: ChemicalSystem, basis: tuple[Reaction, .
     if case.reactions == "complete":
         return basis if basis is not None else derived_basis(system)
     if case.reactions == "from-mechanism":
-        return from_mechanism(system)
+        return mechanism_reactions(system)
     problems, out = [], []
     for eq, kp in case.reactions:
         try:
@@ -383,3 +370,6 @@ def build_reactions(case: Case, system: ChemicalSystem, basis: tuple[Reaction, .
     if problems:
         raise CaseError(problems)
     return tuple(out)
+
+
+from_mechanism = mechanism_reactions     # the earlier name, kept for callers

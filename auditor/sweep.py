@@ -19,10 +19,16 @@ import json
 import math
 from fractions import Fraction
 from dataclasses import dataclass, replace
-from typing import Callable, Iterable, Sequence
+from typing import TYPE_CHECKING, Callable, Iterable, NamedTuple, Sequence
 
 from .case import Case, load_case, outside_limits, parse_quantity
 from .errors import InputError, Problem
+from .sweep_files import PointResult, csv_text
+from .verdicts import Verdict
+
+if TYPE_CHECKING:
+    from .audit import CountingStages
+    from .equilibrium import Workspace
 
 VARIABLES = {"temperature": ("temperature", "K"), "pressure": ("pressure", "bar")}
 FEED, RATIO, TERNARY = "feed.", "ratio.", "ternary"
@@ -252,41 +258,17 @@ def grid(case: Case, axes: Sequence[Axis]) -> list[Point]:
                   f[0], f[1]) for i, (f, c) in enumerate(order)]
 
 
-@dataclass(frozen=True)
-class PointResult:
-    index: int
-    temperature_K: float | None
-    pressure_Pa: float | None
-    verdict: str
-    phases_present: tuple[str, ...]
-    mole_fractions: tuple[tuple[str, float], ...]   # phase:species -> x
-    phase_moles: tuple[tuple[str, float], ...]
-    message: str = ""
-    coordinates: tuple[tuple[str, float], ...] = ()  # feed-axis values
-    certified: bool = False      # the certificate holds (whatever the phases assumed)
-    route: str = ""              # the solve route that produced the certified state
-    fallback: bool = False       # the first route failed and a later one was needed
+class Prepared(NamedTuple):
+    """What every point of one case's sweep shares in a worker: the case (its varied variables
+    counted as specified), its counting stages and its equilibrium workspace."""
 
-    def to_json(self) -> str:
-        return json.dumps({"index": self.index, "temperature_K": self.temperature_K, "pressure_Pa": self.pressure_Pa,
-                           "verdict": self.verdict, "phases_present": list(self.phases_present),
-                           "mole_fractions": [list(x) for x in self.mole_fractions],
-                           "phase_moles": [list(x) for x in self.phase_moles], "message": self.message,
-                           "coordinates": [list(x) for x in self.coordinates], "certified": self.certified,
-                           "route": self.route, "fallback": self.fallback},
-                          sort_keys=True)
-
-    @classmethod
-    def from_json(cls, text: str) -> "PointResult":
-        d = json.loads(text)
-        return cls(d["index"], d["temperature_K"], d["pressure_Pa"], d["verdict"], tuple(d["phases_present"]),
-                   tuple((a, b) for a, b in d["mole_fractions"]), tuple((a, b) for a, b in d["phase_moles"]),
-                   d.get("message", ""), tuple((a, b) for a, b in d.get("coordinates", ())),
-                   bool(d.get("certified", False)), d.get("route", ""), bool(d.get("fallback", False)))
+    case: Case
+    stages: CountingStages
+    workspace: Workspace
 
 
 @functools.lru_cache(maxsize=8)
-def _prepared(case_path: str, vary: tuple[str, ...]):
+def _prepared(case_path: str, vary: tuple[str, ...]) -> Prepared:
     """Counting stages of a case and its equilibrium workspace, made once per worker process."""
     from .audit import counting_stages
     case = load_case(case_path)
@@ -295,33 +277,35 @@ def _prepared(case_path: str, vary: tuple[str, ...]):
     spec = replace(spec, temperature_K=spec.temperature_K if spec.temperature_K or "temperature" not in vary else 300.0,
                    pressure_Pa=spec.pressure_Pa if spec.pressure_Pa or "pressure" not in vary else 1e5)
     case = replace(case, specified=spec)
-    system, reactions, analysis, count, structure = counting_stages(case)
+    stages = counting_stages(case)
     from .equilibrium import Workspace
     # one workspace per case and worker: every point of the sweep shares its cantera objects
-    return case, system, reactions, analysis, count, structure, Workspace(system, analysis)
+    return Prepared(case, stages, Workspace(stages.system, stages.analysis))
 
 
 def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> PointResult:
     from .equilibrium import certificate_holds, confirm
-    case, system, reactions, analysis, count, structure, workspace = _prepared(case_path, vary)
+    case, stages, workspace = _prepared(case_path, vary)
+    system, reactions, analysis = stages.system, stages.reactions, stages.analysis
+    count, structure = stages.count, stages.specification
     spec = replace(case.specified, temperature_K=point.temperature_K, pressure_Pa=point.pressure_Pa)
     here = replace(case, specified=spec)
     where = (point.index, point.temperature_K, point.pressure_Pa)
     try:
         if point.feed is not None:
             # the feed enters the restriction count; the system and reactions do not change
-            from .phase_rule import count as count_phase_rule
-            from .structure import audit as audit_specification
+            from .phase_rule import count_phase_rule
+            from .structure import audit_specification
             here = replace(here, feed=point.feed)
             count = count_phase_rule(here, system, reactions, analysis)
             structure = audit_specification(here, system, count)
         eq = confirm(here, system, analysis, count, structure, workspace)
     except Exception as exc:  # a point that fails is recorded, never fatal
-        return PointResult(*where, "failed", (), (), (), f"{type(exc).__name__}: {exc}", point.coordinates)
+        return PointResult(*where, Verdict.FAILED, (), (), (), f"{type(exc).__name__}: {exc}", point.coordinates)
     if not eq.solved:
         msg = "; ".join(f.message for f in eq.findings if f.severity != "note") or \
             "; ".join(f.message for f in eq.findings)
-        verdict = structure.status if structure.status != "well-posed" else "not-confirmed"
+        verdict = structure.status if structure.status != Verdict.WELL_POSED else Verdict.NOT_CONFIRMED
         return PointResult(*where, verdict, (), (), (), msg, point.coordinates)
     xs = tuple((f"{p.name}:{k}", round(v, 12)) for p in eq.phases for k, v in p.mole_fractions)
     moles = tuple((p.name, round(p.moles, 12)) for p in eq.phases)
@@ -329,7 +313,8 @@ def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> Point
     certified = certificate_holds(eq)
     # an assumed phase outside its thermo data at this T: the point is not a possible state (as ``check`` says)
     impossible = any(p in count.coexisting for p, _ in eq.set_aside)
-    verdict = "well-posed" if eq.confirmed else "inconsistent" if impossible else "not-confirmed"
+    verdict = (Verdict.WELL_POSED if eq.confirmed else Verdict.INCONSISTENT if impossible
+               else Verdict.NOT_CONFIRMED)
     return PointResult(point.index, eq.temperature_K, eq.pressure_Pa, verdict, eq.phases_present, xs, moles, msg,
                        point.coordinates, certified, eq.route if certified else "", len(eq.attempts) > 1)
 
@@ -348,41 +333,6 @@ def blocks_of(points: Sequence[Point], workers: int, block_size: int | None = No
     return [list(points[i:i + block_size]) for i in range(0, len(points), block_size)]
 
 
-def csv_text(results: Sequence[PointResult]) -> str:
-    """CSV of the sweep in grid order (deterministic: fixed columns, repr of floats)."""
-    import csv
-    import io
-    x_cols: list[str] = []
-    p_cols: list[str] = []
-    for r in results:
-        for k, _ in r.mole_fractions:
-            if k not in x_cols:
-                x_cols.append(k)
-        for k, _ in r.phase_moles:
-            if k not in p_cols:
-                p_cols.append(k)
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    coord_cols: list[str] = []
-    for r in results:
-        for k, _ in r.coordinates:
-            if k not in coord_cols:
-                coord_cols.append(k)
-    w.writerow(["index"] + coord_cols + ["temperature_K", "pressure_Pa", "verdict", "phases_present"]
-               + [f"x[{c}]" for c in x_cols] + [f"moles[{c}]" for c in p_cols] + ["certified", "route", "message"])
-    for r in sorted(results, key=lambda r: r.index):
-        xs, ps, cs = dict(r.mole_fractions), dict(r.phase_moles), dict(r.coordinates)
-        w.writerow([r.index] + [_num(cs.get(c)) for c in coord_cols]
-                   + [_num(r.temperature_K), _num(r.pressure_Pa), r.verdict, " ".join(r.phases_present)]
-                   + [_num(xs.get(c)) for c in x_cols] + [_num(ps.get(c)) for c in p_cols]
-                   + ["yes" if r.certified else "no", r.route, r.message])
-    return buf.getvalue()
-
-
-def _num(v) -> str:
-    return "" if v is None else repr(float(v))
-
-
 def run_sweep(case_path: str, axes: Sequence[Axis], executor, *, done: Iterable[PointResult] = (),
               on_result: Callable[[PointResult], None] | None = None, block_size: int | None = None,
               workers: int = 1) -> list[PointResult]:
@@ -398,7 +348,7 @@ def run_sweep(case_path: str, axes: Sequence[Axis], executor, *, done: Iterable[
     blocks = blocks_of(todo, workers, block_size, getattr(executor, "blocks_per_worker", 8))
     for block, outcome in executor.map_blocks(evaluate_block, [(case_path, vary, b) for b in blocks]):
         if isinstance(outcome, BaseException):
-            outcome = [PointResult(p.index, p.temperature_K, p.pressure_Pa, "failed", (), (), (),
+            outcome = [PointResult(p.index, p.temperature_K, p.pressure_Pa, Verdict.FAILED, (), (), (),
                                    f"{type(outcome).__name__}: {outcome}", p.coordinates) for p in block[2]]
         for r in outcome:
             finished[r.index] = r

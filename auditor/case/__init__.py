@@ -21,10 +21,10 @@ from ..errors import CaseError
 from .conditions import CLAIM_KEYS, RATIO_KEYS, SPECIFIED_KEYS, VERDICTS
 from .load import SYSTEM_KEYS, TOP_KEYS, load_case
 from .quantities import UNIT_KEYS, outside_limits
-from .records import (Case, DeclaredRestriction, MoleFractionSpec, PhaseFractionSpec, RatioSpec, Specified,
-                      SystemSpec, parse_amount, parse_quantity)
+from .records import (EXTENSIVE, INTENSIVE, Case, DeclaredRestriction, MoleFractionSpec, PhaseFractionSpec,
+                      RatioSpec, Specification, Specified, SystemSpec, parse_amount, parse_quantity)
 
 __all__ = ["CaseError", "CLAIM_KEYS", "RATIO_KEYS", "SPECIFIED_KEYS", "VERDICTS", "SYSTEM_KEYS", "TOP_KEYS",
            "load_case", "Case", "DeclaredRestriction", "MoleFractionSpec", "PhaseFractionSpec", "RatioSpec",
-           "Specified", "SystemSpec", "parse_amount", "parse_quantity",
+           "Specified", "Specification", "INTENSIVE", "EXTENSIVE", "SystemSpec", "parse_amount", "parse_quantity",
            "UNIT_KEYS", "outside_limits"]

@@ -3,6 +3,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from ..verdicts import CASE_VERDICTS, Verdict
 from ..yaml_nodes import NodeMapping, NodeReader, kind_of, suggest
 from .quantities import read_condition
 from .records import DeclaredRestriction, MoleFractionSpec, PhaseFractionSpec, RatioSpec, Specified
@@ -10,7 +11,7 @@ from .records import DeclaredRestriction, MoleFractionSpec, PhaseFractionSpec, R
 SPECIFIED_KEYS = ("temperature", "pressure", "mole-fractions", "ratios", "phase-fractions", "adiabatic")
 RATIO_KEYS = ("phase", "numerator", "denominator", "value")
 CLAIM_KEYS = ("independent-reactions", "degrees-of-freedom", "components", "phases-present", "verdict")
-VERDICTS = ("well-posed", "under-specified", "over-specified", "inconsistent", "not-confirmed")
+VERDICTS = tuple(v.value for v in CASE_VERDICTS)    # the words a case file may claim
 
 
 def _read_ratio(rd: NodeReader, node, kp: str) -> RatioSpec | None:
@@ -146,6 +147,7 @@ def read_claims(rd: NodeReader, clnode) -> tuple[tuple[str, Any], ...]:
             if v not in VERDICTS:
                 rd.problem(vn, kp, f"expected one of {', '.join(VERDICTS)}, got {kind_of(v)}")
                 continue
+            v = Verdict(v)
         else:
             continue
         claims.append((key, v))

@@ -39,6 +39,57 @@ class PhaseFractionSpec:
     key_path: str
 
 
+INTENSIVE, EXTENSIVE = "intensive", "extensive"
+
+
+@dataclass(frozen=True)
+class Specification:
+    """One thing the case fixes, as data: what the counting, the incidence and every sentence read.
+
+    ``extent`` decides how it counts (design §2): an intensive one against ``F`` and Duhem's
+    two, an extensive one against Duhem's two only.  ``touches`` names the intensive variables
+    its equation involves (``"T"``, ``"P"``, or ``(species, phase)`` for a mole fraction); an
+    extensive specification has no equation in the intensive incidence.
+    """
+
+    kind: str                   # temperature, pressure, mole-fraction, ratio, phase-fraction, adiabatic
+    symbol: str                 # T, P, x(CO), x(H2)/x(N2), the gas fraction, the enthalpy balance
+    label: str                  # the full name with its value: "mole fraction x(CO) = 0.02 in gas"
+    extent: str                 # INTENSIVE or EXTENSIVE
+    key_path: str               # where the case file states it
+    touches: tuple = ()         # "T", "P" or (species, phase), for an intensive specification
+    value_si: float | None = None   # the value in SI units (K for temperatures), None when dimensionless
+    unit: str = ""              # the SI unit of value_si
+
+    @property
+    def intensive(self) -> bool:
+        return self.extent == INTENSIVE
+
+
+def _specifications(s: "Specified") -> tuple[Specification, ...]:
+    """The records of what ``s`` fixes, in the order the case file's sections are read."""
+    out = []
+    if s.temperature_K is not None:
+        out.append(Specification("temperature", "T", "temperature", INTENSIVE, "specified.temperature", ("T",),
+                                 s.temperature_K, "K"))
+    if s.pressure_Pa is not None:
+        out.append(Specification("pressure", "P", "pressure", INTENSIVE, "specified.pressure", ("P",),
+                                 s.pressure_Pa, "Pa"))
+    out += [Specification("mole-fraction", f"x({m.species})", f"mole fraction x({m.species}) = {m.value:g} in {m.phase}",
+                          INTENSIVE, m.key_path, ((m.species, m.phase),)) for m in s.mole_fractions]
+    out += [Specification("ratio", f"x({r.numerator})/x({r.denominator})",
+                          f"ratio x({r.numerator})/x({r.denominator}) = {r.value:g} in {r.phase}", INTENSIVE,
+                          r.key_path, ((r.numerator, r.phase), (r.denominator, r.phase))) for r in s.ratios]
+    out += [Specification("phase-fraction", f"the {p.phase} fraction", f"phase fraction of {p.phase} = {p.value:g}",
+                          EXTENSIVE, p.key_path) for p in s.phase_fractions]
+    if s.adiabatic_feed_temperature_K is not None:
+        out.append(Specification("adiabatic", "the enthalpy balance",
+                                 f"adiabatic enthalpy balance (feed at {s.adiabatic_feed_temperature_K:g} K)",
+                                 EXTENSIVE, "specified.adiabatic.feed-temperature", (),
+                                 s.adiabatic_feed_temperature_K, "K"))
+    return tuple(out)
+
+
 @dataclass(frozen=True)
 class Specified:
     temperature_K: float | None = None
@@ -47,19 +98,15 @@ class Specified:
     ratios: tuple[RatioSpec, ...] = ()
     phase_fractions: tuple[PhaseFractionSpec, ...] = ()
     adiabatic_feed_temperature_K: float | None = None
+    # the records of all the above, built once when the case is read (and again by ``replace``)
+    specifications: tuple[Specification, ...] = field(init=False, repr=False, compare=False)
+
+    def __post_init__(self):
+        object.__setattr__(self, "specifications", _specifications(self))
 
     def names(self) -> list[str]:
-        out = []
-        if self.temperature_K is not None:
-            out.append("temperature")
-        if self.pressure_Pa is not None:
-            out.append("pressure")
-        out += [f"mole fraction x({m.species}) in {m.phase}" for m in self.mole_fractions]
-        out += [f"ratio x({r.numerator})/x({r.denominator}) in {r.phase}" for r in self.ratios]
-        out += [f"phase fraction of {p.phase}" for p in self.phase_fractions]
-        if self.adiabatic_feed_temperature_K is not None:
-            out.append("adiabatic enthalpy balance")
-        return out
+        """The full names of what is specified, with their values."""
+        return [s.label for s in self.specifications]
 
 
 @dataclass(frozen=True)

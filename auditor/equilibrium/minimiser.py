@@ -13,10 +13,9 @@ Method
 ------
 The element-potential formulation (W. R. Smith and R. W. Missen, *Chemical
 Reaction Equilibrium Analysis: Theory and Algorithms*, Wiley 1982 -- the RAND /
-element-potential methods and the phase-stability test for ideal multiphase
-systems; S. Gordon and B. J. McBride, NASA RP-1311, 1994, Part I -- the Newton
-iteration on element potentials and ln(phase moles) and the test for adding or
-removing condensed phases).  Minimising (P) over the species of one phase at
+element-potential methods, the Newton iteration on element potentials and phase
+amounts, and the phase-stability test for adding or removing phases in ideal
+multiphase systems).  Minimising (P) over the species of one phase at
 fixed element potentials ``lambda`` gives ``x_k = exp(A_k.lambda - g_k)``, so the
 Lagrangian dual of (P) is the small convex program (D) in ``lambda`` alone::
 
@@ -45,7 +44,7 @@ A_k.lambda)) >= 1``).  The solver runs in three stages:
    through ``exp(A_k.lambda - g_k)`` evaluated with a max-shift, so huge
    positive or negative ``g`` and trace species (x ~ 1e-30 or smaller) are
    harmless.  It gives lambda and estimates of the phase amounts.
-2. Active-set Newton polish (Gordon & McBride): Newton's method on the
+2. Active-set Newton polish (Smith & Missen): Newton's method on the
    equations of the present phases -- element balance, ``ln sum x = 0`` for
    present solution phases, ``A_k.lambda = g_k`` for present pure phases -- in
    the unknowns lambda, ln N_p (solution phases) and n_k (pure phases), always

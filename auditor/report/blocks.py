@@ -8,6 +8,7 @@ from dataclasses import dataclass
 
 from ..audit import AuditResult
 from ..exact import format_fraction
+from ..sentences import yes_no
 from . import entered as entered_mod
 from . import svg
 from .text import nonsingular_words
@@ -39,10 +40,6 @@ def items_list(items) -> Block:
 
 def paragraph(text) -> Block:
     return Block("paragraph", text=str(text))
-
-
-def yes_no(v) -> str:
-    return {True: "yes", False: "no", None: "not decided"}[v]
 
 
 def _amount(mol: float, e: entered_mod.Entered) -> str:

@@ -7,6 +7,8 @@ import re
 import sys
 from collections import Counter
 
+from ..verdicts import Verdict
+
 
 def progress_bar(total: int, unit: str, quiet: bool, initial: int = 0, every_update: bool = False):
     """A progress bar (points done, rate, time left) on stderr, drawn only when stdout and stderr are
@@ -57,11 +59,11 @@ def _route_counts(results):
 def sweep_summary(results, ternary: bool, csv_path, svg_path) -> list[str]:
     """The lines printed after a sweep: the counts of its points, the certificate and up to
     five distinct failure messages."""
-    failed = [r for r in results if r.verdict == "failed"]
-    off = [r for r in results if r.verdict != "well-posed"]
+    failed = [r for r in results if r.verdict == Verdict.FAILED]
+    off = [r for r in results if r.verdict != Verdict.WELL_POSED]
     certified = [r for r in results if r.certified]
     if ternary:   # a map asks which phases are present, not whether the assumed ones are
-        sets = Counter(" + ".join(r.phases_present) or "none" for r in results if r.verdict != "failed")
+        sets = Counter(" + ".join(r.phases_present) or "none" for r in results if r.verdict != Verdict.FAILED)
         lines = [f"{len(results)} points: " + ", ".join(f"{n} with {k}" for k, n in sets.most_common())
                  + f", {len(failed)} failed; wrote {csv_path} and {svg_path}"]
     else:

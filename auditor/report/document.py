@@ -91,7 +91,7 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
         "title": r.case.title,
         "verdict": r.verdict,
         "phase_rule": {
-            "species": pr.n_species,
+            "species": pr.n_present,
             "phases": pr.n_phases,
             "independent_reactions": pr.independent_reactions,
             "restrictions": pr.restrictions,

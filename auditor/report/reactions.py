@@ -4,19 +4,13 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..exact import format_fraction
+from ..sentences import imbalance_text, signed_terms
 from ..stoichiometry import ReactionAnalysis
 from ..system import SITES_PREFIX
 
 
 def _combo_text(combination, prefix="#") -> str:
-    parts = []
-    for j, c in combination:
-        sign = "-" if c < 0 else "+"
-        mag = abs(c)
-        coef = "" if mag == 1 else f"{format_fraction(mag)} "
-        parts.append(f"{sign} {coef}{prefix}{j + 1}")
-    text = " ".join(parts)
-    return text[2:] if text.startswith("+ ") else (text or "0 (no net change)")
+    return signed_terms(((c, f"{prefix}{j + 1}") for j, c in combination), empty="0 (no net change)")
 
 
 def _phases_used(system) -> list[dict]:
@@ -155,7 +149,7 @@ def _defect_lines(a: ReactionAnalysis) -> list[str]:
     if a.unbalanced:
         lines += ["", f"Unbalanced reactions ({len(a.unbalanced)}; imbalance = products - reactants):"]
         for u in a.unbalanced:
-            imb = ", ".join(f"{e} {'+' if v > 0 else ''}{format_fraction(v)}" for e, v in u.imbalance)
+            imb = imbalance_text(u.imbalance)
             lines.append(f"  #{u.index + 1}: {a.reactions[u.index].equation}   [{imb}]")
     if a.frozen:
         lines += ["", "Frozen directions (reactions the list cannot produce):"]

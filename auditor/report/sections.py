@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from ..audit import AuditResult, show_value
 from ..exact import format_fraction
+from ..verdicts import Verdict
 from . import entered as entered_mod
 from .blocks import Block, certificate, composition, incidence, yes_no
 from .blocks import items_list as _list
@@ -29,13 +30,10 @@ def _si(value: float, unit: str) -> str:
 
 
 def _spec_si(key: str, case) -> str:
-    s = case.specified
-    if key == "temperature" and s.temperature_K is not None:
-        return _si(s.temperature_K, "K")
-    if key == "pressure" and s.pressure_Pa is not None:
-        return _si(s.pressure_Pa, "Pa")
-    if key.startswith("adiabatic") and s.adiabatic_feed_temperature_K is not None:
-        return _si(s.adiabatic_feed_temperature_K, "K")
+    """A specification's SI value, read from its record (``key`` is its path under ``specified``)."""
+    for s in case.specified.specifications:
+        if s.key_path == f"specified.{key}" and s.value_si is not None:
+            return _si(s.value_si, s.unit)
     return "dimensionless, as written"
 
 
@@ -58,7 +56,7 @@ def _verdict(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
     blocks = [_para(f"Verdict: {doc['verdict']}"), _para(f"Why: {doc['reason']}")]
     if doc["specification"]["suggestion"]:
         blocks.append(_para(f"Suggested fix: {doc['specification']['suggestion']}"))
-    elif doc["verdict"] == "well-posed":
+    elif doc["verdict"] == Verdict.WELL_POSED:
         blocks.append(_para("No change to the specifications is needed."))
     where = sorted({TOPIC_SECTION.get(f["topic"], "Findings") for f in doc["findings"] if f["severity"] == "error"},
                    key=SECTION_TITLES.index)

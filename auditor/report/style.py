@@ -6,6 +6,8 @@ keeps the first few series apart in greyscale print too.
 """
 from __future__ import annotations
 
+from ..verdicts import Verdict
+
 # Series colours for charts (compositions, phase-presence maps), in order of use.
 SERIES = ("#1b6f6a",  # deep teal
           "#c07a12",  # ochre
@@ -31,17 +33,18 @@ AXIS = INK                     # chart frames, axes and legend outlines
 LABEL_HALO = "#ffffff"         # outline behind labels drawn over coloured regions
 
 # Verdict box: (fill, border) per verdict.
+_GOOD, _TO_FIX, _WRONG = ("#e2eee4", "#2f6b45"), ("#f5ecd7", "#9a6a12"), ("#f2e0db", "#8e3b46")
 VERDICT = {
-    "well-posed": ("#e2eee4", "#2f6b45"),
-    "under-specified": ("#f5ecd7", "#9a6a12"),
-    "over-specified": ("#f5ecd7", "#9a6a12"),
-    "inconsistent": ("#f2e0db", "#8e3b46"),
-    "not-confirmed": ("#f2e0db", "#8e3b46"),
+    Verdict.WELL_POSED: _GOOD,
+    Verdict.UNDER_SPECIFIED: _TO_FIX,
+    Verdict.OVER_SPECIFIED: _TO_FIX,
+    Verdict.INCONSISTENT: _WRONG,
+    Verdict.NOT_CONFIRMED: _WRONG,
 }
 
 # Terminal (ANSI SGR codes): verdict words and finding severities on a colour terminal.
-TERMINAL_VERDICT = {"WELL-POSED": "1;32", "UNDER-SPECIFIED": "1;33", "OVER-SPECIFIED": "1;33",
-                    "INCONSISTENT": "1;31", "NOT-CONFIRMED": "1;31"}
+_TERMINAL_TINT = {_GOOD: "1;32", _TO_FIX: "1;33", _WRONG: "1;31"}
+TERMINAL_VERDICT = {v.upper(): _TERMINAL_TINT[tint] for v, tint in VERDICT.items()}
 TERMINAL_SEVERITY = {"error": "31", "warning": "33"}
 
 

@@ -7,6 +7,8 @@ from __future__ import annotations
 
 from typing import Sequence
 
+from ..verdicts import Verdict
+
 from . import svg
 
 DEFAULT_UNIT = {"temperature": "K", "pressure": "bar"}
@@ -101,7 +103,7 @@ def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units:
     axis, unit = axes[0], units[0]
     label = _label(axis.name, unit)
     xs = convert([_value(r, axis.name) for r in results], axis.name, unit)
-    bad = [x for x, r in zip(xs, results) if r.verdict != "well-posed" or set(r.phases_present) != set(assumed)]
+    bad = [x for x, r in zip(xs, results) if r.verdict != Verdict.WELL_POSED or set(r.phases_present) != set(assumed)]
     step = (xs[1] - xs[0]) if len(xs) > 1 else 1.0
     shade = [(x - step / 2, x + step / 2) for x in bad]
     note = "shaded: the assumed phases are not found" if bad else f"assumed phases ({', '.join(assumed)}) found throughout"

@@ -4,6 +4,7 @@ from __future__ import annotations
 import textwrap
 
 from ..audit import AuditResult, show_value
+from ..verdicts import Verdict
 from .text import nonsingular_words, phase_rule_explanation
 from .document import CAUTIONS
 
@@ -20,7 +21,7 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
     out += _wrap(f"Why: {r.reason}", "") if r.reason else []
     out.append("")
     out.append("Phase rule over the phases assumed to coexist:")
-    rows = [("N  phase-species", pr.n_species), ("pi phases", pr.n_phases),
+    rows = [("N  phase-species", pr.n_present), ("pi phases", pr.n_phases),
             ("m  independent reactions", pr.independent_reactions),
             ("r  restrictions (feed + electroneutrality, declared)", f"{pr.restrictions} ({pr.r_feed} + {pr.r_declared})"),
             ("C  components = N - m - r", pr.components), ("F  degrees of freedom = 2 + C - pi", pr.degrees_of_freedom)]
@@ -45,7 +46,7 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
         out += ["Verdict rules as applied:"] + [l for reason in sp.reasons for l in _wrap(reason)]
     if sp.free:
         names = ", ".join(sp.free[:8]) + (f" and {len(sp.free) - 8} more" if len(sp.free) > 8 else "")
-        if sp.status == "well-posed":
+        if sp.status == Verdict.WELL_POSED:
             out += _wrap(f"left free by the intensive specifications and fixed by the extensive one(s): {names}")
         else:
             out += _wrap(f"free (structurally undetermined) variables: {names}")
@@ -114,7 +115,7 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
 def why(r: AuditResult) -> str:
     """Why, in one line: the verdict's reason for a problem; for a well-posed case its first
     warning when it has one, else the reason."""
-    if r.verdict == "well-posed":
+    if r.verdict == Verdict.WELL_POSED:
         warnings_ = [f for f in r.findings if f.severity == "warning"]
         if warnings_:
             return f"warning: {warnings_[0].message.split('; ')[0]}"

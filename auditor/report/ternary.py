@@ -13,6 +13,8 @@ import math
 from html import escape
 from typing import Sequence
 
+from ..verdicts import Verdict
+
 from . import style
 
 WIDTH, HEIGHT = 720, 640
@@ -32,7 +34,7 @@ def _at(fr: Sequence[float]) -> tuple[float, float]:
 
 
 def _label(r) -> str:
-    if r.verdict == "failed" or (not r.phases_present and not r.certified):
+    if r.verdict == Verdict.FAILED or (not r.phases_present and not r.certified):
         return "not solved"
     return " + ".join(r.phases_present) + ("" if r.certified else " (not certified)")
 
@@ -53,7 +55,7 @@ def _colours(pts) -> tuple[list[str], dict[str, str]]:
     labels.sort(key=lambda lab: (lab == "not solved", "(not certified)" in lab, -sum(1 for p in pts if p[1] == lab)))
     colour = {lab: style.series(i) for i, lab in enumerate(labels)}
     if "not solved" in colour:
-        colour["not solved"] = style.VERDICT["not-confirmed"][1]
+        colour["not solved"] = style.VERDICT[Verdict.NOT_CONFIRMED][1]
     return labels, colour
 
 

@@ -7,14 +7,10 @@ import math
 from typing import TYPE_CHECKING
 
 from ..phase_rule import PhaseRuleCount
+from ..sentences import yes_no
 
 if TYPE_CHECKING:   # the stage is imported only where a case is confirmed (cold start)
     from ..equilibrium import EquilibriumCheck
-
-
-def yes_no(flag: bool | None) -> str:
-    """A flag in words: yes, no, or "not decided" when there is none."""
-    return "not decided" if flag is None else ("yes" if flag else "no")
 
 
 def nonsingular_words(test: str, rcond: float | None) -> str:
@@ -32,7 +28,7 @@ def _sci(x: float | None) -> str:
 def phase_rule_explanation(pr: PhaseRuleCount) -> list[str]:
     """The count, term by term, in words a reviewer can follow."""
     lines = [
-        f"N = {pr.n_species}: phase-species in the phases assumed to coexist ({', '.join(pr.coexisting)})"
+        f"N = {pr.n_present}: phase-species in the phases assumed to coexist ({', '.join(pr.coexisting)})"
         + (f", leaving out {', '.join(pr.excluded)} (none can form from this feed)"
            if pr.excluded else ""),
         f"pi = {pr.n_phases}: phases assumed to coexist",
@@ -45,7 +41,7 @@ def phase_rule_explanation(pr: PhaseRuleCount) -> list[str]:
         lines.append(f"    {rel.origin}: {rel.text}")
     for rel in pr.double_counted:
         lines.append(f"    declared but already {rel.origin} (counted once): {rel.text}")
-    lines.append(f"C = N - m - r = {pr.n_species} - {pr.independent_reactions} - {pr.restrictions} = {pr.components} components")
+    lines.append(f"C = N - m - r = {pr.n_present} - {pr.independent_reactions} - {pr.restrictions} = {pr.components} components")
     lines.append(f"F = 2 + C - pi = 2 + {pr.components} - {pr.n_phases} = {pr.degrees_of_freedom} "
                  "intensive variables may be fixed independently")
     if pr.has_feed:

@@ -135,3 +135,20 @@ def search_species(query: str, limit: int = 40) -> list[dict]:
     for h in hits:
         del h["_rank"]
     return hits[:limit]
+
+
+def find_species(query: str, limit: int = 40) -> list[dict]:
+    """What ``auditor species`` lists: species a common name stands for (marked with it) first,
+    then the database matches of the query itself, each once, at most ``limit``."""
+    from ..common_names import lookup
+    hits, seen = [], set()
+    for common, name in lookup(query):
+        for h in search_species(name, limit=limit):
+            if h["name"] == name and name not in seen:
+                seen.add(name)
+                hits.append(dict(h, common_name=common))
+    for h in search_species(query, limit=limit):
+        if h["name"] not in seen:
+            seen.add(h["name"])
+            hits.append(h)
+    return hits[:limit]

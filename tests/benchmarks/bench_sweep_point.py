@@ -42,7 +42,8 @@ def grid_axes():
 
 def bare_round(points, vary) -> float:
     """Every point solved by cantera's vcs on the tool's own phases, from the feed."""
-    case, system, _, _, _, _, ws = sweep._prepared(CASE, vary)
+    prepared = sweep._prepared(CASE, vary)
+    case, system, ws = prepared.case, prepared.stages.system, prepared.workspace
     from auditor.equilibrium.workspace import feed_vector
     import cantera as ct
     n0 = feed_vector(case, system)
