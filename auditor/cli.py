@@ -328,21 +328,32 @@ def _cmd_species(args) -> int:
     from .common_names import lookup
     from .system import search_species
     hits, seen = [], set()
-    for common, name in lookup(args.query):
-        for h in search_species(name, limit=args.limit):
-            if h["name"] == name and name not in seen:
-                seen.add(name)
-                hits.append(dict(h, common_name=common))
+    common_names = lookup(args.query)
+    exact = " ".join(args.query.lower().split())
+
+    def add_common(names):
+        for common, name in names:
+            for h in search_species(name, limit=args.limit):
+                if h["name"] == name and name not in seen:
+                    seen.add(name)
+                    hits.append(dict(h, common_name=common))
+    # a common name as typed, then the search (an element's own species), then longer common names
+    add_common([c for c in common_names if c[0] == exact])
     for h in search_species(args.query, limit=args.limit):
         if h["name"] not in seen:
             seen.add(h["name"])
             hits.append(h)
+    add_common([c for c in common_names if c[0] != exact])
     hits = hits[:args.limit]
     if args.json:
         print(json.dumps(hits, indent=1))
         return EXIT_OK if hits else EXIT_PROBLEM
     if not hits:
-        print(f"no species in the packaged databases matches {args.query!r}")
+        from .system import species_suggestions
+        close = species_suggestions(args.query)
+        print(f"no species in the packaged databases matches {args.query!r}"
+              + (f"; did you mean {close[0]}? (other close names: {', '.join(close[1:])})" if len(close) > 1
+                 else f"; did you mean {close[0]}?" if close else ""))
         return EXIT_PROBLEM
     from .report.console import species_table
     print("\n".join(species_table(hits)))

@@ -18,13 +18,14 @@ from .from_case import build_system, check_names, feed_moles, matching_species
 from .mechanism import cantera_phase, from_mechanism, load_phases
 from .mechanism_file import (alternative_pairs, alternatives_message, are_alternatives, default_phases,
                              mechanism_phase_entries, mechanism_phase_names, shipped_data_file)
-from .packaged import from_packaged, packaged_species, same_formula_species, search_species
+from .packaged import (from_packaged, packaged_species, same_formula_species, search_species,
+                       species_suggestions)
 from .records import (CHARGE, CONDENSED_DATABASE, GAS_DATABASE, INTERFACE_MODELS, SITES_PREFIX, ChemicalSystem,
                       Formula, MechanismReaction, PhaseDef, SpeciesDef, unknown_name_message)
 
 __all__ = ["build_system", "check_names", "feed_moles", "matching_species", "alternative_pairs",
            "alternatives_message", "are_alternatives", "cantera_phase", "default_phases", "from_mechanism",
            "load_phases", "mechanism_phase_entries", "mechanism_phase_names", "shipped_data_file", "from_packaged",
-           "packaged_species", "same_formula_species", "search_species", "CHARGE", "CONDENSED_DATABASE", "GAS_DATABASE",
+           "packaged_species", "same_formula_species", "search_species", "species_suggestions", "CHARGE", "CONDENSED_DATABASE", "GAS_DATABASE",
            "INTERFACE_MODELS", "SITES_PREFIX", "ChemicalSystem", "Formula", "MechanismReaction", "PhaseDef",
            "SpeciesDef", "unknown_name_message"]
