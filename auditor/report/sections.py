@@ -87,12 +87,7 @@ def _case_as_entered(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[
         blocks.append(_table(("reaction", "equation as written"),
                              [(i + 1, eq) for i, (eq, _) in enumerate(case.reactions)], "Reactions as listed"))
     if case.feed is not None:
-        si = {}
-        for name, a in case.feed:
-            si[name] = si.get(name, 0.0) + float(a)
-        blocks.append(_table(("species", "amount as entered", "amount, mol (SI)"),
-                             [(name, text, f"{si.get(name, 0.0):.10g}") for name, text in e.feed],
-                             f"Feed (results are given in {e.amount_unit})"))
+        blocks.append(_feed_table(r, e))
     else:
         blocks.append(_para("No feed: an intensive problem (no Gibbs minimisation)."))
     blocks.append(_table(("specification", "as written", "SI value"),
@@ -103,6 +98,28 @@ def _case_as_entered(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[
     if e.text:
         blocks.append(Block("file", text=e.text, caption=f"Case file {e.path} (SHA-256 {e.sha256})"))
     return blocks
+
+
+def _feed_table(r: AuditResult, e: entered_mod.Entered) -> Block:
+    """The feed as written beside its amount in mol; a mass is converted with the species'
+    molar mass, shown in its own column."""
+    from ..system import feed_moles
+    mol = {}
+    for name, a in feed_moles(r.case, r.system) or ():
+        mol[name] = mol.get(name, 0.0) + float(a)
+    mass = r.case.feed_mass
+    units = " and ".join(e.feed_units) or "mol"
+    headers = ["species", "amount as entered", "amount, mol (SI)"]
+    if mass:
+        headers.insert(2, "molar mass, g/mol")
+    rows = []
+    for name, text in e.feed:
+        row = [name, text, f"{mol.get(name, 0.0):.10g}"]
+        if mass:
+            hit = r.system.find(name)
+            row.insert(2, f"{r.system.species[hit[0]].molar_mass:.6g}" if name in mass and hit else "-")
+        rows.append(row)
+    return _table(headers, rows, f"Feed (entered in {units}; results are given in {e.amount_unit})")
 
 
 def _provenance(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
