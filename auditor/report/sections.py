@@ -16,6 +16,7 @@ from .blocks import items_list as _list
 from .blocks import paragraph as _para
 from .blocks import table as _table
 from .document import check_document
+from .wording import remedy, tolerance_rows
 
 # where a finding of each topic is stated in full (titles of SECTIONS, at the end)
 TOPIC_SECTION = {"reactions": "Reactions", "phase-rule": "Phase rule", "specification": "Specification audit",
@@ -58,6 +59,8 @@ def _verdict(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
     blocks = [_para(f"Verdict: {doc['verdict']}"), _para(f"Why: {doc['reason']}")]
     if doc["specification"]["suggestion"]:
         blocks.append(_para(f"Suggested fix: {doc['specification']['suggestion']}"))
+    elif remedy(doc):
+        blocks.append(_para(f"Suggested fix: {remedy(doc)}."))
     elif doc["verdict"] == "well-posed":
         blocks.append(_para("No change to the specifications is needed."))
     where = sorted({TOPIC_SECTION.get(f["topic"], "Findings") for f in doc["findings"] if f["severity"] == "error"},
@@ -241,7 +244,16 @@ def _specification(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Bl
         _para("Verdict rules as applied:"), _list(sp["rules_applied"]),
         _para(f"Free variables: {', '.join(sp['free']) or 'none'}"),
         _para(f"Conflicting specifications: {'; '.join(sp['conflicting']) or 'none'}"),
-        _para(f"Suggested fix: {sp['suggestion'] or 'none needed'}")]
+        _para(f"Suggested fix: {_spec_fix(sp, doc)}")]
+
+
+def _spec_fix(sp: dict, doc: dict) -> str:
+    """The specification's own fix; when the specifications are complete but the verdict is not
+    well-posed, the remedy for what the equilibrium found."""
+    if sp["suggestion"]:
+        return sp["suggestion"]
+    fix = remedy(doc)
+    return f"none to the specifications (they are complete); for the verdict: {fix}" if fix else "none needed"
 
 
 def _equilibrium(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
@@ -277,7 +289,7 @@ def _assumptions(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Bloc
         blocks.append(_table(("species", "density kg/m3", "source"),
                              [(d["species"], d["density_kg_m3"], d["source"]) for d in eq["assumed_densities"]],
                              "Densities assumed"))
-    blocks.append(_table(("tolerance", "value"), sorted(doc["tolerances"].items()), "Named tolerances"))
+    blocks.append(_table(("tolerance", "value", "unit"), tolerance_rows(doc["tolerances"]), "Named tolerances"))
     blocks.append(_table(("species", "thermo data range, K"),
                          [(s["label"], f"{s['thermo_range_K'][0]:g} - {s['thermo_range_K'][1]:g}")
                           for s in doc["system"]["species"]],

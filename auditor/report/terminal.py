@@ -5,7 +5,7 @@ import textwrap
 
 from ..audit import AuditResult, show_value
 from .text import composition_entries, left_out_words, nonsingular_words, phase_rule_explanation
-from .document import CAUTIONS
+from .document import case_cautions
 
 WIDTH = 100
 
@@ -64,7 +64,7 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
         out += ["", "Findings:"]
         for f in r.findings:
             out += _wrap(f"[{f.severity}] {f.topic}: {f.message}")
-    out += ["", "Cautions:"] + [l for c in CAUTIONS for l in _wrap(c)]
+    out += ["", "Cautions:"] + [l for c in case_cautions(r) for l in _wrap(c)]
     return "\n".join(out) + "\n"
 
 
