@@ -276,11 +276,13 @@ def _run_points(args, case, axes, journal: Path, header: str, done: list) -> lis
 def _sweep_picture(args, case, axes, results) -> str:
     """The ternary map, or the plot of the swept axes."""
     if args.ternary:
+        from .report.sweep_plot import picture_stamp
         from .report.ternary import ternary_svg
         s, written = case.specified, case.as_written       # T and P as the case file writes them
         return ternary_svg(results, axes[0].elements, args.divisions,
                            f"T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
-                           f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title)
+                           f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title,
+                           picture_stamp(case))
     from .report.sweep_plot import sweep_svg, unit_of
     assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
     return sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary])
