@@ -248,11 +248,13 @@ def _run_points(args, case, axes, journal: Path, header: str, done: list) -> lis
 def _sweep_picture(args, case, axes, results) -> str:
     """The ternary map, or the plot of the swept axes."""
     if args.ternary:
+        from .report.sweep_plot import picture_stamp
         from .report.ternary import ternary_svg
         s, written = case.specified, case.as_written       # T and P as the case file writes them
         return ternary_svg(results, axes[0].elements, args.divisions,
                            f"T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
-                           f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title)
+                           f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title,
+                           picture_stamp(case))
     from .report.sweep_plot import sweep_svg, unit_of
     assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
     return sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary])
@@ -303,7 +305,11 @@ def _cmd_species(args) -> int:
         print(json.dumps(hits, indent=1))
         return EXIT_OK if hits else EXIT_PROBLEM
     if not hits:
-        print(f"no species in the packaged databases matches {args.query!r}")
+        from .system import species_suggestions
+        close = species_suggestions(args.query)
+        print(f"no species in the packaged databases matches {args.query!r}"
+              + (f"; did you mean {close[0]}? (other close names: {', '.join(close[1:])})" if len(close) > 1
+                 else f"; did you mean {close[0]}?" if close else ""))
         return EXIT_PROBLEM
     from .report.console import species_table
     print("\n".join(species_table(hits)))

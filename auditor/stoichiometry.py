@@ -149,7 +149,8 @@ def parse_equation(text: str, system: ChemicalSystem, file: str = "", key_path: 
                     coef_text, name = m2.group(1), m2.group(2)
                     hits = system.find(name)
             if not hits:
-                fail(unknown_name_message("species", name, system.labels, f"equation {text!r}"))
+                fail(unknown_name_message("species", name, system.labels, f"equation {text!r}",
+                                         {s.label: s.formula for s in system.species}))
             if len(hits) > 1:
                 options = ", ".join(system.labels[h] for h in hits)
                 fail(f"species {name!r} in equation {text!r} is in several phases; write one of {options}")

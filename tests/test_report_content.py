@@ -69,7 +69,7 @@ def reports(tmp_path_factory):
 
 def test_feed_in_kmol_appears_as_entered_and_results_in_kmol(reports):
     md = reports[KMOL.stem][".md"]
-    feed = md_table(md, "Feed (results are given in kmol)")
+    feed = md_table(md, "Feed (entered in kmol; results are given in kmol)")
     assert feed[0] == ["species", "amount as entered", "amount, mol (SI)"]
     # by hand from the case file: 120 kmol CH4, 360 kmol H2O, 2.4 kmol N2
     assert feed[1:] == [["CH4", "120 kmol", "120000"], ["H2O", "360 kmol", "360000"], ["N2", "2.4 kmol", "2400"]]

@@ -104,7 +104,18 @@ def composition(eq: dict, e: entered_mod.Entered, coexisting) -> Block:
             row += ["", ""] if x is None else [_amount(p["moles"] * x, e), f"{x:.6g}"]
         rows.append(row)
     rows.append(["phase total"] + [x for p in phases for x in (_amount(p["moles"], e), "1" if p["moles"] > 0 else "")])
-    return table(headers, rows, f"Equilibrium composition (amounts in {e.amount_unit}, the unit of the feed)")
+    if e.unit_is_the_feeds:
+        unit_words = f"amounts in {e.amount_unit}, the unit of the feed"
+    else:
+        unit_words = (f"amounts in {e.amount_unit}; the feed was written in {' and '.join(e.feed_units)} and "
+                      "converted to mol" + (", a mass with each species' molar mass" if _has_mass(e) else "")
+                      if e.feed_units
+                      else f"amounts in {e.amount_unit}")
+    return table(headers, rows, f"Equilibrium composition ({unit_words})")
+
+
+def _has_mass(e: entered_mod.Entered) -> bool:
+    return any(entered_mod._molar_unit(u) is None for u in e.feed_units)
 
 
 def route_text(eq: dict) -> str:

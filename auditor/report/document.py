@@ -15,15 +15,22 @@ if TYPE_CHECKING:   # the stage is imported only where a case is confirmed (cold
 
 SCHEMA = 1
 
+HAZARD_CAUTION = "(the hazardous species of the case)"   # replaced by case_cautions
 CAUTIONS = (
     "Equilibrium says where a system would go, not how fast or how violently: this audit is no "
     "substitute for kinetic, hazard (HAZOP, LOPA) or relief analysis.",
-    "Many species here are toxic, flammable or asphyxiant (e.g. CO, H2, CH4, NH3, HCl); handle "
-    "them under your site's safety rules.",
+    HAZARD_CAUTION,
     "Thermodynamic data are valid only inside their stated temperature ranges; results outside "
     "them are extrapolations.",
     "Follow local codes and standards and licensed engineering practice; this tool does not replace them.",
 )
+
+
+def case_cautions(r) -> list[str]:
+    """The cautions, the hazardous species named from the case's own species."""
+    from .wording import hazard_caution
+    names = [sp.name for sp in r.system.species]
+    return [hazard_caution(names) if c == HAZARD_CAUTION else c for c in CAUTIONS]
 
 
 def _claim_value(v):
@@ -144,7 +151,7 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
         "reason": r.reason,
         "tolerances": dict(TOLERANCES),
         "tool": {"name": "auditor", "version": __version__},
-        "cautions": list(CAUTIONS),
+        "cautions": case_cautions(r),
     }
     doc["reactions"]["duplicates"] = [{"equation": eqs[g.representative],
                                        "members": [{"equation": eqs[i], "factor": format_fraction(f)} for i, f in g.members]}

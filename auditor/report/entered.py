@@ -25,6 +25,12 @@ class Entered:
     claims: tuple[tuple[str, str], ...]      # (claim, value as written)
     amount_unit: str                         # unit of amounts in the report
     mol_per_unit: float                      # mol in one amount_unit
+    feed_units: tuple[str, ...] = ()         # the units the feed was written in, first use first
+
+    @property
+    def unit_is_the_feeds(self) -> bool:
+        """Whether every feed amount was written in the report's amount unit."""
+        return self.feed_units == (self.amount_unit,)
 
 
 def _flat(text: str) -> str:
@@ -83,6 +89,20 @@ def amount_unit(feed_texts) -> tuple[str, float]:
     return "mol", 1.0
 
 
+def feed_units(feed_texts) -> tuple[str, ...]:
+    """The distinct units of the feed as written ("mol" for a bare number), in first-use order."""
+    from ..units import split
+    out = []
+    for _, t in feed_texts:
+        try:
+            unit = split(t, "amount")[2] or "mol"
+        except ValueError:
+            continue
+        if unit not in out:
+            out.append(unit)
+    return tuple(out)
+
+
 def feed_as_written(case) -> list[tuple[str, str]]:
     """(species, amount as written) in file order, from the loader's record of the text."""
     written = [(kp[len("feed."):], t) for kp, t in case.as_written.items() if kp.startswith("feed.")]
@@ -128,4 +148,5 @@ def read(case) -> Entered:
     unit, scale = amount_unit(feed)
     return Entered(path=path, text=text, sha256=hashlib.sha256(raw).hexdigest() if raw else "",
                    source=source, feed=tuple(feed), specified=tuple(specified), restrictions=tuple(restrictions),
-                   claims=tuple(claims), amount_unit=unit, mol_per_unit=scale)
+                   claims=tuple(claims), amount_unit=unit, mol_per_unit=scale,
+                   feed_units=feed_units(feed))

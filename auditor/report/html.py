@@ -52,9 +52,12 @@ pre{{white-space:pre-wrap;font-size:.85em;background:{style.PAPER_TINT};padding:
 @media print{{
   body{{margin:0;max-width:none;font-size:10pt}}
   h1,h2{{break-after:avoid}}
-  caption,figcaption{{break-after:avoid}}
+  caption,figcaption,summary{{break-after:avoid}}
   tr,figure,.verdict-box,.signoff{{break-inside:avoid}}
   table{{break-inside:auto}}
+  thead{{break-after:avoid}}
+  tbody tr:first-child,tbody tr:nth-child(2){{break-before:avoid}}
+  pre{{orphans:4;widows:3}}
   details::details-content{{content-visibility:visible;display:block}}
   summary{{list-style:none}}
 }}

@@ -17,6 +17,7 @@ from .blocks import items_list as _list
 from .blocks import paragraph as _para
 from .blocks import table as _table
 from .document import check_document
+from .wording import remedy, tolerance_rows
 
 # where a finding of each topic is stated in full (titles of SECTIONS, at the end)
 TOPIC_SECTION = {"reactions": "Reactions", "phase-rule": "Phase rule", "specification": "Specification audit",
@@ -56,6 +57,8 @@ def _verdict(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
     blocks = [_para(f"Verdict: {doc['verdict']}"), _para(f"Why: {doc['reason']}")]
     if doc["specification"]["suggestion"]:
         blocks.append(_para(f"Suggested fix: {doc['specification']['suggestion']}"))
+    elif remedy(doc):
+        blocks.append(_para(f"Suggested fix: {remedy(doc)}."))
     elif doc["verdict"] == Verdict.WELL_POSED:
         blocks.append(_para("No change to the specifications is needed."))
     where = sorted({TOPIC_SECTION.get(f["topic"], "Findings") for f in doc["findings"] if f["severity"] == "error"},
@@ -85,12 +88,7 @@ def _case_as_entered(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[
         blocks.append(_table(("reaction", "equation as written"),
                              [(i + 1, eq) for i, (eq, _) in enumerate(case.reactions)], "Reactions as listed"))
     if case.feed is not None:
-        si = {}
-        for name, a in case.feed:
-            si[name] = si.get(name, 0.0) + float(a)
-        blocks.append(_table(("species", "amount as entered", "amount, mol (SI)"),
-                             [(name, text, f"{si.get(name, 0.0):.10g}") for name, text in e.feed],
-                             f"Feed (results are given in {e.amount_unit})"))
+        blocks.append(_feed_table(r, e))
     else:
         blocks.append(_para("No feed: an intensive problem (no Gibbs minimisation)."))
     blocks.append(_table(("specification", "as written", "SI value"),
@@ -101,6 +99,28 @@ def _case_as_entered(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[
     if e.text:
         blocks.append(Block("file", text=e.text, caption=f"Case file {e.path} (SHA-256 {e.sha256})"))
     return blocks
+
+
+def _feed_table(r: AuditResult, e: entered_mod.Entered) -> Block:
+    """The feed as written beside its amount in mol; a mass is converted with the species'
+    molar mass, shown in its own column."""
+    from ..system import feed_moles
+    mol = {}
+    for name, a in feed_moles(r.case, r.system) or ():
+        mol[name] = mol.get(name, 0.0) + float(a)
+    mass = r.case.feed_mass
+    units = " and ".join(e.feed_units) or "mol"
+    headers = ["species", "amount as entered", "amount, mol (SI)"]
+    if mass:
+        headers.insert(2, "molar mass, g/mol")
+    rows = []
+    for name, text in e.feed:
+        row = [name, text, f"{mol.get(name, 0.0):.10g}"]
+        if mass:
+            hit = r.system.find(name)
+            row.insert(2, f"{r.system.species[hit[0]].molar_mass:.6g}" if name in mass and hit else "-")
+        rows.append(row)
+    return _table(headers, rows, f"Feed (entered in {units}; results are given in {e.amount_unit})")
 
 
 def _provenance(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
@@ -222,7 +242,16 @@ def _specification(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Bl
         _para("Verdict rules as applied:"), _list(sp["rules_applied"]),
         _para(f"Free variables: {', '.join(sp['free']) or 'none'}"),
         _para(f"Conflicting specifications: {'; '.join(sp['conflicting']) or 'none'}"),
-        _para(f"Suggested fix: {sp['suggestion'] or 'none needed'}")]
+        _para(f"Suggested fix: {_spec_fix(sp, doc)}")]
+
+
+def _spec_fix(sp: dict, doc: dict) -> str:
+    """The specification's own fix; when the specifications are complete but the verdict is not
+    well-posed, the remedy for what the equilibrium found."""
+    if sp["suggestion"]:
+        return sp["suggestion"]
+    fix = remedy(doc)
+    return f"none to the specifications (they are complete); for the verdict: {fix}" if fix else "none needed"
 
 
 def _equilibrium(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
@@ -264,7 +293,7 @@ def _assumptions(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Bloc
     if doc.get("real_gas") and doc["real_gas"]["constants_sources"]:
         blocks.append(_table(("species", "source of critical constants"), sorted(doc["real_gas"]["constants_sources"].items()),
                              f"Critical constants for the ideal-gas check ({doc['real_gas']['model']})"))
-    blocks.append(_table(("tolerance", "value"), sorted(doc["tolerances"].items()), "Named tolerances"))
+    blocks.append(_table(("tolerance", "value", "unit"), tolerance_rows(doc["tolerances"]), "Named tolerances"))
     blocks.append(_table(("species", "thermo data range, K"),
                          [(s["label"], f"{s['thermo_range_K'][0]:g} - {s['thermo_range_K'][1]:g}")
                           for s in doc["system"]["species"]],

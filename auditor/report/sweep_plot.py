@@ -5,6 +5,7 @@ and the swept variable in the unit the user gave on the command line (``degC`` s
 """
 from __future__ import annotations
 
+from pathlib import Path
 from typing import Sequence
 
 from ..verdicts import Verdict
@@ -63,6 +64,17 @@ def _fixed(case, axes) -> list[str]:
     return lines
 
 
+def picture_stamp(case) -> str:
+    """The tool's version and the case file's SHA-256, printed on every picture so that a
+    picture found alone can be traced to what made it."""
+    from .. import __version__
+    if case is None:
+        return f"auditor {__version__}"
+    from .entered import read
+    e = read(case)
+    return f"auditor {__version__}; case file {Path(str(case.path)).name}, SHA-256 {e.sha256 or '(could not be read)'}"
+
+
 def _value(r, name: str) -> float:
     """The swept variable at one point, in SI (K, Pa, mol) or as a plain ratio; NaN when unknown."""
     if name in FIELD:
@@ -89,7 +101,7 @@ def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units:
     """The sweep's picture; ``units`` are the units the user gave per axis (default K and bar)."""
     units = list(units or [DEFAULT_UNIT[a.name] for a in axes])
     title = case.title if case is not None else "sweep"
-    fixed = _fixed(case, axes)
+    fixed = _fixed(case, axes) + [picture_stamp(case)]
     if len(axes) == 2:
         a0, a1 = axes
         xs, ys = convert(a0.values, a0.name, units[0]), convert(a1.values, a1.name, units[1])

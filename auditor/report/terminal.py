@@ -5,8 +5,8 @@ import textwrap
 
 from ..audit import AuditResult, show_value
 from ..verdicts import Verdict
-from .text import nonsingular_words, phase_rule_explanation
-from .document import CAUTIONS
+from .text import composition_entries, left_out_words, nonsingular_words, phase_rule_explanation
+from .document import case_cautions
 
 WIDTH = 100
 
@@ -65,12 +65,26 @@ def audit_text(r: AuditResult, explain: bool = False) -> str:
         out += ["", "Findings:"]
         for f in r.findings:
             out += _wrap(f"[{f.severity}] {f.topic}: {f.message}")
-    out += ["", "Cautions:"] + [l for c in CAUTIONS for l in _wrap(c)]
+    out += ["", "Cautions:"] + [l for c in case_cautions(r) for l in _wrap(c)]
     return "\n".join(out) + "\n"
 
 
 def _fmt(x, why: str = "not computed") -> str:
     return f"n/a ({why})" if x is None else f"{x:.2e}"
+
+
+def _entry_lines(head: str, entries: list[str], tail: str) -> list[str]:
+    """``head`` then the entries, wrapped to WIDTH between entries (a name never parted from its
+    value), then ``tail``."""
+    lines, line = [], head
+    for i, item in enumerate(entries):
+        item += "," if i < len(entries) - 1 else ""
+        if len(line) + len(item) + 1 > WIDTH and line.strip():
+            lines.append(line.rstrip())
+            line = "    "
+        line += ("" if line.endswith((": ", "    ")) else " ") + item
+    lines.append(line.rstrip())
+    return lines + [l for l in _wrap(tail.lstrip("; ").capitalize(), "    ")] if tail else lines
 
 
 def equilibrium_lines(r: AuditResult) -> list[str]:
@@ -88,8 +102,9 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
     for p in eq.phases:
         if p.moles <= 0:
             continue
-        major = sorted(p.mole_fractions, key=lambda kv: -kv[1])[:8]
-        out.append(f"  {p.name}: {p.moles / mol_per_unit:.6g} {amount_unit}; x: " + ", ".join(f"{k} {v:.4g}" for k, v in major))
+        shown, left_out = composition_entries(p.mole_fractions)
+        out += _entry_lines(f"  {p.name}: {p.moles / mol_per_unit:.6g} {amount_unit}; x: ", shown,
+                            left_out_words(left_out))
     unique = f"{yes[eq.unique]} ({eq.unique_basis})" if eq.unique_basis else yes[eq.unique]
     out.append(f"  certificate: converged {yes[eq.converged]}; unique {unique}; balance error "
                f"{_fmt(eq.element_balance_error)}; largest affinity {_fmt(eq.max_affinity_RT)} RT; potential residual "

@@ -165,9 +165,11 @@ def _legend(pts, labels: list[str], colour: dict[str, str]) -> list[str]:
     return out
 
 
-def ternary_svg(results, elements: Sequence[str], divisions: int, condition: str, title: str = "") -> str:
+def ternary_svg(results, elements: Sequence[str], divisions: int, condition: str, title: str = "",
+                stamp: str = "") -> str:
     """The map as SVG text.  ``results`` carry coordinates ``atoms[E]`` (atom fractions of the
-    three elements); ``condition`` says at what T and P, ``title`` names the case (shown on top)."""
+    three elements); ``condition`` says at what T and P, ``title`` names the case (shown on top),
+    ``stamp`` the tool's version and the case file's hash (shown at the foot)."""
     pts = _points(results, elements, divisions)
     labels, colour = _colours(pts)
     tri = " ".join(f"{x:.2f},{y:.2f}" for x, y in _corners())
@@ -179,6 +181,9 @@ def ternary_svg(results, elements: Sequence[str], divisions: int, condition: str
         "the sides (an element absent) were not computed"
     out.append(f'<text x="{WIDTH / 2:.0f}" y="{HEIGHT - 30:.0f}" text-anchor="middle" font-size="11">'
                f'Each hexagon is one computed composition; {edge_note}. Heavy line: the phase set changes.</text>')
+    if stamp:
+        out.append(f'<text x="{WIDTH / 2:.0f}" y="{HEIGHT - 12:.0f}" text-anchor="middle" font-size="9" '
+                   f'fill="{style.RULE}">{escape(stamp)}</text>')
     out += _legend(pts, labels, colour)
     out.append("</svg>")
     return "\n".join(out) + "\n"

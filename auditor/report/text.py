@@ -49,6 +49,25 @@ def phase_rule_explanation(pr: PhaseRuleCount) -> list[str]:
     return lines
 
 
+# the terminal lists every species at or above this mole fraction, and says how many are below it
+SHOWN_MOLE_FRACTION = 1e-6     # 1 ppm (mol/mol)
+
+
+def composition_entries(mole_fractions) -> tuple[list[str], int]:
+    """("N2 0.5379", ...) for the species at or above SHOWN_MOLE_FRACTION, largest first,
+    and how many species were left out below it."""
+    ordered = sorted(mole_fractions, key=lambda kv: -kv[1])
+    shown = [f"{k} {v:.4g}" for k, v in ordered if v >= SHOWN_MOLE_FRACTION]
+    return shown, len(ordered) - len(shown)
+
+
+def left_out_words(n: int) -> str:
+    """What the composition line says of the species below the threshold ("" when none)."""
+    if not n:
+        return ""
+    return f"; {n} species below {SHOWN_MOLE_FRACTION * 1e6:g} ppm not shown (see --json or --report)"
+
+
 def equilibrium_summary_lines(eq: EquilibriumCheck) -> list[str]:
     """The equilibrium check in a few lines of text."""
     if not eq.solved:
@@ -59,8 +78,8 @@ def equilibrium_summary_lines(eq: EquilibriumCheck) -> list[str]:
     for p in eq.phases:
         if p.moles <= 0:
             continue
-        major = sorted(p.mole_fractions, key=lambda kv: -kv[1])[:8]
-        out.append(f"  {p.name}: {p.moles:.6g} mol; " + ", ".join(f"{k} {v:.4g}" for k, v in major))
+        shown, left_out = composition_entries(p.mole_fractions)
+        out.append(f"  {p.name}: {p.moles:.6g} mol; " + ", ".join(shown) + left_out_words(left_out))
     aside = dict(eq.set_aside)
     absent = ", ".join(f"{n} {d:+.3g}" if math.isfinite(d) else f"{n} cannot form at this T (outside its thermo data)"
                        if n in aside else f"{n} cannot form (needs an element the feed lacks)"

@@ -19,7 +19,8 @@ from .mechanism import cantera_phase, from_mechanism, load_phases
 from .mechanism_file import (alternative_pairs, alternatives_message, are_alternatives, default_phases,
                              display_source, mechanism_phase_entries, mechanism_phase_names, shipped_by,
                              shipped_data_file, shipped_name)
-from .packaged import find_species, from_packaged, packaged_species, same_formula_species, search_species
+from .packaged import (find_species, from_packaged, packaged_species, same_formula_species, search_species,
+                       species_suggestions)
 from .records import (CHARGE, CONDENSED_DATABASE, GAS_DATABASE, INTERFACE_MODELS, SITES_PREFIX, ChemicalSystem,
                       Formula, MechanismReaction, PhaseDef, SpeciesDef, unknown_name_message)
 
@@ -27,6 +28,6 @@ __all__ = ["build_system", "check_names", "feed_moles", "matching_species", "alt
            "alternatives_message", "are_alternatives", "cantera_phase", "default_phases", "from_mechanism",
            "load_phases", "mechanism_phase_entries", "mechanism_phase_names", "shipped_data_file", "shipped_name",
            "shipped_by", "display_source", "from_packaged", "packaged_species", "same_formula_species",
-           "search_species", "find_species", "CHARGE", "CONDENSED_DATABASE", "GAS_DATABASE",
+           "search_species", "find_species", "species_suggestions", "CHARGE", "CONDENSED_DATABASE", "GAS_DATABASE",
            "INTERFACE_MODELS", "SITES_PREFIX", "ChemicalSystem", "Formula", "MechanismReaction", "PhaseDef",
            "SpeciesDef", "unknown_name_message"]

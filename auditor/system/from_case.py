@@ -62,6 +62,7 @@ def check_names(case: Case, system: ChemicalSystem) -> None:
     """Every species and phase the case names must exist in the system; all problems together."""
     problems: list[Problem] = []
     phases = [p.name for p in system.phases]
+    formulas = {s.label: s.formula for s in system.species}
     file = str(case.path)
 
     def phase_ok(name, kp):
@@ -79,7 +80,7 @@ def check_names(case: Case, system: ChemicalSystem) -> None:
         else:
             known, where = list(system.labels), "any phase"
         if not hits:
-            problems.append(Problem(file, _unknown_species(name, known, where), kp, case.line(kp)))
+            problems.append(Problem(file, _unknown_species(name, known, where, formulas), kp, case.line(kp)))
         elif len(hits) > 1:
             problems.append(Problem(file, f"species {name!r} is in several phases; write one of "
                                     + ", ".join(system.labels[h] for h in hits), kp, case.line(kp)))
@@ -137,9 +138,12 @@ def check_names(case: Case, system: ChemicalSystem) -> None:
         raise CaseError(problems)
 
 
-def _unknown_species(name: str, known, where: str) -> str:
-    """'unknown species' with the closest name first, as a question, then the next closest."""
-    close = ranked(name, known)
+def _unknown_species(name: str, known, where: str, formulas=None) -> str:
+    """'unknown species' with the closest name first, as a question, then the next closest:
+    the same chemistry first (a digit/letter confusion undone, the same element counts)."""
+    from .names import chemistry_matches
+    close = chemistry_matches(name, known, formulas)
+    close = (close + [k for k in ranked(name, known) if k not in close])[:4]
     if not close:
         return f"unknown species {name!r} in {where}"
     more = f" (other close names: {', '.join(close[1:])})" if len(close) > 1 else ""

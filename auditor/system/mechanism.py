@@ -239,7 +239,8 @@ def from_mechanism(path: str | Path, phase_names: Sequence[str] | None = None,
                 if nm in known:
                     chosen.append(known[nm])
                 else:
-                    problems.append(Problem(str(path), unknown_name_message("species", nm, list(known), f"phase {name!r}"),
+                    problems.append(Problem(str(path), unknown_name_message(
+                        "species", nm, list(known), f"phase {name!r}", {k: v.composition for k, v in known.items()}),
                                             f"system.phases.{name}[{i}]"))
             sps = chosen
         is_gas = sol.thermo_model in ("ideal-gas", "Redlich-Kwong", "Peng-Robinson", "plasma")

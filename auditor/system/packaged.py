@@ -3,12 +3,12 @@
 from __future__ import annotations
 
 import functools
-import re
 import warnings
 from typing import Mapping, Sequence
 
 from ..errors import MechanismError, Problem
 from .assemble import _assemble, _cantera, _thermo_range
+from .names import element_of_name, parse_formula, split_phase
 from .records import CONDENSED_DATABASE, GAS_DATABASE, ChemicalSystem, unknown_name_message
 
 
@@ -45,7 +45,8 @@ def from_packaged(phases: Mapping[str, Sequence[str]], where: str = "system.phas
                 sps.append(cond_db[name]); kinds.add("condensed")
             else:
                 problems.append(Problem("packaged databases", unknown_name_message(
-                    "species", name, list(gas_db) + list(cond_db), f"{GAS_DATABASE} or {CONDENSED_DATABASE}"),
+                    "species", name, list(gas_db) + list(cond_db), f"{GAS_DATABASE} or {CONDENSED_DATABASE}",
+                    _compositions()),
                     f"{where}.{pname}[{i}]"))
         if len(kinds) > 1:
             problems.append(Problem("packaged databases", f"phase {pname!r} mixes gas species "
@@ -81,6 +82,15 @@ def _without_constants(phase: str, sps) -> list[Problem]:
 
 
 @functools.lru_cache(maxsize=1)
+def _compositions() -> dict[str, dict[str, float]]:
+    """Element counts of every packaged species, by name (gas database first)."""
+    out: dict[str, dict[str, float]] = {}
+    for db in (CONDENSED_DATABASE, GAS_DATABASE):
+        out.update({n: dict(sp.composition) for n, sp in packaged_species(db).items()})
+    return out
+
+
+@functools.lru_cache(maxsize=1)
 def _by_formula() -> dict[tuple, list[tuple[str, str, float, float]]]:
     """Every packaged species by (sorted element amounts, charge): (name, database, t_min, t_max)."""
     out: dict[tuple, list] = {}
@@ -100,55 +110,87 @@ def same_formula_species(formula: Mapping[str, object], charge: float, T: float,
     return sorted(hits, key=lambda h: (h[1] == GAS_DATABASE, h[0]))
 
 
-_FORMULA_TOKEN = re.compile(r"([A-Z][a-z]?)(\d*)")
+def _hit(name: str, sp, db: str, kind: str) -> dict:
+    t_min, t_max = _thermo_range(sp)
+    return {"name": name, "kind": kind, "database": db,
+            "formula": "".join(f"{k}{'' if v == 1 else int(v) if float(v).is_integer() else v}"
+                               for k, v in sp.composition.items() if k != "E"),
+            "charge": int(sp.charge) if float(sp.charge).is_integer() else sp.charge,
+            "t_min": t_min, "t_max": t_max}
 
 
-def _parse_formula(text: str) -> dict[str, int] | None:
-    """``CH4O`` -> {C: 1, H: 4, O: 1}; None when the text is not a plain formula."""
-    if not text or "".join(m.group(0) for m in _FORMULA_TOKEN.finditer(text)) != text:
-        return None
-    out: dict[str, int] = {}
-    for el, n in _FORMULA_TOKEN.findall(text):
-        out[el.upper()] = out.get(el.upper(), 0) + int(n or 1)
-    return out
+def _rank(q: str, name: str, kind: str, comp: dict, charged: bool, formula, phase, element) -> tuple | None:
+    """Where a species stands for query ``q`` (lower first), None when it does not match. Tiers:
+    0 the exact name; 1 the formula read case-sensitively (CS2 is carbon disulphide, not caesium;
+    S(cr) the condensed sulphur, the phase suffix asked for first); 2 a species of the element
+    named (``sulphur``), the pure element first; 3 a name containing the query as written;
+    4 a name containing it in another letter case."""
+    if name == q:
+        return (0,)
+    condensed_asked = phase is not None and phase.lower() not in ("g", "gas")
+    if formula is not None and comp == formula and (phase is None or condensed_asked == (kind == "condensed")):
+        return (1, phase is not None and not name.lower().startswith(f"{split_phase(q)[0]}({phase}".lower()),
+                len(name), name)
+    if element is not None and element in comp:
+        return (2, len(comp), charged, sum(comp.values()), len(name), name)
+    if q in name:
+        return (3, not name.startswith(q), len(name), name)
+    if q.upper() in name.upper():
+        return (4, name.upper() != q.upper(), not name.upper().startswith(q.upper()), len(name), name)
+    return None
 
 
 def search_species(query: str, limit: int = 40) -> list[dict]:
-    """Species of the packaged databases whose name contains ``query`` (any case) or whose
-    formula equals it; exact name matches first."""
+    """Species of the packaged databases matching ``query``: its exact name, its formula read
+    case-sensitively (in any element order, with an optional phase suffix: ``S(cr)``), the
+    element it names (``sulfur``, ``nickel``) or a name containing it.  Names that match only
+    in another letter case (``Cs2`` for ``CS2``) are listed only when nothing matches as written."""
     q = query.strip()
-    formula = _parse_formula(q)
-    hits = []
+    body, phase = split_phase(q)
+    formula = parse_formula(body)
+    formula = {k: float(v) for k, v in formula.items()} if formula else None
+    element = element_of_name(q)
+    ranked = []
     for db, kind in ((GAS_DATABASE, "gas"), (CONDENSED_DATABASE, "condensed")):
         for name, sp in packaged_species(db).items():
-            comp = {k.upper(): v for k, v in sp.composition.items() if k != "E"}
-            by_formula = formula is not None and comp == {k: float(v) for k, v in formula.items()}
-            if q.upper() in name.upper() or by_formula:
-                t_min, t_max = _thermo_range(sp)
-                hits.append({"name": name, "kind": kind, "database": db,
-                             "formula": "".join(f"{k}{'' if v == 1 else int(v) if float(v).is_integer() else v}"
-                                                for k, v in sp.composition.items() if k != "E"),
-                             "charge": int(sp.charge) if float(sp.charge).is_integer() else sp.charge,
-                             "t_min": t_min, "t_max": t_max,
-                             "_rank": (name.upper() != q.upper(), not by_formula, not name.upper().startswith(q.upper()), len(name))})
-    hits.sort(key=lambda h: h["_rank"])
-    for h in hits:
-        del h["_rank"]
-    return hits[:limit]
+            comp = {k: float(v) for k, v in sp.composition.items() if k != "E"}
+            rank = _rank(q, name, kind, comp, bool(sp.charge), formula, phase, element)
+            if rank is not None:
+                ranked.append((rank, name, sp, db, kind))
+    if any(r[0][0] < 4 for r in ranked):
+        ranked = [r for r in ranked if r[0][0] < 4]
+    ranked.sort(key=lambda r: r[0])
+    return [_hit(name, sp, db, kind) for _, name, sp, db, kind in ranked[:limit]]
+
+
+def species_suggestions(query: str, n: int = 5) -> list[str]:
+    """Packaged names closest to a query that matches none, the same chemistry first
+    (``H20`` -> ``H2O``)."""
+    from .records import _close
+    comps = _compositions()
+    return _close(query.strip(), list(comps), n, comps, chemistry=True)
 
 
 def find_species(query: str, limit: int = 40) -> list[dict]:
-    """What ``auditor species`` lists: species a common name stands for (marked with it) first,
-    then the database matches of the query itself, each once, at most ``limit``."""
+    """What ``auditor species`` lists: a common name as typed (marked with it) first, then the
+    database matches of the query itself (an element's own species), then the longer common
+    names that contain the query, each species once, at most ``limit``."""
     from ..common_names import lookup
     hits, seen = [], set()
-    for common, name in lookup(query):
-        for h in search_species(name, limit=limit):
-            if h["name"] == name and name not in seen:
-                seen.add(name)
-                hits.append(dict(h, common_name=common))
+    common_names = lookup(query)
+    exact = " ".join(query.lower().split())
+
+    def add_common(names):
+        for common, name in names:
+            for h in search_species(name, limit=limit):
+                if h["name"] == name and name not in seen:
+                    seen.add(name)
+                    hits.append(dict(h, common_name=common))
+
+    add_common([c for c in common_names if c[0] == exact])
     for h in search_species(query, limit=limit):
         if h["name"] not in seen:
             seen.add(h["name"])
             hits.append(h)
+    add_common([c for c in common_names if c[0] != exact])
     return hits[:limit]

@@ -172,15 +172,23 @@ def _label_index(labels: tuple[str, ...]) -> dict[str, int]:
     return {lab: i for i, lab in enumerate(labels)}
 
 
-def _close(name: str, known: Sequence[str], n: int = 5) -> list[str]:
-    """Closest names, comparing case-insensitively (``HCl`` finds ``HCL``)."""
+def _close(name: str, known: Sequence[str], n: int = 5, formulas: Mapping[str, Mapping] | None = None,
+           chemistry: bool = False) -> list[str]:
+    """Closest names, comparing case-insensitively (``HCl`` finds ``HCL``); for species, the
+    names that are the same chemistry come first (``H20`` -> ``H2O``, ``OCS`` -> ``COS``)."""
+    from .names import chemistry_matches
+    out = chemistry_matches(name, known, formulas) if chemistry else []
     upper = {k.upper(): k for k in known}
     hits = difflib.get_close_matches(name.upper(), list(upper), n=n, cutoff=0.6)
-    return [upper[h] for h in hits]
+    out += [upper[h] for h in hits if upper[h] not in out]
+    return out[:n]
 
 
-def unknown_name_message(kind: str, name: str, known: Sequence[str], where: str) -> str:
-    hint = _close(name, known)
+def unknown_name_message(kind: str, name: str, known: Sequence[str], where: str,
+                         formulas: Mapping[str, Mapping] | None = None) -> str:
+    """'unknown KIND NAME in WHERE' with the closest known names (for a species: by chemistry
+    first, ``formulas`` giving the element counts of known names when the caller has them)."""
+    hint = _close(name, known, formulas=formulas, chemistry=kind == "species")
     tail = f"; closest names: {', '.join(hint)}" if hint else ""
     return f"unknown {kind} {name!r} in {where}{tail}"
 
