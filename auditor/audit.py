@@ -13,7 +13,7 @@ from .sentences import imbalance_text, show_value, signed_terms, verdict_reason
 from .phase_rule import PhaseRuleCount, count_phase_rule
 from .stoichiometry import Reaction, ReactionAnalysis, analyse, build_reactions, derived_basis
 from .structure import SpecificationAudit, audit_specification
-from .system import ChemicalSystem, build_system, check_names
+from .system import ChemicalSystem, build_system, check_names, feed_moles
 from .verdicts import Verdict
 
 @dataclass(frozen=True)
@@ -138,9 +138,10 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
 
     checks, claim_findings = _claim_checks(case, count, equilibrium, verdict)
     findings += claim_findings
+    physical = verdict          # what the physics says, before the claims are weighed
     if any(c.held is False for c in checks):
         verdict = Verdict.INCONSISTENT
-    reason = verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks, case, impossible)
+    reason = verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks, case, impossible, physical)
     wrong_set = [f for f in set_findings if f.severity == "error"]
     if verdict == Verdict.INCONSISTENT and wrong_set and not analysis.unbalanced:
         reason = "the phase set cannot be right: " + wrong_set[0].message.split(": ", 1)[0]
@@ -308,12 +309,18 @@ def _claim_checks(case: Case, count: PhaseRuleCount, equilibrium, verdict: str) 
 
 
 def hindered_product_findings(case: Case, system: ChemicalSystem, equilibrium) -> list[Finding]:
-    """Warn when most of an element ends in a product the feed lacks and practice treats as hindered."""
+    """Warn when the equilibrium turns most of an element into a product that practice treats
+    as kinetically hindered: judged by the share of the element the product gains from the
+    feed to the equilibrium state (a product already in the feed, such as recycle methane in a
+    methanol loop, is judged by what the equilibrium adds to it)."""
     from .hindered import HINDERED
     from .settings import HINDERED_ELEMENT_SHARE
     if equilibrium is None or not equilibrium.solved:
         return []
-    fed = {system.species[k].name for name, _ in case.feed or () for k in system.find(name)}
+    fed: dict[int, float] = {}
+    for name, amount in feed_moles(case, system) or ():
+        k = system.find(name)[0]
+        fed[k] = fed.get(k, 0.0) + float(amount)
     amounts: dict[int, float] = {}
     for p in equilibrium.phases:
         for name, x in p.mole_fractions:
@@ -323,18 +330,20 @@ def hindered_product_findings(case: Case, system: ChemicalSystem, equilibrium) -
     out = []
     for k, n in sorted(amounts.items()):
         sp = system.species[k]
-        if sp.name not in HINDERED or sp.name in fed:
+        if sp.name not in HINDERED or n <= fed.get(k, 0.0):
             continue
-        shares = [(e, float(row[k]) * n / totals[e]) for e, row in zip(system.elements, system.formula_matrix)
-                  if e in totals and totals[e] > 0 and row[k]]
-        most = [(e, x) for e, x in shares if x > HINDERED_ELEMENT_SHARE]
+        gained = [(e, float(row[k]) * n / totals[e], float(row[k]) * fed.get(k, 0.0) / totals[e])
+                  for e, row in zip(system.elements, system.formula_matrix) if e in totals and totals[e] > 0 and row[k]]
+        most = [(e, x, x0) for e, x, x0 in gained if x - x0 > HINDERED_ELEMENT_SHARE]
         if most:
             common, why = HINDERED[sp.name]
-            held = " and ".join(f"{x:.0%} of the {e}" for e, x in most)
+            held = " and ".join(f"{x:.0%} of the {e}" for e, x, _ in most)
+            before = ("the feed holds none" if not fed.get(k) else
+                      "against " + " and ".join(f"{x0:.0%}" for _, _, x0 in most) + " in the feed")
             out.append(Finding("warning", "equilibrium", f"{sp.label} ({common}) holds {held} at equilibrium "
-                               f"({n:.4g} mol), although the feed holds none; {why}. 'reactions: complete' lets it "
+                               f"({n:.4g} mol), {before}; {why}. 'reactions: complete' lets it "
                                "form: if it is kinetically hindered in this unit, list the intended reactions "
-                               "instead of 'complete'", (sp.label, *(e for e, _ in most))))
+                               "instead of 'complete'", (sp.label, *(e for e, _, _ in most))))
     return out
 
 

@@ -47,8 +47,10 @@ def one_of(names) -> str:
 
 
 def verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks, case=None,
-                   impossible=()) -> str:
-    """Why the verdict is what it is, in one sentence an engineer would use."""
+                   impossible=(), physical=None) -> str:
+    """Why the verdict is what it is, in one sentence an engineer would use.  ``physical`` is
+    the verdict before the case's claims were weighed: when a refuted claim alone makes the
+    case inconsistent, the physical finding leads and the refuted claim follows it."""
     eqs = [x.equation for x in analysis.reactions]
     if verdict == Verdict.INCONSISTENT:
         if analysis.unbalanced:
@@ -69,7 +71,11 @@ def verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks, 
         bad = [c for c in checks if c.held is False]
         if bad:
             c = bad[0]
-            return f"the case claims {c.name} = {show_value(c.claimed)}, but the audit finds {show_value(c.found)}"
+            claim = f"the case claims {c.name} = {show_value(c.claimed)}, but the audit finds {show_value(c.found)}"
+            if physical is not None and physical not in (Verdict.WELL_POSED, Verdict.INCONSISTENT):
+                lead = verdict_reason(physical, system, analysis, count, spec, equilibrium, (), case, impossible)
+                return f"{lead}; and {claim}"
+            return claim
     if verdict == Verdict.OVER_SPECIFIED:
         names = spec.symbols(spec.conflicting or spec.intensive + spec.extensive)
         n_intensive, n_all = len(spec.intensive), len(spec.intensive) + len(spec.extensive)
