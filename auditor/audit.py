@@ -1,4 +1,4 @@
-"""Runs the stages in order, collects findings and decides the verdict (design §2, §3)."""
+"""Runs the stages in order, collects findings and decides the verdict (README, "Verdicts")."""
 from __future__ import annotations
 
 from dataclasses import dataclass, replace

@@ -1,4 +1,4 @@
-"""Gibbs phase rule with reactions and restrictions, and Duhem's theorem (design §2).
+"""Gibbs phase rule with reactions and restrictions, and Duhem's theorem.
 
 ``F = 2 + N - pi - m - r`` over the phases assumed to coexist, with ``N`` their
 phase-species, ``pi`` their number, ``m`` the independent reactions among their species
@@ -9,7 +9,7 @@ the declared ones.  Component form ``C = N - m - r``, ``F = 2 + C - pi``.
 M. M. Abbott, *Introduction to Chemical Engineering Thermodynamics*, ch. 14; K. G.
 Denbigh, *The Principles of Chemical Equilibrium*, ch. 5.)
 
-Feed-derived restrictions (design §2): with conserved quantities ``W`` and feed ``n0``,
+Feed-derived restrictions: with conserved quantities ``W`` and feed ``n0``,
 ``b = W n0``.  For a phase ``p`` every ``lambda`` with ``lambda . b = 0`` whose
 combination ``lambda^T W`` vanishes on the present species outside ``p`` gives the
 relation ``sum_k (lambda^T W)_k x_k = 0`` on the mole fractions of ``p``.  All relations

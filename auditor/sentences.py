@@ -126,7 +126,7 @@ def show_value(v) -> str:
 # ------------------------------------------------------------------ the specification audit's rules
 
 def specification_reasons(status: Verdict, has_feed: bool, n_int: int, n_ext: int, F: int) -> list[str]:
-    """Each verdict rule of design §2 as applied to these counts (``status`` by the counts alone)."""
+    """Each verdict rule (README, 'Verdicts') as applied to these counts (``status`` by the counts alone)."""
     if not has_feed:
         reasons = [f"no feed: an intensive problem, well posed when the intensive specifications ({n_int}) "
                    f"equal F = {F}"]

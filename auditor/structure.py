@@ -1,6 +1,6 @@
 """Specification audit: count against F and Duhem, and the structure of the equations.
 
-Counting rules (design §2): intensive specifications (temperature, pressure, a mole
+Counting rules (the Gibbs phase rule with reactions, and Duhem's theorem): intensive specifications (temperature, pressure, a mole
 fraction, a ratio of mole fractions) count against ``F``; extensive ones (a phase
 fraction, an adiabatic enthalpy balance) only against Duhem's two.  With a feed the case
 is a closed-system problem: well posed when ``intensive <= F`` and ``intensive +
@@ -89,7 +89,7 @@ def build_incidence(case: Case, system: ChemicalSystem, count: PhaseRuleCount):
 
 
 def _status_by_count(has_feed: bool, n_int: int, n_ext: int, F: int, over_specs) -> Verdict:
-    """Design §2: with a feed ``intensive <= F`` and ``intensive + extensive == 2``; without
+    """The verdict rules (README, 'Verdicts'): with a feed ``intensive <= F`` and ``intensive + extensive == 2``; without
     one ``intensive == F`` and nothing extensive; a structural conflict over-specifies."""
     if has_feed:
         if n_int > F or n_int + n_ext > 2 or over_specs:

@@ -15,7 +15,6 @@ depend on the executor or the number of workers.
 from __future__ import annotations
 
 import functools
-import json
 import math
 from fractions import Fraction
 from dataclasses import dataclass, replace
@@ -23,7 +22,7 @@ from typing import TYPE_CHECKING, Callable, Iterable, NamedTuple, Sequence
 
 from .case import Case, load_case, outside_limits, parse_quantity
 from .errors import InputError, Problem
-from .sweep_files import PointResult, csv_text
+from .sweep_files import PointResult, csv_text  # noqa: F401  (csv_text: re-exported for callers)
 from .verdicts import Verdict
 
 if TYPE_CHECKING:

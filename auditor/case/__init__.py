@@ -1,4 +1,4 @@
-"""Case files: YAML -> validated, frozen :class:`Case` in SI units (design §5).
+"""Case files: YAML -> validated, frozen :class:`Case` in SI units (the format is documented in the README).
 
 The loader works on the YAML *node* tree (:mod:`auditor.yaml_nodes`) so that every problem
 carries its line, and it collects every problem in a file before raising one

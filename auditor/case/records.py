@@ -46,7 +46,7 @@ INTENSIVE, EXTENSIVE = "intensive", "extensive"
 class Specification:
     """One thing the case fixes, as data: what the counting, the incidence and every sentence read.
 
-    ``extent`` decides how it counts (design §2): an intensive one against ``F`` and Duhem's
+    ``extent`` decides how it counts (the verdict rules): an intensive one against ``F`` and Duhem's
     two, an extensive one against Duhem's two only.  ``touches`` names the intensive variables
     its equation involves (``"T"``, ``"P"``, or ``(species, phase)`` for a mole fraction); an
     extensive specification has no equation in the intensive incidence.

@@ -29,7 +29,6 @@ from .. import settings
 from ..findings import Finding
 from ..system import ChemicalSystem
 from ..system.critical import critical_constants
-from .model import IDEAL_MODELS
 from .peng_robinson import NoGasRoot, PengRobinsonGas
 
 MODEL_NAME = "Peng-Robinson (van der Waals mixing, k_ij = 0)"

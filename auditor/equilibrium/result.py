@@ -1,7 +1,7 @@
 """The equilibrium stage's frozen result, and whether its certificate holds.
 
 Data only: the JSON block is ``report.document.equilibrium_document``, the text
-``report.text.equilibrium_summary_lines``.
+``report.terminal.equilibrium_lines``.
 """
 from __future__ import annotations
 

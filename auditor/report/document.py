@@ -1,4 +1,4 @@
-"""The JSON document of ``check --json`` (design §4). Other renderers follow its content."""
+"""The JSON document of ``check --json`` (every key described in auditor/data/check.schema.json). Other renderers follow its content."""
 from __future__ import annotations
 
 from .. import __version__

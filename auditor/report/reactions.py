@@ -24,7 +24,7 @@ def _other_phases(system) -> list[dict]:
 
 
 def reactions_document(a: ReactionAnalysis, warnings_: tuple[str, ...] = (), system=None) -> dict:
-    """The ``reactions --json`` document (design §4), plus additive fields.
+    """The ``reactions --json`` document (its keys are listed in the README), plus additive fields.
 
     Reaction ``index`` values are 0-based in file order (the contract, whose objects keep
     exactly their keys); the 1-based numbers shown to people come in sibling lists

@@ -1,16 +1,10 @@
 """Text of the stages' results for people: the phase-rule count term by term, the
-equilibrium check in a few lines.  Booleans are said as yes/no, never as Python's
-True/False/None."""
+non-singularity test, composition entries, the ideal-gas check.  Booleans are said as
+yes/no, never as Python's True/False/None."""
 from __future__ import annotations
-
-import math
-from typing import TYPE_CHECKING
 
 from ..phase_rule import PhaseRuleCount
 from ..sentences import yes_no
-
-if TYPE_CHECKING:   # the stage is imported only where a case is confirmed (cold start)
-    from ..equilibrium import EquilibriumCheck
 
 
 def nonsingular_words(test: str, rcond: float | None) -> str:
@@ -66,35 +60,6 @@ def left_out_words(n: int) -> str:
     if not n:
         return ""
     return f"; {n} species below {SHOWN_MOLE_FRACTION * 1e6:g} ppm not shown (see --json or --report)"
-
-
-def equilibrium_summary_lines(eq: EquilibriumCheck) -> list[str]:
-    """The equilibrium check in a few lines of text."""
-    if not eq.solved:
-        msgs = [f.message for f in eq.findings if f.topic == "equilibrium"][:3]
-        return msgs or ["Gibbs minimisation: not solved"]
-    out = [f"Gibbs minimisation ({eq.solver}) at T = {eq.temperature_K:.2f} K, P = {eq.pressure_Pa:.6g} Pa: "
-           + ("CONFIRMED" if eq.confirmed else "NOT CONFIRMED")]
-    for p in eq.phases:
-        if p.moles <= 0:
-            continue
-        shown, left_out = composition_entries(p.mole_fractions)
-        out.append(f"  {p.name}: {p.moles:.6g} mol; " + ", ".join(shown) + left_out_words(left_out))
-    aside = dict(eq.set_aside)
-    absent = ", ".join(f"{n} {d:+.3g}" if math.isfinite(d) else f"{n} cannot form at this T (outside its thermo data)"
-                       if n in aside else f"{n} cannot form (needs an element the feed lacks)"
-                       for n, d in eq.absent_phase_driving_force)
-    out.append(f"  certificate: balance error {eq.element_balance_error:.2e}, max affinity "
-               f"{_sci(eq.max_affinity_RT)} RT, potential residual {_sci(eq.potential_residual_RT)} RT, "
-               f"unique {yes_no(eq.unique)} ({eq.unique_basis})")
-    if absent:
-        out.append(f"  driving force to form absent phases (RT, must be >= 0): {absent}")
-    if eq.jacobian_rcond is not None:
-        out.append(f"  Jacobian smallest/largest singular value: {eq.jacobian_rcond:.3e}")
-    if len(eq.attempts) > 1:
-        out.append(f"  solve route: {eq.route or 'none certified'}, after " + "; ".join(
-            f"{r} {o}" for r, o in eq.attempts if o != "certified"))
-    return out
 
 
 def real_gas_line(rg: dict) -> str:

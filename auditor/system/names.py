@@ -10,7 +10,6 @@ an unknown species name rank, in order: the name with a digit/letter confusion u
 """
 from __future__ import annotations
 
-import difflib
 import re
 from typing import Mapping, Sequence
 

@@ -1,6 +1,6 @@
 """Chemical system: phases, phase-species, elements and the exact formula matrix.
 
-A *phase-species* is one species in one phase (design §2); H2O in a gas and H2O in a
+A *phase-species* is one species in one phase; H2O in a gas and H2O in a
 liquid are two phase-species, and the transfer between them is a reaction like any
 other.  The formula matrix ``A`` has one row per element that occurs, plus a row
 ``charge`` when any species is charged (the electron is a species; cantera's pseudo
