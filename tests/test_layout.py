@@ -76,7 +76,7 @@ def test_readme_links_stay_inside_the_repository():
 # structure, equilibrium} -> {system, exact}; case -> system, units.  (system/from_case.py
 # names the Case type for annotations only.)  A room may import only
 # rooms of a lower rank; the support modules may be imported from anywhere.
-SUPPORT = {"errors", "settings", "findings", "verdicts", "sentences", "exact", "units", "dm", "yaml_nodes",
+SUPPORT = {"errors", "settings", "findings", "verdicts", "sentences", "exact", "units", "dm", "dm_plain", "yaml_nodes",
            "yaml_syntax", "common_names", "__version__"}
 RANK = {"system": 1, "case": 2, "stoichiometry": 3, "phase_rule": 4, "structure": 5, "equilibrium": 6,
         "hindered": 7, "audit": 8, "sweep_files": 8.5, "sweep": 9, "executors": 9, "report": 10, "cli": 11, "__main__": 12}
