@@ -64,12 +64,32 @@ def other_residuals(s: Specified, system: ChemicalSystem, solver: RouteSolver) -
         others.append(("ratio", lambda sol, a=a, b=b, r=r: math.log(max(sol.n[a], 1e-300) / max(sol.n[b], 1e-300)) - math.log(r.value)))
     for pf in s.phase_fractions:
         others.append(("phase fraction", lambda sol, pf=pf: phase_total(sol.n, pf.phase) / sol.n.sum() - pf.value))
-    if s.adiabatic_feed_temperature_K is not None:
-        P = s.pressure_Pa
-        H_feed = solver.model.enthalpy(s.adiabatic_feed_temperature_K, P if P else 101325.0, solver.n0)
-        scale = max(abs(H_feed), 1e3 * solver.n0.sum())
-        others.append(("adiabatic", lambda sol: (solver.model.enthalpy(sol.T, sol.P, sol.n) - H_feed) / scale))
+    from .energy import residuals
+    others += residuals(s, solver.model, solver.n0, lambda T, P: _reference(solver, T, P))
     return others
+
+
+def _reference(solver: RouteSolver, T: float, P: float) -> SolvedState:
+    """The equilibrium state an isentropic specification starts from."""
+    sol = solver.solve(T, P)
+    if not sol.converged:
+        raise SolveError(f"the reference state of the isentropic specification ({T:g} K, {P:g} Pa) did not converge")
+    return sol
+
+
+def temperature_range(system: ChemicalSystem, energy: bool) -> tuple[float, float]:
+    """Where an outer solve on T looks: inside every species' data, 200 K (250 K for an energy
+    balance) to 6000 K."""
+    t_lo = max(max(sp.t_min for sp in system.species), 200.0)
+    t_hi = min(min(sp.t_max for sp in system.species), 6000.0)
+    if energy:
+        t_lo = max(t_lo, 250.0)
+    if not t_lo < t_hi:
+        t_lo, t_hi = 250.0, 6000.0
+    return t_lo, t_hi
+
+
+ENERGY_KINDS = ("adiabatic", "heat-added", "isentropic")
 
 
 def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
@@ -83,6 +103,9 @@ def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
         if others:
             raise SolveError("more than two specifications reached the solver")
         return solver.solve(T, P)
+    if T is None and P is None and len(others) == 2 and any(w == "volume" for w, _ in others):
+        from .vessel import solve_rigid
+        return solve_rigid(solver, others, temperature_range(system, True))
     if len(others) != 1 or (T is None and P is None):
         raise SolveError("this combination of specifications (neither temperature nor pressure fixed, or more than one "
                          "other) is not handled by the confirmation yet; fix temperature or pressure")
@@ -93,12 +116,7 @@ def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
         return resid(sol) if sol.converged or sol.n.any() else math.nan
 
     if T is None:
-        t_lo = max(max(sp.t_min for sp in system.species), 200.0)
-        t_hi = min(min(sp.t_max for sp in system.species), 6000.0)
-        if what == "adiabatic":
-            t_lo = max(t_lo, 250.0)
-        if not t_lo < t_hi:
-            t_lo, t_hi = 250.0, 6000.0
+        t_lo, t_hi = temperature_range(system, what in ENERGY_KINDS)
         x = bracket_solve(lambda v: held(solver.solve(v, P)), t_lo, t_hi, False, "temperature")
     else:
         x = bracket_solve(lambda v: held(solver.solve(T, v)), 1.0, 1e9, True, "pressure")
