@@ -165,6 +165,10 @@ def read_specified(rd: NodeReader, spnode, declared: dict[str, str] | None = Non
     adiabatic = _read_adiabatic(rd, rd.get(sm, "adiabatic"), declared) if "adiabatic" in sm else None
     volume, feed_at = _read_volume(rd, rd.get(sm, "volume"), declared) if "volume" in sm else (None, None)
     heat = _read_heat_added(rd, rd.get(sm, "heat-added"), declared) if "heat-added" in sm else None
+    if "heat-added" in sm and "adiabatic" in sm:
+        rd.problem(rd.get(sm, "heat-added"), "specified.heat-added", "'adiabatic' is the energy balance with no heat "
+                   "added: give one of 'adiabatic' and 'heat-added', not both")
+        heat = None
     isentropic = _read_state(rd, rd.get(sm, "isentropic"), "specified.isentropic", ("from-temperature", "from-pressure"),
                              declared) if "isentropic" in sm else None
     return Specified(temperature_K=temperature, pressure_Pa=pressure, mole_fractions=mfs, ratios=tuple(ratios),

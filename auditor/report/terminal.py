@@ -5,7 +5,7 @@ import textwrap
 
 from ..audit import AuditResult, show_value
 from ..verdicts import Verdict
-from .text import nonsingular_words, phase_rule_explanation
+from .text import kilojoules, nonsingular_words, phase_rule_explanation
 from .document import CAUTIONS
 
 WIDTH = 100
@@ -73,6 +73,15 @@ def _fmt(x, why: str = "not computed") -> str:
     return f"n/a ({why})" if x is None else f"{x:.2e}"
 
 
+def heat_words(heat_J: float, feed_T: float, balance: str, reaction_J: float | None) -> str:
+    """The heat from the feed to the state, and the heat of reaction at the state, in kJ."""
+    change = "internal-energy change, rigid vessel" if balance == "internal energy" else "enthalpy change at fixed pressure"
+    text = f"heat added from the feed at {feed_T:.2f} K to this state: {kilojoules(heat_J)} kJ ({change})"
+    if reaction_J is not None:
+        text += f"; heat of reaction at the state: {kilojoules(reaction_J)} kJ"
+    return text
+
+
 def equilibrium_lines(r: AuditResult) -> list[str]:
     """The minimisation in words: phases with amounts in the feed's unit, and the certificate."""
     import math
@@ -90,6 +99,8 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
             continue
         major = sorted(p.mole_fractions, key=lambda kv: -kv[1])[:8]
         out.append(f"  {p.name}: {p.moles / mol_per_unit:.6g} {amount_unit}; x: " + ", ".join(f"{k} {v:.4g}" for k, v in major))
+    if eq.heat_J is not None:
+        out.append("  " + heat_words(eq.heat_J, eq.heat_feed_temperature_K, eq.heat_balance, eq.heat_of_reaction_J))
     unique = f"{yes[eq.unique]} ({eq.unique_basis})" if eq.unique_basis else yes[eq.unique]
     out.append(f"  certificate: converged {yes[eq.converged]}; unique {unique}; balance error "
                f"{_fmt(eq.element_balance_error)}; largest affinity {_fmt(eq.max_affinity_RT)} RT; potential residual "
