@@ -157,7 +157,7 @@ def specification_suggestion(status: Verdict, has_feed: bool, n_int: int, n_ext:
         text = (f"drop {drop} of the conflicting specifications ({'; '.join(conflicting)})"
                 + (f"; with F = {F} at most {max(F, 0)} of them may be intensive" if n_int > F else ""))
         if n_int > F and n_int + n_ext - drop < 2:
-            text += ("; then fix an extensive variable in its place (a phase fraction, or an adiabatic "
+            text += ("; then fix an extensive variable in its place (a phase fraction, a volume, or an adiabatic "
                      "enthalpy balance) to keep Duhem's two")
         return text
     if has_feed:
@@ -165,7 +165,7 @@ def specification_suggestion(status: Verdict, has_feed: bool, n_int: int, n_ext:
         hint = []
         if F - n_int > 0:
             hint.append(f"an intensive variable such as {' or '.join(free[:3]) or 'temperature or pressure'}")
-        hint.append("an extensive one: a phase fraction, or an adiabatic enthalpy balance")
+        hint.append("an extensive one: a phase fraction, a volume, a heat duty, or an adiabatic balance")
         return f"fix {need} more variable{'s' if need > 1 else ''}: " + ", or ".join(hint)
     if status == Verdict.OVER_SPECIFIED:
         text = (f"drop {max(n_int - F, 0) + n_ext} specification(s) among: {'; '.join(conflicting)}"

@@ -2,7 +2,8 @@
 
 Counting rules (the Gibbs phase rule with reactions, and Duhem's theorem): intensive specifications (temperature, pressure, a mole
 fraction, a ratio of mole fractions) count against ``F``; extensive ones (a phase
-fraction, an adiabatic enthalpy balance) only against Duhem's two.  With a feed the case
+fraction, a volume, an adiabatic or heat-added energy balance, an isentropic entropy)
+only against Duhem's two.  With a feed the case
 is a closed-system problem: well posed when ``intensive <= F`` and ``intensive +
 extensive == 2``.  Without a feed it is an intensive problem: well posed when
 ``intensive == F``.

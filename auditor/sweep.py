@@ -235,6 +235,13 @@ def grid(case: Case, axes: Sequence[Axis]) -> list[Point]:
         raise InputError(Problem("--ternary", "a ternary map runs at the case's temperature and pressure; drop --vary"))
     if (any(n.startswith((FEED, RATIO)) for n in names) or TERNARY in names) and case.feed is None:
         raise InputError(Problem("--vary", "feed axes need a case with a feed"))
+    fixed_by_case = {"temperature": case.specified.temperature_K, "pressure": case.specified.pressure_Pa}
+    others = [sp.label for sp in case.specified.specifications if sp.kind not in ("temperature", "pressure")]
+    for a in axes:
+        if a.name in VARIABLES and fixed_by_case[a.name] is None and others:
+            raise InputError(Problem("--vary", f"the case does not fix the {a.name}: it is solved from "
+                                     f"{' and '.join(others)}; a {a.name} axis would over-specify the case "
+                                     "(vary the feed, or a variable the case fixes)"))
     for a in axes:
         if a.name in VARIABLES:
             continue

@@ -1,8 +1,9 @@
-"""Units of a case file: temperature, pressure, amount and mass, defined and converted by pint.
+"""Units of a case file: temperature, pressure, amount, mass, volume and energy, defined and converted by pint.
 
 Pint (https://pint.readthedocs.io) is the unit library.  Its registry is built from a
 small definitions file, ``auditor/data/units.txt``, that holds only the units a case may
-use (SI prefixes; K, degC, degF, degR; Pa, bar, atm, torr, psi; mol, lbmol; g, t, lb),
+use (SI prefixes; K, degC, degF, degR; Pa, bar, atm, torr, psi; mol, lbmol; g, t, lb; L, m^3, ft^3;
+J, cal, Btu),
 with pint's own definitions, so the factors are pint's.
 
 Importing pint costs more than everything else a cold ``auditor check`` does apart from
@@ -36,6 +37,8 @@ KINDS = {
     "pressure": ("[mass] / [length] / [time] ** 2", "Pa", "Pa", "'25 bar' or '101325 Pa'"),
     "amount": ("[substance]", "mol", "mol", "'2 kmol' or 1.5 (mol)"),
     "mass": ("[mass]", "kg", "kg", "'10 kg' or '1 t'"),
+    "volume": ("[length] ** 3", "m**3", "m**3", "'24.5 L' or '2 m^3'"),
+    "energy": ("[mass] * [length] ** 2 / [time] ** 2", "J", "J", "'-200 kJ' or '1.5 MJ'"),
 }
 
 # the spellings the shipped table holds, by kind (everything else goes through pint)
@@ -44,6 +47,8 @@ TABLE_UNITS = {
     "pressure": ("Pa", "hPa", "kPa", "MPa", "GPa", "mbar", "bar", "kbar", "atm", "torr", "psi"),
     "amount": ("mol", "mmol", "kmol", "lbmol", "lb_mol"),
     "mass": ("mg", "g", "kg", "t", "tonne", "lb"),
+    "volume": ("L", "l", "mL", "m^3", "m**3", "dm^3", "cm^3", "ft^3"),
+    "energy": ("J", "kJ", "MJ", "GJ", "cal", "kcal", "Btu"),
 }
 
 # units that are almost right: what was written -> what was likely meant (per kind).
@@ -67,6 +72,10 @@ NEAR_MISSES = {
     "mass": {"KG": "kg", "Kg": "kg", "kgs": "kg", "kilo": "kg", "kilos": "kg", "G": "g", "gm": "g", "gr": "g",
              "grams": "g", "T": "t", "ton": "t", "tons": "t", "mt": "t", "MT": "t", "te": "t", "tonnes": "t",
              "LB": "lb", "Lb": "lb", "lbm": "lb"},
+    "volume": {"m3": "m^3", "M3": "m^3", "litre(s)": "L", "liters": "L", "litres": "L", "ltr": "L", "lt": "L",
+               "cc": "cm^3", "ml": "mL", "dm3": "dm^3", "cm3": "cm^3", "ft3": "ft^3", "cuft": "ft^3"},
+    "energy": {"j": "J", "kj": "kJ", "KJ": "kJ", "Kj": "kJ", "mj": "MJ", "Mj": "MJ", "KCAL": "kcal", "Kcal": "kcal",
+               "BTU": "Btu", "btu": "Btu"},
 }
 
 _NUMBER_UNIT = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?|[-+]?(?:inf|nan))\s*(.*?)\s*$",

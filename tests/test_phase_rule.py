@@ -321,7 +321,7 @@ def test_demo_under_specified_suggests_an_extensive_specification(demo_results):
     # F = 1 and the temperature is given: the intensive state is fixed, nothing intensive is free
     # (theorem); Duhem still asks for one more, extensive, specification
     assert spec.free == ()
-    assert spec.suggestion == "fix 1 more variable: an extensive one: a phase fraction, or an adiabatic enthalpy balance"
+    assert spec.suggestion == "fix 1 more variable: an extensive one: a phase fraction, a volume, a heat duty, or an adiabatic balance"
 
 
 def test_demo_not_confirmed_with_minimisation():

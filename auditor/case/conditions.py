@@ -5,10 +5,12 @@ from typing import Any
 
 from ..verdicts import CASE_VERDICTS, Verdict
 from ..yaml_nodes import NodeMapping, NodeReader, kind_of, suggest
+from .. import units
 from .quantities import read_condition
 from .records import DeclaredRestriction, MoleFractionSpec, PhaseFractionSpec, RatioSpec, Specified
 
-SPECIFIED_KEYS = ("temperature", "pressure", "mole-fractions", "ratios", "phase-fractions", "adiabatic")
+SPECIFIED_KEYS = ("temperature", "pressure", "mole-fractions", "ratios", "phase-fractions", "adiabatic", "volume",
+                  "heat-added", "isentropic")
 RATIO_KEYS = ("phase", "numerator", "denominator", "value")
 CLAIM_KEYS = ("independent-reactions", "degrees-of-freedom", "components", "phases-present", "verdict")
 VERDICTS = tuple(v.value for v in CASE_VERDICTS)    # the words a case file may claim
@@ -75,6 +77,71 @@ def _read_adiabatic(rd: NodeReader, node, declared: dict[str, str]) -> float | N
                           declared)
 
 
+def _read_amount_of(rd: NodeReader, node, kp: str, kind: str, positive: bool) -> float | None:
+    """A volume or an energy in SI (m3, J): its unit must be written; a volume must be positive."""
+    value = rd.value_of(node, kp)
+    if units.is_bare(value):
+        rd.problem(node, kp, f"a {kind} needs a unit: write e.g. {units.example(kind)}")
+        return None
+    try:
+        q = units.parse(value, kind)
+    except ValueError as exc:
+        rd.problem(node, kp, str(exc))
+        return None
+    if positive and not q.si > 0:
+        rd.problem(node, kp, f"a {kind} must be positive, got {q.text}")
+        return None
+    return q.si
+
+
+def _read_state(rd: NodeReader, node, kp: str, keys: tuple[str, str], declared: dict[str, str]
+                ) -> tuple[float, float] | None:
+    """A (temperature K, pressure Pa) pair written as a mapping with the two ``keys``."""
+    m = rd.want_mapping(node, kp)
+    if m is None:
+        return None
+    rd.check_keys(m, keys, kp)
+    missing = [k for k in keys if k not in m]
+    if missing:
+        rd.problem(node, kp, f"missing key(s) {', '.join(repr(k) for k in missing)} (write {{{keys[0]}: 300 K, "
+                   f"{keys[1]}: 1 atm}})")
+        return None
+    t, p = (read_condition(rd, rd.get(m, k), f"{kp}.{k}", kind, declared)
+            for k, kind in zip(keys, ("temperature", "pressure")))
+    return None if t is None or p is None else (t, p)
+
+
+def _read_volume(rd: NodeReader, node, declared: dict[str, str]) -> tuple[float | None, tuple | None]:
+    """(volume m3, None) or (None, the feed's (T, P)) from ``volume: 24.5 L`` or ``volume: {feed-at: {...}}``."""
+    kp = "specified.volume"
+    if getattr(node, "id", None) == "mapping":
+        m = rd.want_mapping(node, kp)
+        rd.check_keys(m, ("feed-at",), kp)
+        if "feed-at" not in m:
+            rd.problem(node, kp, "write a volume ('24.5 L') or the state the feed fills it at "
+                       "({feed-at: {temperature: 300 K, pressure: 1 atm}})")
+            return None, None
+        return None, _read_state(rd, rd.get(m, "feed-at"), f"{kp}.feed-at", ("temperature", "pressure"), declared)
+    return _read_amount_of(rd, node, kp, "volume", True), None
+
+
+def _read_heat_added(rd: NodeReader, node, declared: dict[str, str]) -> tuple[float, float] | None:
+    """(feed temperature K, heat added J) of ``heat-added: {feed-temperature: ..., amount: ...}``."""
+    kp = "specified.heat-added"
+    m = rd.want_mapping(node, kp)
+    if m is None:
+        return None
+    rd.check_keys(m, ("feed-temperature", "amount"), kp)
+    missing = [k for k in ("feed-temperature", "amount") if k not in m]
+    if missing:
+        rd.problem(node, kp, f"missing key(s) {', '.join(repr(k) for k in missing)} "
+                   "(write {feed-temperature: 450 degC, amount: -200 kJ})")
+        return None
+    t = read_condition(rd, rd.get(m, "feed-temperature"), f"{kp}.feed-temperature", "temperature", declared)
+    q = _read_amount_of(rd, rd.get(m, "amount"), f"{kp}.amount", "energy", False)
+    return None if t is None or q is None else (t, q)
+
+
 def read_specified(rd: NodeReader, spnode, declared: dict[str, str] | None = None) -> Specified:
     """What the case fixes; bare temperatures and pressures in the ``units:`` the case declares."""
     declared = declared or {}
@@ -96,8 +163,17 @@ def read_specified(rd: NodeReader, spnode, declared: dict[str, str] | None = Non
                 ratios.append(r)
     pfs = _read_phase_fractions(rd, rd.get(sm, "phase-fractions")) if "phase-fractions" in sm else ()
     adiabatic = _read_adiabatic(rd, rd.get(sm, "adiabatic"), declared) if "adiabatic" in sm else None
+    volume, feed_at = _read_volume(rd, rd.get(sm, "volume"), declared) if "volume" in sm else (None, None)
+    heat = _read_heat_added(rd, rd.get(sm, "heat-added"), declared) if "heat-added" in sm else None
+    if "heat-added" in sm and "adiabatic" in sm:
+        rd.problem(rd.get(sm, "heat-added"), "specified.heat-added", "'adiabatic' is the energy balance with no heat "
+                   "added: give one of 'adiabatic' and 'heat-added', not both")
+        heat = None
+    isentropic = _read_state(rd, rd.get(sm, "isentropic"), "specified.isentropic", ("from-temperature", "from-pressure"),
+                             declared) if "isentropic" in sm else None
     return Specified(temperature_K=temperature, pressure_Pa=pressure, mole_fractions=mfs, ratios=tuple(ratios),
-                     phase_fractions=pfs, adiabatic_feed_temperature_K=adiabatic)
+                     phase_fractions=pfs, adiabatic_feed_temperature_K=adiabatic, volume_m3=volume,
+                     volume_feed_at=feed_at, heat_added=heat, isentropic_from=isentropic)
 
 
 def read_restrictions(rd: NodeReader, rsnode) -> tuple[DeclaredRestriction, ...]:

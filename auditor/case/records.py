@@ -52,7 +52,8 @@ class Specification:
     extensive specification has no equation in the intensive incidence.
     """
 
-    kind: str                   # temperature, pressure, mole-fraction, ratio, phase-fraction, adiabatic
+    kind: str                   # temperature, pressure, mole-fraction, ratio, phase-fraction, adiabatic,
+                                # volume, heat-added, isentropic
     symbol: str                 # T, P, x(CO), x(H2)/x(N2), the gas fraction, the enthalpy balance
     label: str                  # the full name with its value: "mole fraction x(CO) = 0.02 in gas"
     extent: str                 # INTENSIVE or EXTENSIVE
@@ -82,11 +83,28 @@ def _specifications(s: "Specified") -> tuple[Specification, ...]:
                           r.key_path, ((r.numerator, r.phase), (r.denominator, r.phase))) for r in s.ratios]
     out += [Specification("phase-fraction", f"the {p.phase} fraction", f"phase fraction of {p.phase} = {p.value:g}",
                           EXTENSIVE, p.key_path) for p in s.phase_fractions]
+    if s.volume_m3 is not None:
+        out.append(Specification("volume", "V", f"volume V = {s.volume_m3:g} m3", EXTENSIVE, "specified.volume", (),
+                                 s.volume_m3, "m^3"))
+    if s.volume_feed_at is not None:
+        t, p = s.volume_feed_at
+        out.append(Specification("volume", "V", f"volume V of the feed at {t:g} K and {p:g} Pa", EXTENSIVE,
+                                 "specified.volume.feed-at"))
+    balance = "internal-energy" if s.fixes_volume else "enthalpy"
     if s.adiabatic_feed_temperature_K is not None:
-        out.append(Specification("adiabatic", "the enthalpy balance",
-                                 f"adiabatic enthalpy balance (feed at {s.adiabatic_feed_temperature_K:g} K)",
+        out.append(Specification("adiabatic", f"the {balance} balance",
+                                 f"adiabatic {balance} balance (feed at {s.adiabatic_feed_temperature_K:g} K)",
                                  EXTENSIVE, "specified.adiabatic.feed-temperature", (),
                                  s.adiabatic_feed_temperature_K, "K"))
+    if s.heat_added is not None:
+        t, q = s.heat_added
+        out.append(Specification("heat-added", f"the {balance} balance",
+                                 f"{balance} balance with {q:g} J added (feed at {t:g} K)", EXTENSIVE,
+                                 "specified.heat-added.amount", (), q, "J"))
+    if s.isentropic_from is not None:
+        t, p = s.isentropic_from
+        out.append(Specification("isentropic", "the entropy", f"entropy of the equilibrium state at {t:g} K and {p:g} Pa",
+                                 EXTENSIVE, "specified.isentropic"))
     return tuple(out)
 
 
@@ -98,11 +116,29 @@ class Specified:
     ratios: tuple[RatioSpec, ...] = ()
     phase_fractions: tuple[PhaseFractionSpec, ...] = ()
     adiabatic_feed_temperature_K: float | None = None
+    volume_m3: float | None = None                      # a rigid vessel of this volume
+    volume_feed_at: tuple[float, float] | None = None   # the volume the feed occupies at (T K, P Pa)
+    heat_added: tuple[float, float] | None = None       # (feed temperature K, heat added J; negative = removed)
+    isentropic_from: tuple[float, float] | None = None  # entropy of the equilibrium state at (T K, P Pa)
     # the records of all the above, built once when the case is read (and again by ``replace``)
     specifications: tuple[Specification, ...] = field(init=False, repr=False, compare=False)
 
     def __post_init__(self):
         object.__setattr__(self, "specifications", _specifications(self))
+
+    @property
+    def fixes_volume(self) -> bool:
+        """A rigid vessel: the energy balance is on internal energy, not enthalpy."""
+        return self.volume_m3 is not None or self.volume_feed_at is not None
+
+    @property
+    def energy_balance(self) -> tuple[float, float] | None:
+        """(feed temperature K, heat added J) of an adiabatic or heat-added balance, or None."""
+        if self.heat_added is not None:
+            return self.heat_added
+        if self.adiabatic_feed_temperature_K is not None:
+            return self.adiabatic_feed_temperature_K, 0.0
+        return None
 
     def names(self) -> list[str]:
         """The full names of what is specified, with their values."""

@@ -245,6 +245,8 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     ok_phases, phase_notes = _phase_findings(m, count, solver, sol.T, ranges)
     findings += more + phase_notes
     a = solver.arrays
+    from .energy import heat_of
+    heat = heat_of(case.specified, solver.model, solver.n0, float(sol.T), float(sol.P), sol.n)
     x_list = m.mole_fractions.tolist()                 # zero in an empty phase (mole_fractions)
     phases = tuple(PhaseState(p.name, tot, tuple(zip(labels, (x_list[k] for k in idx.tolist()))))
                    for p, idx, labels, tot in zip(solver.system.phases, a.phase_species, a.phase_labels, m.totals.tolist()))
@@ -257,4 +259,6 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
         confirmed=ok_numbers and ok_phases, seconds=time.perf_counter() - t0,
         element_potentials=tuple(zip(a.potential_names, m.potentials.tolist())),
         unique_basis=m.unique_basis, phase_amount_rcond=m.amount_rcond,
-        route=sol.route, attempts=solver.attempts + ((sol.route, "certified"),), set_aside=ranges.set_aside)
+        route=sol.route, attempts=solver.attempts + ((sol.route, "certified"),), set_aside=ranges.set_aside,
+        heat_J=heat and heat.heat_J, heat_feed_temperature_K=heat and heat.feed_temperature_K,
+        heat_balance=heat.balance if heat else "", heat_of_reaction_J=heat and heat.heat_of_reaction_J)

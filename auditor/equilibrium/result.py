@@ -46,6 +46,12 @@ class EquilibriumCheck:
     attempts: tuple[tuple[str, str], ...] = ()   # (route, outcome) in the order tried
     nonsingularity_test: str = ""                # the test that showed the equations nonsingular ("" when none ran)
     set_aside: tuple[tuple[str, str], ...] = ()  # (phase, why): outside its thermo data at this T, cannot form
+    # the heat crossing the boundary from the feed (at heat_feed_temperature_K) to this state, J on the
+    # feed's amounts: an enthalpy change at fixed pressure, an internal-energy change in a rigid vessel
+    heat_J: float | None = None
+    heat_feed_temperature_K: float | None = None
+    heat_balance: str = ""                       # "enthalpy" or "internal energy"
+    heat_of_reaction_J: float | None = None      # H of the state minus H of the feed, both at the state's T, P
 
     @classmethod
     def not_solved(cls, findings, assumed=(), seconds: float = 0.0) -> "EquilibriumCheck":

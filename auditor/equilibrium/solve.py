@@ -30,6 +30,10 @@ Residual = Callable[[SolvedState], float]
 RESIDUAL_TOLERANCE = 1e-6   # an extensive specification met to this (scaled) residual
 
 
+class NoSolution(SolveError):
+    """The specifications the count accepts have no solution (a finding about the case, not a solver failure)."""
+
+
 def bracket_solve(f, lo: float, hi: float, log: bool, what: str):
     """Root of f on [lo, hi] by Brent's method (R. P. Brent, Algorithms for Minimization
     without Derivatives, 1973), scanning for a sign change first."""
@@ -44,6 +48,10 @@ def bracket_solve(f, lo: float, hi: float, log: bool, what: str):
     for (a, fa), (b, fb) in zip(zip(grid, vals), zip(grid[1:], vals[1:])):
         if np.isfinite(fa) and np.isfinite(fb) and fa * fb <= 0:
             return brentq(f, a, b, xtol=1e-10 * max(abs(a), 1.0), rtol=1e-12, maxiter=200)
+    finite = [v for v in vals if np.isfinite(v)]
+    if len(finite) == len(vals) and (min(finite) > 0 or max(finite) < 0):
+        raise NoSolution(f"no {what} from {lo:g} to {hi:g} {'K' if what == 'temperature' else 'Pa'} meets the "
+                         f"specifications: the residual keeps one sign ({finite[0]:+.3g} to {finite[-1]:+.3g})")
     raise SolveError(f"no {what} in [{lo:g}, {hi:g}] meets the specification (no sign change found)")
 
 
@@ -64,12 +72,32 @@ def other_residuals(s: Specified, system: ChemicalSystem, solver: RouteSolver) -
         others.append(("ratio", lambda sol, a=a, b=b, r=r: math.log(max(sol.n[a], 1e-300) / max(sol.n[b], 1e-300)) - math.log(r.value)))
     for pf in s.phase_fractions:
         others.append(("phase fraction", lambda sol, pf=pf: phase_total(sol.n, pf.phase) / sol.n.sum() - pf.value))
-    if s.adiabatic_feed_temperature_K is not None:
-        P = s.pressure_Pa
-        H_feed = solver.model.enthalpy(s.adiabatic_feed_temperature_K, P if P else 101325.0, solver.n0)
-        scale = max(abs(H_feed), 1e3 * solver.n0.sum())
-        others.append(("adiabatic", lambda sol: (solver.model.enthalpy(sol.T, sol.P, sol.n) - H_feed) / scale))
+    from .energy import residuals
+    others += residuals(s, solver.model, solver.n0, lambda T, P: _reference(solver, T, P))
     return others
+
+
+def _reference(solver: RouteSolver, T: float, P: float) -> SolvedState:
+    """The equilibrium state an isentropic specification starts from."""
+    sol = solver.solve(T, P)
+    if not sol.converged:
+        raise SolveError(f"the reference state of the isentropic specification ({T:g} K, {P:g} Pa) did not converge")
+    return sol
+
+
+def temperature_range(system: ChemicalSystem, energy: bool) -> tuple[float, float]:
+    """Where an outer solve on T looks: inside every species' data, 200 K (250 K for an energy
+    balance) to 6000 K."""
+    t_lo = max(max(sp.t_min for sp in system.species), 200.0)
+    t_hi = min(min(sp.t_max for sp in system.species), 6000.0)
+    if energy:
+        t_lo = max(t_lo, 250.0)
+    if not t_lo < t_hi:
+        t_lo, t_hi = 250.0, 6000.0
+    return t_lo, t_hi
+
+
+ENERGY_KINDS = ("adiabatic", "heat-added", "isentropic")
 
 
 def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
@@ -83,6 +111,9 @@ def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
         if others:
             raise SolveError("more than two specifications reached the solver")
         return solver.solve(T, P)
+    if T is None and P is None and len(others) == 2 and any(w == "volume" for w, _ in others):
+        from .vessel import solve_rigid
+        return solve_rigid(solver, others, temperature_range(system, True))
     if len(others) != 1 or (T is None and P is None):
         raise SolveError("this combination of specifications (neither temperature nor pressure fixed, or more than one "
                          "other) is not handled by the confirmation yet; fix temperature or pressure")
@@ -93,15 +124,13 @@ def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
         return resid(sol) if sol.converged or sol.n.any() else math.nan
 
     if T is None:
-        t_lo = max(max(sp.t_min for sp in system.species), 200.0)
-        t_hi = min(min(sp.t_max for sp in system.species), 6000.0)
-        if what == "adiabatic":
-            t_lo = max(t_lo, 250.0)
-        if not t_lo < t_hi:
-            t_lo, t_hi = 250.0, 6000.0
+        t_lo, t_hi = temperature_range(system, what in ENERGY_KINDS)
         x = bracket_solve(lambda v: held(solver.solve(v, P)), t_lo, t_hi, False, "temperature")
     else:
-        x = bracket_solve(lambda v: held(solver.solve(T, v)), 1.0, 1e9, True, "pressure")
+        try:
+            x = bracket_solve(lambda v: held(solver.solve(T, v)), 1.0, 1e9, True, "pressure")
+        except NoSolution as exc:
+            raise NoSolution(_no_pressure(what, T, solver, resid) or str(exc)) from None
     sol = solver.solve(x, P) if T is None else solver.solve(T, x)
     if abs(resid(sol)) > RESIDUAL_TOLERANCE:
         sol = on_transition(solver, resid, x, T, P) or sol
@@ -109,6 +138,22 @@ def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
         sol.converged = False
         sol.message = f"the {what} specification is met only to {abs(resid(sol)):.2e}"
     return sol
+
+
+def _no_pressure(what: str, T: float, solver: RouteSolver, resid: Residual) -> str:
+    """Why no pressure meets a volume at fixed T: the vessel is smaller than its contents at the
+    highest pressure a case may hold, or larger than they fill at 1 Pa."""
+    if what != "volume":
+        return ""
+    from .energy import totals
+    hi, lo = solver.solve(T, 1e9), solver.solve(T, 1.0)
+    if resid(hi) > 0:
+        v = totals(solver.model, hi.T, hi.P, hi.n).V
+        return (f"the vessel is smaller than its contents at {T:.2f} K even at 1e4 bar ({v * 1000:.4g} L at "
+                "equilibrium there): no state fills it, the temperature and volume given cannot both hold")
+    v = totals(solver.model, lo.T, lo.P, lo.n).V
+    return (f"the vessel is larger than its contents fill at {T:.2f} K even at 1 Pa ({v * 1000:.4g} L): "
+            "no state fills it")
 
 
 def on_transition(solver: RouteSolver, resid: Residual, x: float, T: float | None, P: float | None
@@ -184,7 +229,7 @@ def certified_on_routes(case: Case, count: PhaseRuleCount, spec: SpecificationAu
     checked state is returned with every route's outcome as findings, or a check that is
     not solved."""
     attempts: list[tuple[str, str]] = []
-    first_check = None
+    first_check, no_solution = None, ""
     first = 0
     while first < len(solver.routes):
         solver.start_at(first)
@@ -192,7 +237,8 @@ def certified_on_routes(case: Case, count: PhaseRuleCount, spec: SpecificationAu
         try:
             sol = solve_specified(case, solver)
         except SolveError as exc:
-            failure, stop = str(exc), "wall-clock" in str(exc)
+            failure, stop = str(exc), "wall-clock" in str(exc) or isinstance(exc, NoSolution)
+            no_solution = str(exc) if isinstance(exc, NoSolution) else no_solution
         except Exception as exc:
             # a library's text is kept for the classifier, never shown
             from .diagnosis import solver_words
@@ -226,7 +272,8 @@ def certified_on_routes(case: Case, count: PhaseRuleCount, spec: SpecificationAu
     tried = ", ".join(dict.fromkeys(r for r, _ in attempts))
     s = case.specified
     assumed = case.coexisting or tuple(p.name for p in solver.system.phases)
-    cause = failure_cause(solver, s.temperature_K, s.pressure_Pa, solver.details, count.degrees_of_freedom, assumed)
+    cause = no_solution or failure_cause(solver, s.temperature_K, s.pressure_Pa, solver.details,
+                                         count.degrees_of_freedom, assumed)
     findings = findings + [Finding("error", "equilibrium", f"the minimisation did not reach a certified state on any "
                                    f"route ({tried}); cause: {cause}")] + notes
     return replace(EquilibriumCheck.not_solved(findings, solver.model.assumed, time.perf_counter() - t0),

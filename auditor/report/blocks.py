@@ -11,7 +11,7 @@ from ..exact import format_fraction
 from ..sentences import yes_no
 from . import entered as entered_mod
 from . import svg
-from .text import nonsingular_words
+from .text import kilojoules, nonsingular_words
 
 # the reaction-species incidence is a table up to this size, a picture beyond it
 INCIDENCE_TABLE_MAX_SPECIES = 12
@@ -155,6 +155,12 @@ def certificate(eq: dict, doc: dict) -> Block:
             ("equations nonsingular at the solution",
              nonsingular_words(eq["nonsingularity_test"], eq["jacobian_rcond"]) if eq["nonsingularity_test"]
              else f"n/a ({jac_why})")]
+    if eq.get("heat_J") is not None:
+        change = "internal-energy change" if eq["heat_balance"] == "internal energy" else "enthalpy change"
+        rows.append((f"heat added from the feed at {eq['heat_feed_temperature_K']:.2f} K to this state ({change}), kJ",
+                     kilojoules(eq["heat_J"])))
+        rows.append(("heat of reaction at the state (state minus feed, both at its T and P), kJ",
+                     kilojoules(eq["heat_of_reaction_J"]) if eq["heat_of_reaction_J"] is not None else "n/a"))
     aside = {a["phase"] for a in eq.get("phases_set_aside", ())}
     rows += [(f"driving force to form absent phase {k}, RT (must be positive)",
               f"{v:+.4g}" if v is not None else "n/a (cannot form at this T: outside its thermo data range)"

@@ -202,6 +202,13 @@ def equilibrium_document(eq: EquilibriumCheck) -> dict:
         "attempts": [{"route": r, "outcome": o} for r, o in eq.attempts],
         # phases outside their thermo data's temperature range at this T: left out of the solve
         "phases_set_aside": [{"phase": p, "reason": why} for p, why in eq.set_aside],
+        # heat crossing the boundary from the feed (at heat_feed_temperature_K) to this state, J on the
+        # feed's amounts (positive = added): an enthalpy change at fixed pressure, an internal-energy
+        # change in a rigid vessel; and the heat of reaction at the state (feed and state at its T and P)
+        "heat_J": eq.heat_J,
+        "heat_feed_temperature_K": eq.heat_feed_temperature_K,
+        "heat_balance": eq.heat_balance or None,
+        "heat_of_reaction_J": eq.heat_of_reaction_J,
     }
 
 

@@ -5,7 +5,7 @@ import textwrap
 
 from ..audit import AuditResult, show_value
 from ..verdicts import Verdict
-from .text import composition_entries, left_out_words, nonsingular_words, phase_rule_explanation
+from .text import composition_entries, kilojoules, left_out_words, nonsingular_words, phase_rule_explanation
 from .document import case_cautions
 
 WIDTH = 100
@@ -87,6 +87,15 @@ def _entry_lines(head: str, entries: list[str], tail: str) -> list[str]:
     return lines + [l for l in _wrap(tail.lstrip("; ").capitalize(), "    ")] if tail else lines
 
 
+def heat_words(heat_J: float, feed_T: float, balance: str, reaction_J: float | None) -> str:
+    """The heat from the feed to the state, and the heat of reaction at the state, in kJ."""
+    change = "internal-energy change, rigid vessel" if balance == "internal energy" else "enthalpy change at fixed pressure"
+    text = f"heat added from the feed at {feed_T:.2f} K to this state: {kilojoules(heat_J)} kJ ({change})"
+    if reaction_J is not None:
+        text += f"; heat of reaction at the state: {kilojoules(reaction_J)} kJ"
+    return text
+
+
 def equilibrium_lines(r: AuditResult) -> list[str]:
     """The minimisation in words: phases with amounts in the feed's unit, and the certificate."""
     import math
@@ -105,6 +114,8 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
         shown, left_out = composition_entries(p.mole_fractions)
         out += _entry_lines(f"  {p.name}: {p.moles / mol_per_unit:.6g} {amount_unit}; x: ", shown,
                             left_out_words(left_out))
+    if eq.heat_J is not None:
+        out.append("  " + heat_words(eq.heat_J, eq.heat_feed_temperature_K, eq.heat_balance, eq.heat_of_reaction_J))
     unique = f"{yes[eq.unique]} ({eq.unique_basis})" if eq.unique_basis else yes[eq.unique]
     out.append(f"  certificate: converged {yes[eq.converged]}; unique {unique}; balance error "
                f"{_fmt(eq.element_balance_error)}; largest affinity {_fmt(eq.max_affinity_RT)} RT; potential residual "

@@ -7,6 +7,11 @@ from ..phase_rule import PhaseRuleCount
 from ..sentences import yes_no
 
 
+def kilojoules(joules: float) -> str:
+    """J as kJ to 6 significant digits, rounding-off noise below a micro-kJ shown as 0."""
+    return f"{round(joules / 1000, 6) + 0.0:.6g}"
+
+
 def nonsingular_words(test: str, rcond: float | None) -> str:
     """Whether the equations are nonsingular at the solution, and which test decided."""
     if rcond is None:
