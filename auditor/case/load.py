@@ -18,8 +18,9 @@ SYSTEM_KEYS = ("source", "mechanism", "phases", "gas-model")
 GAS_MODELS = ("ideal-gas", "peng-robinson")   # system.gas-model: the model of a packaged gas phase
 
 
-def load_case(path: str | Path) -> Case:
-    """Read and validate a case file's structure and units.
+def load_case(path: str | Path, text: str | None = None) -> Case:
+    """Read and validate a case file's structure and units.  ``text``: the case's YAML held in
+    memory instead of read from ``path`` (relative mechanism paths then start at ``path``'s folder).
 
     Raises
     ------
@@ -28,7 +29,7 @@ def load_case(path: str | Path) -> Case:
     """
     from ..system import build_system, check_names
     path = Path(path)
-    root = load_nodes(path)
+    root = load_nodes(path, text)
     rd = NodeReader(str(path))
     top = rd.plain(root, "")
     rd.check_keys(top, TOP_KEYS, "")
