@@ -45,7 +45,7 @@ def load_case(path: str | Path, text: str | None = None) -> Case:
     claims = read_claims(rd, rd.get(top, "claims"))
     case = Case(path=path, title=title, system=system_spec, reactions=reactions, feed=feed, coexisting=coexisting,
                 specified=specified, restrictions=restrictions, claims=claims, lines=dict(rd.lines),
-                feed_mass=feed_mass,
+                feed_mass=feed_mass, text=text,
                 as_written={kp: t for kp, t in rd.texts.items() if kp.startswith(("feed.", "specified."))})
     if rd.problems:
         # report the names that do not exist together with the structural problems, when the

@@ -101,7 +101,7 @@ def read(case) -> Entered:
     import yaml
     path = str(case.path)
     try:
-        raw = Path(case.path).read_bytes()
+        raw = case.text.encode("utf-8") if getattr(case, "text", None) is not None else Path(case.path).read_bytes()
         text = raw.decode("utf-8")
         root = yaml.compose(text, Loader=yaml.SafeLoader)
     except (OSError, UnicodeDecodeError, yaml.YAMLError):
