@@ -45,6 +45,9 @@ def _parser() -> argparse.ArgumentParser:
     c.add_argument("--json", action="store_true", help="print the audit as JSON")
     c.add_argument("--explain", action="store_true", help="print each verdict rule as it was applied")
     c.add_argument("--quiet", action="store_true", help="no output for a single case; exit status only")
+    c.add_argument("--basis", action="append", choices=("dry", "ppm", "mass"), metavar="BASIS",
+                   help="also show the equilibrium composition on a basis: dry (water left out), ppm (minor "
+                        "species, ppm by volume), mass (mass fractions and masses); repeatable")
     c.add_argument("--no-confirm", action="store_true", help="skip the Gibbs minimisation (counting only)")
     c.add_argument("--report", metavar="PATH", help="write the full audit; the format follows the suffix "
                    "(.html, .md, .json)")
@@ -181,6 +184,9 @@ def _cmd_check(args) -> int:
         print(summary_line(results[0]))
     elif len(paths) == 1 and results and not args.quiet:
         sys.stdout.write(colourise(audit_text(results[0], explain=args.explain)))
+        if args.basis:
+            from .report.bases import basis_lines
+            print("\n".join(basis_lines(results[0], args.basis)))
     elif not args.quiet or len(paths) > 1:
         for r in results:
             print(terminal_safe(summary_line(r)))

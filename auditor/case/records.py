@@ -145,6 +145,9 @@ class Case:
     as_written: Mapping[str, str] = field(default_factory=dict, compare=False)
     # the YAML text of a case given in memory (a mapping, auditor.check); None for a case file
     text: str | None = field(default=None, compare=False)
+    # a feed written as rates ('kmol/h', 'kg/h', 't/d'): the time unit as written ('h'); the case is
+    # the closed system fed in one such time unit, so every extensive result is per that unit
+    rate_per: str | None = None
 
     def line(self, key_path: str) -> int | None:
         return self.lines.get(key_path)

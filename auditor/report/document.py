@@ -160,6 +160,10 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
                                       for g in a.duplicates]
     doc["reactions"]["derived_complete_set"] = [x.equation for x in a.derived_basis]
     doc["system"] = system_block(r)
+    from .bases import bases_document, flow_document    # additive: reporting bases and the flow basis (issue 24)
+    doc["flow_basis"] = flow_document(r.case)
+    if doc["equilibrium"] is not None:
+        doc["equilibrium"]["bases"] = bases_document(r)
     if getattr(r, "real_gas", None) is not None:   # the ideal-gas assumption checked (equilibrium/real_gas.py)
         doc["real_gas"] = real_gas_document(r.real_gas)
     if with_context:
