@@ -168,7 +168,8 @@ def _same_basis(rd: NodeReader, fm, out) -> bool:
             continue
         kp = f"feed.{sp}"
         if q.per is None:
-            why = (f"this feed mixes rates (per {word}) with an amount ({sp}: {q.text}): write every feed entry "
+            rsp, rq = next((x, y) for x, y in out if y.per is not None)
+            why = (f"this feed mixes a rate ({rsp}: {rq.text}) with an amount ({sp}: {q.text}): write every feed entry "
                    f"as a rate per {word} (e.g. {sp}: {_number(q.number)} {q.unit}/{per}) or every one as an amount")
         else:
             why = (f"this feed mixes rates per {word} and per {units.time_word(q.per)} ({sp}: {q.text}): write "
