@@ -1,4 +1,4 @@
-"""The Python interface: ``auditor.check`` and ``auditor.sweep`` (re-exported by ``auditor``).
+"""The Python interface: ``auditor.check`` and ``auditor.sweep_records`` (re-exported by ``auditor``).
 
 ``check`` audits a case given three ways, all read by the same loader as the CLI:
 
@@ -181,7 +181,7 @@ def case_from_cantera(obj, *, feed: Mapping[str, Any] | None = None, specified: 
     return mapping
 
 
-def sweep(case: str | os.PathLike, vary: Sequence[str] = (), *, ternary: str | None = None, divisions: int = 20,
+def sweep_records(case: str | os.PathLike, vary: Sequence[str] = (), *, ternary: str | None = None, divisions: int = 20,
           edges: bool = False, jobs: int = 1, scheduler: str | None = None) -> list:
     """Run the confirmation over a grid (``vary=["temperature=600:1400:25"]``, as ``auditor sweep
     --vary``, or ``ternary="C,H,O"``) and return one record per point in grid order

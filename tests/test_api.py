@@ -100,7 +100,7 @@ def test_an_object_built_in_memory_is_refused_in_words():
 
 def test_sweep_records_and_csv_match_the_cli(tmp_path, monkeypatch):
     monkeypatch.chdir(ROOT)
-    records = auditor.sweep(CASE, vary=["temperature=800:1000:100"])
+    records = auditor.sweep_records(CASE, vary=["temperature=800:1000:100"])
     assert [r.index for r in records] == [0, 1, 2] and all(r.certified for r in records)
     auditor.write_csv(records, tmp_path / "api.csv")
     rc, _, err = run(["sweep", CASE, "--vary", "temperature=800:1000:100", "--jobs", "1", "--quiet",

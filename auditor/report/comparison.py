@@ -96,7 +96,8 @@ def render_html(results) -> str:
     verdicts = ", ".join(str(d["verdict"]) for d in docs)
     title = f"Comparison of {len(docs)} operating cases"
     out = head(title, title, verdicts, docs[0]["tool"]["version"])
-    out.insert(out.index("</head>"), "<style>tr.differs td{background:#fff3c4}tr.differs td:first-child"
+    from . import style
+    out.insert(out.index("</head>"), f"<style>tr.differs td{{background:{style.DIFFERS_FILL}}}tr.differs td:first-child"
                                      "{font-weight:bold}tr.differs td:first-child::before{content:'\\25B6  '}</style>")
     out.append(f"<h1>Equilibrium-problem audit: {escape(title)}</h1>")
     out.append('<section id="comparison"><h2>Comparison</h2>')
