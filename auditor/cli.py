@@ -45,9 +45,12 @@ def _parser() -> argparse.ArgumentParser:
     c.add_argument("--json", action="store_true", help="print the audit as JSON")
     c.add_argument("--explain", action="store_true", help="print each verdict rule as it was applied")
     c.add_argument("--quiet", action="store_true", help="no output for a single case; exit status only")
+    c.add_argument("--basis", action="append", choices=("dry", "ppm", "mass"), metavar="BASIS",
+                   help="also show the equilibrium composition on a basis: dry (water left out), ppm (minor "
+                        "species, ppm by volume), mass (mass fractions and masses); repeatable")
     c.add_argument("--no-confirm", action="store_true", help="skip the Gibbs minimisation (counting only)")
     c.add_argument("--report", metavar="PATH", help="write the full audit; the format follows the suffix "
-                   "(.html, .md, .json)")
+                   "(.html, .md, .json); several cases give one report, a comparison table first")
     c.add_argument("--force", action="store_true", help="overwrite an existing report")
     c.add_argument("--jobs", type=int, default=None, metavar="N",
                    help="worker processes for several cases (default: all cores when more than two cases)")
@@ -143,9 +146,6 @@ def _cmd_check(args) -> int:
     from .report.document import check_document
     from .report.terminal import audit_text, summary_line
     paths = args.cases or [str(resources.files("auditor") / "data" / "default_case.yaml")]
-    if args.report and len(paths) != 1:
-        print("auditor: error: --report takes exactly one CASE", file=sys.stderr)
-        return EXIT_INPUT
     if args.report:
         from .report.files import REPORT_FORMATS, check_target
         try:
@@ -171,16 +171,24 @@ def _cmd_check(args) -> int:
             status = max(status, result.exit_status)
     if args.report and results:
         from .report.files import render_report, write_atomic
-        write_atomic(args.report, render_report(results[0], Path(args.report).suffix.lower()))
+        suffix = Path(args.report).suffix.lower()
+        if len(paths) > 1:       # several operating cases: one document, the comparison first
+            from .report.comparison import render_cases
+            write_atomic(args.report, render_cases(results, suffix))
+        else:
+            write_atomic(args.report, render_report(results[0], suffix))
         if not args.quiet:
             print(f"report written to {args.report}", file=sys.stderr)
     if args.json and results:
         docs = [check_document(r) for r in results]
         print(json.dumps(docs[0] if len(paths) == 1 else docs, indent=1))
-    elif args.report and results and not args.quiet:
+    elif args.report and results and not args.quiet and len(paths) == 1:
         print(summary_line(results[0]))
     elif len(paths) == 1 and results and not args.quiet:
         sys.stdout.write(colourise(audit_text(results[0], explain=args.explain)))
+        if args.basis:
+            from .report.bases import basis_lines
+            print("\n".join(basis_lines(results[0], args.basis)))
     elif not args.quiet or len(paths) > 1:
         for r in results:
             print(terminal_safe(summary_line(r)))

@@ -95,6 +95,7 @@ class Quantity:
     kind: str           # temperature, pressure, amount or mass
     si: float
     exact: Fraction | None
+    per: str | None = None   # a rate's time unit as written ("h" for "2 kmol/h"): si and exact are per that time
 
 
 def example(kind: str | tuple[str, ...]) -> str:
@@ -177,7 +178,12 @@ def parse(value: Any, kinds: tuple[str, ...] | str) -> Quantity:
         si = number * float(scale) + float(offset) if offset else number * float(scale)
         exact = None if offset else Fraction(number_text) * scale if _finite_text(number_text) else None
     else:
-        _rate(number_text, unit, kinds)
+        rate = _rate(unit, kinds)
+        if rate is not None:     # '2 kmol/h': the amount fed in one time unit, which is kept
+            amount_unit, per = rate
+            q = parse(f"{number_text} {amount_unit}", kinds)
+            from dataclasses import replace
+            return replace(q, text=text, unit=unit, per=per)
         _near_miss(number_text, unit, kinds)
         try:
             kind, si = _with_pint(number, unit, kinds, what)
@@ -217,18 +223,21 @@ _TIMES = {"s": "second", "sec": "second", "min": "minute", "h": "hour", "hr": "h
 _RATE = re.compile(r"^\s*(.+?)\s*(?:/|\bper\s+)\s*([A-Za-z]+)\s*$")
 
 
-def _rate(number_text: str, unit: str, kinds: tuple[str, ...]) -> None:
-    """Raise, in engineering words, when an amount is written as a flow rate."""
+def _rate(unit: str, kinds: tuple[str, ...]) -> tuple[str, str] | None:
+    """(amount or mass unit, time unit as written) of a flow rate such as 'kg/h', 'kmol/hr',
+    't/d' or 'lb per hour' written where an amount is wanted; None for anything else."""
     if "amount" not in kinds and "mass" not in kinds:
-        return
+        return None
     m = _RATE.match(unit)
     key = m.group(2).lower() if m else ""
-    per = _TIMES.get(key) or _TIMES.get(key.rstrip("s"))
-    if per is None:
-        return
-    raise ValueError(f"{number_text} {unit} is a flow rate; a feed is the amount charged to a closed system, and "
-                     f"rates are not supported yet: write the amount fed in one {per}, {number_text} {m.group(1)} "
-                     "(the equilibrium composition does not depend on the basis chosen)")
+    if (_TIMES.get(key) or _TIMES.get(key.rstrip("s"))) is None:
+        return None
+    return m.group(1), m.group(2)
+
+
+def time_word(per: str) -> str:
+    """The time unit of a rate in words: 'h' -> 'hour'."""
+    return _TIMES.get(per.lower()) or _TIMES.get(per.lower().rstrip("s")) or per
 
 
 def _other_case(number_text: str, unit: str, kinds: tuple[str, ...]) -> None:

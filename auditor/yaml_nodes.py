@@ -178,9 +178,13 @@ def check_budget(root, file: str) -> None:
             stack.extend((v, depth + 1) for v in node.value)
 
 
-def load_nodes(path: Path):
-    """The root node of a case file, after the size, encoding, syntax and budget checks."""
+def load_nodes(path: Path, text: str | None = None):
+    """The root node of a case file, after the size, encoding, syntax and budget checks.
+    ``text``: the case's YAML text held in memory (a case given as a mapping); ``path`` then
+    only names it in messages."""
     import yaml
+    if text is not None:
+        return _root_of(path, text.encode("utf-8", "surrogatepass"))
     if path.is_dir():
         raise CaseError(Problem(str(path), "is a directory, not a case file"))
     try:
@@ -189,6 +193,11 @@ def load_nodes(path: Path):
             raw = fh.read(settings.MAX_CASE_FILE_BYTES + 1)
     except OSError as exc:
         raise CaseError(Problem(str(path), f"cannot read case file: {exc.strerror or exc}")) from None
+    return _root_of(path, raw)
+
+
+def _root_of(path: Path, raw: bytes):
+    import yaml
     if len(raw) > settings.MAX_CASE_FILE_BYTES:
         raise LimitError(Problem(str(path), f"case file is larger than the limit of "
                                  f"{settings.MAX_CASE_FILE_BYTES} bytes; refused"))

@@ -205,10 +205,12 @@ def test_report_over_the_input_case_is_refused(spelling, force, tmp_path, capsys
     assert listing(tmp_path) == before
 
 
-def test_report_needs_exactly_one_case(demo, tmp_path, capsys):
+def test_several_cases_give_one_report_never_over_an_input(demo, tmp_path, capsys):
+    # several cases write one comparison report (issue 24); an input is still never overwritten
     rc, out, err = run_main(["check", demo, demo, "--report", tmp_path / "r.md"], capsys)
-    assert rc == 2 and "--report takes exactly one CASE" in err
-    assert not (tmp_path / "r.md").exists()
+    assert rc == 0 and "## Comparison" in (tmp_path / "r.md").read_text(encoding="utf-8")
+    rc, out, err = run_main(["check", demo, str(tmp_path / "r.md"), "--report", tmp_path / "r.md", "--force"], capsys)
+    assert rc == 2 and "refusing to write the report over an input file" in err
 
 
 # ------------------------------------------------------------------ interruptions

@@ -149,12 +149,19 @@ def test_a_units_declaration_that_does_not_fit_is_refused(tmp_path, units_text, 
     assert message in msg
 
 
-def test_a_flow_rate_in_the_feed_is_answered_in_engineering_words(tmp_path):
+def test_a_feed_mixing_a_rate_and_amounts_is_answered_in_engineering_words(tmp_path):
+    # rates are supported (issue 24): a feed of rates per one time unit; a mix is refused
     path = furnace(tmp_path, ("H2S: 90 kmol", "H2S: 3060 kg/h"))
     msg = refused(tmp_path, path)
-    assert msg.startswith(f"auditor: error: {path}:7:13: feed.H2S: 3060 kg/h is a flow rate")
-    assert "write the amount fed in one hour, 3060 kg" in msg
+    assert msg.startswith(f"auditor: error: {path}:7:29: feed.CO2: this feed mixes a rate (H2S: 3060 kg/h) "
+                          "with an amount (CO2: 6 kmol): write every feed entry as a rate per hour (e.g. CO2: 6 kmol/h)")
     assert "registry" not in msg and "not defined" not in msg
+
+
+def test_rates_per_different_time_units_are_refused(tmp_path):
+    path = furnace(tmp_path, ("H2S: 90 kmol", "H2S: 90 kmol/h"), ("CO2: 6 kmol", "CO2: 144 kmol/d"))
+    msg = refused(tmp_path, path)
+    assert "feed.CO2: this feed mixes rates per hour and per day (CO2: 144 kmol/d)" in msg
 
 
 def test_a_flow_key_without_its_colon_is_named(tmp_path):

@@ -427,10 +427,12 @@ def test_report_refuses_unknown_suffix(tmp_path, name):
     assert list(tmp_path.iterdir()) == []
 
 
-def test_report_takes_exactly_one_case(tmp_path):
+def test_several_cases_make_one_comparison_report(tmp_path):
+    # issue 24: several cases give one report, the comparison first (tests/test_comparison.py)
     rc, _, err = run(["check", DESIGN, OVERSPEC, "--report", tmp_path / "x.html"])
-    assert rc == 2 and "exactly one" in err
-    assert list(tmp_path.iterdir()) == []
+    assert rc == 1, err
+    assert list(tmp_path.iterdir()) == [tmp_path / "x.html"]
+    assert "Comparison of 2 operating cases" in (tmp_path / "x.html").read_text(encoding="utf-8")
 
 
 @pytest.mark.skipif(os.geteuid() == 0, reason="running as root: chmod does not stop root from writing "

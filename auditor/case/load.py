@@ -10,7 +10,7 @@ from ..errors import CaseError, InputError
 from ..system import shipped_data_file
 from ..yaml_nodes import NodeMapping, NodeReader, kind_of, load_nodes, suggest
 from .conditions import read_claims, read_restrictions, read_specified
-from .quantities import feed_quantities, read_units
+from .quantities import feed_quantities, rate_time, read_units
 from .records import Case, SystemSpec, _exact
 
 TOP_KEYS = ("title", "system", "reactions", "feed", "coexisting", "specified", "restrictions", "claims", "units")
@@ -18,8 +18,9 @@ SYSTEM_KEYS = ("source", "mechanism", "phases", "gas-model")
 GAS_MODELS = ("ideal-gas", "peng-robinson")   # system.gas-model: the model of a packaged gas phase
 
 
-def load_case(path: str | Path) -> Case:
-    """Read and validate a case file's structure and units.
+def load_case(path: str | Path, text: str | None = None) -> Case:
+    """Read and validate a case file's structure and units.  ``text``: the case's YAML held in
+    memory instead of read from ``path`` (relative mechanism paths then start at ``path``'s folder).
 
     Raises
     ------
@@ -28,7 +29,7 @@ def load_case(path: str | Path) -> Case:
     """
     from ..system import build_system, check_names
     path = Path(path)
-    root = load_nodes(path)
+    root = load_nodes(path, text)
     rd = NodeReader(str(path))
     top = rd.plain(root, "")
     rd.check_keys(top, TOP_KEYS, "")
@@ -37,14 +38,14 @@ def load_case(path: str | Path) -> Case:
     declared = read_units(rd, rd.get(top, "units"))
     system_spec = _read_system(rd, top, root, path)
     reactions = _read_reactions(rd, rd.get(top, "reactions"), system_spec)
-    feed, feed_mass = _read_feed(rd, rd.get(top, "feed"), declared)
+    feed, feed_mass, rate_per = _read_feed(rd, rd.get(top, "feed"), declared)
     coexisting = _read_coexisting(rd, rd.get(top, "coexisting"))
     specified = read_specified(rd, rd.get(top, "specified"), declared)
     restrictions = read_restrictions(rd, rd.get(top, "restrictions"))
     claims = read_claims(rd, rd.get(top, "claims"))
     case = Case(path=path, title=title, system=system_spec, reactions=reactions, feed=feed, coexisting=coexisting,
                 specified=specified, restrictions=restrictions, claims=claims, lines=dict(rd.lines),
-                feed_mass=feed_mass,
+                feed_mass=feed_mass, text=text, rate_per=rate_per,
                 as_written={kp: t for kp, t in rd.texts.items() if kp.startswith(("feed.", "specified."))})
     if rd.problems:
         # report the names that do not exist together with the structural problems, when the
@@ -207,22 +208,24 @@ def _read_reactions(rd: NodeReader, rnode, system_spec: SystemSpec | None) -> st
 
 
 def _read_feed(rd: NodeReader, fnode, declared: dict[str, str]
-               ) -> tuple[tuple[tuple[str, Fraction], ...] | None, frozenset[str]]:
+               ) -> tuple[tuple[tuple[str, Fraction], ...] | None, frozenset[str], str | None]:
     """The feed amounts, exact as written (mol, or kg for the species given in a mass unit),
-    and the species given in a mass unit."""
+    the species given in a mass unit, and the time unit of a feed written as rates (the
+    amounts are then those fed in one time unit)."""
     if fnode is None:
-        return None, frozenset()
+        return None, frozenset(), None
     fm = rd.want_mapping(fnode, "feed")
     if fm is None:
-        return None, frozenset()
+        return None, frozenset(), None
     items, feed_mass = [], set()
-    for sp, q in feed_quantities(rd, fm, declared):
+    quantities = feed_quantities(rd, fm, declared)
+    for sp, q in quantities:
         items.append((sp, _exact(q)))
         if q.kind == "mass":
             feed_mass.add(sp)
     if fm and items and all(a == 0 for _, a in items):
         rd.problem(fnode, "feed", "the feed is empty (every amount is zero)")
-    return tuple(items), frozenset(feed_mass)
+    return tuple(items), frozenset(feed_mass), rate_time(quantities)
 
 
 def _read_coexisting(rd: NodeReader, cnode) -> tuple[str, ...] | None:

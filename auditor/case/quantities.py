@@ -147,7 +147,36 @@ def feed_quantities(rd: NodeReader, fm, declared: dict[str, str]) -> list[tuple[
     if unit is None and with_unit and bare and len(rd.problems) == before:
         _mixed_feed(rd, bare, with_unit)
         return []
+    if len(rd.problems) == before and not _same_basis(rd, fm, out):
+        return []
     return out
+
+
+def rate_time(quantities) -> str | None:
+    """The time unit of a feed written as rates ('h' for kmol/h and kg/h), or None for amounts."""
+    return next((q.per for _, q in quantities if q.per is not None), None)
+
+
+def _same_basis(rd: NodeReader, fm, out) -> bool:
+    """A feed is all amounts or all rates per one time unit (a zero may be written either way)."""
+    per = rate_time(out)
+    if per is None:
+        return True
+    word = units.time_word(per)
+    for sp, q in out:
+        if q.si == 0 or (q.per is not None and units.time_word(q.per) == word):
+            continue
+        kp = f"feed.{sp}"
+        if q.per is None:
+            rsp, rq = next((x, y) for x, y in out if y.per is not None)
+            why = (f"this feed mixes a rate ({rsp}: {rq.text}) with an amount ({sp}: {q.text}): write every feed entry "
+                   f"as a rate per {word} (e.g. {sp}: {_number(q.number)} {q.unit}/{per}) or every one as an amount")
+        else:
+            why = (f"this feed mixes rates per {word} and per {units.time_word(q.per)} ({sp}: {q.text}): write "
+                   f"every feed rate per the same time unit")
+        rd.problem(fm[sp][1], kp, why)
+        return False
+    return True
 
 
 def _mixed_feed(rd: NodeReader, bare, with_unit) -> None:

@@ -179,6 +179,11 @@ class Case:
     # key path -> the text exactly as the user wrote it, for every feed amount and specification
     # ("feed.CH4": "2 kmol", "specified.temperature": "850 degC"), so reports can show inputs as entered
     as_written: Mapping[str, str] = field(default_factory=dict, compare=False)
+    # the YAML text of a case given in memory (a mapping, auditor.check); None for a case file
+    text: str | None = field(default=None, compare=False)
+    # a feed written as rates ('kmol/h', 'kg/h', 't/d'): the time unit as written ('h'); the case is
+    # the closed system fed in one such time unit, so every extensive result is per that unit
+    rate_per: str | None = None
 
     def line(self, key_path: str) -> int | None:
         return self.lines.get(key_path)

@@ -45,6 +45,15 @@ def _sha256(path) -> str | None:
         return None
 
 
+def _case_input(case) -> dict:
+    """The case file's row of ``inputs``; a case given in memory is hashed as its YAML text."""
+    if getattr(case, "text", None) is not None:
+        import hashlib
+        return {"path": str(case.path), "sha256": hashlib.sha256(case.text.encode("utf-8")).hexdigest(),
+                "role": "case given in memory (as the YAML text shown)"}
+    return {"path": str(case.path), "sha256": _sha256(case.path), "role": "case file"}
+
+
 def versions() -> dict:
     import platform
     from importlib import metadata
@@ -158,11 +167,15 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
                                       for g in a.duplicates]
     doc["reactions"]["derived_complete_set"] = [x.equation for x in a.derived_basis]
     doc["system"] = system_block(r)
+    from .bases import bases_document, flow_document    # additive: reporting bases and the flow basis (issue 24)
+    doc["flow_basis"] = flow_document(r.case)
+    if doc["equilibrium"] is not None:
+        doc["equilibrium"]["bases"] = bases_document(r)
     if getattr(r, "real_gas", None) is not None:   # the ideal-gas assumption checked (equilibrium/real_gas.py)
         doc["real_gas"] = real_gas_document(r.real_gas)
     if with_context:
         import datetime
-        inputs = [{"path": str(r.case.path), "sha256": _sha256(r.case.path), "role": "case file"}]
+        inputs = [_case_input(r.case)]
         inputs += thermo_inputs(r)
         doc["inputs"] = inputs
         doc["versions"] = versions()

@@ -71,8 +71,9 @@ def _molar_unit(unit: str) -> float | None:
         return None
 
 
-def amount_unit(feed_texts) -> tuple[str, float]:
-    """(unit, mol per unit) of the report's amounts: the feed's one molar unit, else mol."""
+def amount_unit(feed_texts, per: str | None = None) -> tuple[str, float]:
+    """(unit, mol per unit) of the report's amounts: the feed's one molar unit, else mol;
+    for a feed written as rates per ``per`` (a time unit), a rate (kmol/h as written, else mol/h)."""
     from ..units import split
     units = set()
     for _, t in feed_texts:
@@ -86,7 +87,7 @@ def amount_unit(feed_texts) -> tuple[str, float]:
             scale = _molar_unit(unit)
             if scale is not None:
                 return unit, scale
-    return "mol", 1.0
+    return ("mol", 1.0) if per is None else (f"mol/{per}", 1.0)
 
 
 def feed_units(feed_texts) -> tuple[str, ...]:
@@ -113,7 +114,7 @@ def feed_as_written(case) -> list[tuple[str, str]]:
 
 def case_amount_unit(case) -> tuple[str, float]:
     """The report's amount unit for ``case`` without reading its file again."""
-    return amount_unit(feed_as_written(case))
+    return amount_unit(feed_as_written(case), getattr(case, "rate_per", None))
 
 
 def read(case) -> Entered:
@@ -121,7 +122,7 @@ def read(case) -> Entered:
     import yaml
     path = str(case.path)
     try:
-        raw = Path(case.path).read_bytes()
+        raw = case.text.encode("utf-8") if getattr(case, "text", None) is not None else Path(case.path).read_bytes()
         text = raw.decode("utf-8")
         root = yaml.compose(text, Loader=yaml.SafeLoader)
     except (OSError, UnicodeDecodeError, yaml.YAMLError):
@@ -145,7 +146,7 @@ def read(case) -> Entered:
     claims = []
     if isinstance(top.get("claims"), yaml.MappingNode):
         claims = [(k.value, _snippet(text, v)) for k, v in top["claims"].value]
-    unit, scale = amount_unit(feed)
+    unit, scale = amount_unit(feed, getattr(case, "rate_per", None))
     return Entered(path=path, text=text, sha256=hashlib.sha256(raw).hexdigest() if raw else "",
                    source=source, feed=tuple(feed), specified=tuple(specified), restrictions=tuple(restrictions),
                    claims=tuple(claims), amount_unit=unit, mol_per_unit=scale,

@@ -88,44 +88,75 @@ def _linked(c: str) -> str:
 def render(r: AuditResult) -> str:
     doc, sections = build(r)
     v = doc["verdict"]
-    out = ["<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
-           f"<title>Audit: {escape(doc['title'])} ({escape(v)})</title>",
-           f"<style>{_css(doc['title'], v, doc['tool']['version'])}</style>", "</head>", "<body>",
-           f"<h1>Equilibrium-problem audit: {escape(doc['title'])}</h1>"]
+    out = head(f"Audit: {doc['title']} ({v})", doc["title"], v, doc["tool"]["version"])
+    out.append(f"<h1>Equilibrium-problem audit: {escape(doc['title'])}</h1>")
+    out += body(sections, v)
+    out += ["</body>", "</html>"]
+    return "\n".join(out) + "\n"
+
+
+def head(page_title: str, title: str, verdict: str, version: str) -> list[str]:
+    """The document's opening up to <body>, with the inline style."""
+    return ["<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
+            f"<title>{escape(page_title)}</title>",
+            f"<style>{_css(title, verdict, version)}</style>", "</head>", "<body>"]
+
+
+def fragment(r: AuditResult) -> str:
+    """The report's body for a notebook cell: the sections, in a box, without page furniture."""
+    doc, sections = build(r)
+    tints = "".join(f".auditor-report .{v}{{background:{fill};border:2px solid {edge};padding:.4em .7em}}"
+                    for v, (fill, edge) in style.VERDICT.items())
+    return (f'<div class="auditor-report"><style>.auditor-report table{{border-collapse:collapse}}'
+            f".auditor-report td,.auditor-report th{{border:1px solid {style.RULE};padding:.15em .4em}}{tints}</style>"
+            f"<h3>Equilibrium-problem audit: {escape(doc['title'])}</h3>"
+            + "\n".join(body(sections, doc["verdict"], level=4, skip=("Sign-off",))) + "</div>")
+
+
+def body(sections, v: str, prefix: str = "", level: int = 2, skip=()) -> list[str]:
+    """The sections as HTML; ``prefix`` keeps section ids apart when several cases share a page."""
+    out = []
     for title, blocks in sections:
-        sid = title.lower().replace(" ", "-")
+        if title in skip:
+            continue
+        sid = prefix + title.lower().replace(" ", "-")
         out.append(f'<section id="{escape(sid)}">')
-        out.append(f"<h2>{escape(title)}</h2>")
+        out.append(f"<h{level}>{escape(title)}</h{level}>")
         if title == "Verdict":
             out.append(f'<div class="verdict-box {escape(v)}">')
         for b in blocks:
-            if b.kind == "paragraph":
-                if b.text.startswith("Verdict: "):
-                    out.append(f'<p><span class="verdict">{escape(b.text)}</span></p>')
-                elif b.text.startswith("Why: "):
-                    out.append(f'<p class="reason">{escape(b.text)}</p></div>')
-                else:
-                    out.append(f"<p>{escape(b.text)}</p>")
-            elif b.kind == "list":
-                out.append("<ul>" + "".join(f"<li>{escape(i)}</li>" for i in b.items) + "</ul>")
-            elif b.kind == "table":
-                cap = f"<caption>{escape(b.caption)}</caption>" if b.caption else ""
-                out.append(f"<table>{cap}<thead><tr>" + "".join(f"<th>{escape(h)}</th>" for h in b.headers)
-                           + "</tr></thead><tbody>")
-                out += _rows(b.rows)
-                out.append("</tbody></table>")
-            elif b.kind == "svg":
-                cap = f"<figcaption>{escape(b.caption)}</figcaption>" if b.caption else ""
-                out.append(f"<figure>{cap}{b.text}</figure>")
-            elif b.kind == "file":
-                out.append(f"<details><summary>{escape(b.caption)}</summary><pre>{escape(b.text)}</pre></details>")
-            elif b.kind == "signoff":
-                out.append('<table class="signoff"><caption>Sign-off</caption><thead><tr>'
-                           + "".join(f"<th>{escape(h)}</th>" for h in b.headers) + "</tr></thead><tbody>"
-                           + "".join("<tr>" + "".join(f"<td>{escape(c)}</td>" for c in row) + "</tr>" for row in b.rows)
-                           + "</tbody></table>")
-                out.append("<p>Revision: ________ &nbsp; Revision date: ____________ &nbsp; "
-                           "Reason for revision: ________________________________</p>")
+            out += _block(b)
         out.append("</section>")
-    out += ["</body>", "</html>"]
-    return "\n".join(out) + "\n"
+    return out
+
+
+def _block(b) -> list[str]:
+    out = []
+    if b.kind == "paragraph":
+        if b.text.startswith("Verdict: "):
+            out.append(f'<p><span class="verdict">{escape(b.text)}</span></p>')
+        elif b.text.startswith("Why: "):
+            out.append(f'<p class="reason">{escape(b.text)}</p></div>')
+        else:
+            out.append(f"<p>{escape(b.text)}</p>")
+    elif b.kind == "list":
+        out.append("<ul>" + "".join(f"<li>{escape(i)}</li>" for i in b.items) + "</ul>")
+    elif b.kind == "table":
+        cap = f"<caption>{escape(b.caption)}</caption>" if b.caption else ""
+        out.append(f"<table>{cap}<thead><tr>" + "".join(f"<th>{escape(h)}</th>" for h in b.headers)
+                   + "</tr></thead><tbody>")
+        out += _rows(b.rows)
+        out.append("</tbody></table>")
+    elif b.kind == "svg":
+        cap = f"<figcaption>{escape(b.caption)}</figcaption>" if b.caption else ""
+        out.append(f"<figure>{cap}{b.text}</figure>")
+    elif b.kind == "file":
+        out.append(f"<details><summary>{escape(b.caption)}</summary><pre>{escape(b.text)}</pre></details>")
+    elif b.kind == "signoff":
+        out.append('<table class="signoff"><caption>Sign-off</caption><thead><tr>'
+                   + "".join(f"<th>{escape(h)}</th>" for h in b.headers) + "</tr></thead><tbody>"
+                   + "".join("<tr>" + "".join(f"<td>{escape(c)}</td>" for c in row) + "</tr>" for row in b.rows)
+                   + "</tbody></table>")
+        out.append("<p>Revision: ________ &nbsp; Revision date: ____________ &nbsp; "
+                   "Reason for revision: ________________________________</p>")
+    return out

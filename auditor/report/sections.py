@@ -268,6 +268,8 @@ def _equilibrium(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Bloc
         blocks.append(_para(f"Solver: {eq['solver']}; T = {T:.2f} K ({T - 273.15:.2f} degC); P = {P / 1e5:.6g} bar; "
                             f"confirmed: {yes_no(eq['confirmed'])}."))
         blocks.append(composition(eq, e, doc["phase_rule"]["coexisting"]))
+        from .bases import basis_blocks
+        blocks += basis_blocks(doc)             # flow basis; dry, ppm(v) and mass tables
         blocks.append(certificate(eq, doc))
         if doc.get("real_gas"):
             from .text import real_gas_line

@@ -27,6 +27,7 @@ SHADE_OUT_OF_RANGE = "#ecd9cf"  # band where thermo data are extrapolated
 INK = "#1d232a"                # body text
 RULE = "#8a9099"               # table and heading rules
 HEADER_FILL = "#e8ebe4"        # table header cells
+DIFFERS_FILL = "#fff3c4"     # a comparison row whose value changes between operating cases
 GRID = "#d5d9de"               # chart gridlines
 PAPER_TINT = "#f4f3ee"         # background of embedded files
 AXIS = INK                     # chart frames, axes and legend outlines

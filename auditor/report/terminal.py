@@ -108,6 +108,9 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
     yes = {True: "yes", False: "no", None: "not decided"}
     out = [f"Gibbs minimisation ({eq.solver}) at T = {eq.temperature_K:.2f} K ({eq.temperature_K - 273.15:.2f} degC), "
            f"P = {eq.pressure_Pa / 1e5:.6g} bar: " + ("CONFIRMED" if eq.confirmed else "NOT CONFIRMED")]
+    if getattr(r.case, "rate_per", None) is not None:     # a feed of rates: say what the amounts are
+        from .bases import flow_document
+        out += _wrap("flow basis: " + flow_document(r.case)["statement"])
     for p in eq.phases:
         if p.moles <= 0:
             continue
