@@ -56,7 +56,10 @@ def comparison_rows(docs: list[dict]) -> list[tuple[str, list[str], bool]]:
             ("pressure, bar", [_fmt((d.get("equilibrium") or {}).get("pressure_Pa"), 1e-5) for d in docs]),
             ("flow basis", [("per " + d["flow_basis"]["time_unit_words"]) if d.get("flow_basis") else "amounts (closed system)"
                             for d in docs]),
-            ("phase amounts, mol (per time unit for a flow basis)", [_amounts(d) for d in docs])]
+            ("phase amounts, mol (per time unit for a flow basis)", [_amounts(d) for d in docs]),
+            ("heat added from the feed, kJ", [_fmt((d.get("equilibrium") or {}).get("heat_J"), 1e-3) for d in docs]),
+            ("heat of reaction at the state, kJ", [_fmt((d.get("equilibrium") or {}).get("heat_of_reaction_J"), 1e-3)
+                                                   for d in docs])]
     for ph, sp in _key_species(docs):
         rows.append((f"x({sp}) in {ph}", [_fmt(_phase_x(d).get((ph, sp)), none="absent" if _phase_x(d) else "not computed")
                                           for d in docs]))
