@@ -143,6 +143,8 @@ class Case:
     # key path -> the text exactly as the user wrote it, for every feed amount and specification
     # ("feed.CH4": "2 kmol", "specified.temperature": "850 degC"), so reports can show inputs as entered
     as_written: Mapping[str, str] = field(default_factory=dict, compare=False)
+    # the top-level 'margins' key: feed axes probed for phase boundaries (None: the key is absent)
+    margins: tuple[str, ...] | None = None
 
     def line(self, key_path: str) -> int | None:
         return self.lines.get(key_path)
