@@ -50,7 +50,11 @@ class Boundary:
     value: float | None
     design: float
     searched: tuple[float, float]
-    unit: str = ""
+    unit: str = ""                  # SI unit of value, design and searched
+    user_unit: str = ""             # the unit the case writes this variable in
+    user_value: float | None = None
+    user_design: float | None = None
+    user_searched: tuple[float, float] = (0.0, 0.0)
 
     @property
     def distance(self) -> float | None:
@@ -300,9 +304,35 @@ def margins(case, check, workspace: Workspace, axes: tuple[str, ...] = ()) -> Ma
         problems += more
     pt0.value = None
     sens = _sensitivities(fs, probes, feeds, pt0, system.labels, names, case.specified.adiabatic_feed_temperature_K)
+    found = _in_user_units(case, found)
     hit = sorted((b for b in found if b.value is not None), key=lambda b: _nearness(b))
     return MarginReport(tuple(hit + [b for b in found if b.value is None]), sens, held, bf.skipped, tuple(problems),
                         time.perf_counter() - t0)
+
+
+def _in_user_units(case, found: list[Boundary]) -> list[Boundary]:
+    """Each boundary with its values also in the unit the case writes the variable in (the
+    temperature and pressure as specified, a feed amount as fed; SI when the case writes none)."""
+    from dataclasses import replace
+    from .. import units
+    written = {TEMPERATURE: ("specified.temperature", "temperature"), PRESSURE: ("specified.pressure", "pressure")}
+    out = []
+    for b in found:
+        key, kind = written.get(b.variable, (b.variable, "amount"))
+        unit = b.unit
+        if b.unit and key in case.as_written:
+            try:
+                unit = units.split(case.as_written[key], kind)[2]
+                units.from_si([1.0], unit, kind)
+            except ValueError:
+                unit = b.unit
+        if unit == b.unit:
+            out.append(replace(b, user_unit=unit, user_value=b.value, user_design=b.design, user_searched=b.searched))
+            continue
+        v, d, lo, hi = units.from_si([0.0 if b.value is None else b.value, b.design, *b.searched], unit, kind)
+        out.append(replace(b, user_unit=unit, user_value=None if b.value is None else v, user_design=d,
+                           user_searched=(lo, hi)))
+    return out
 
 
 def _nearness(b: Boundary) -> float:
