@@ -72,9 +72,19 @@ class FixedSet:
         rank = int((s > 1e-10 * s[0]).sum()) if s.size and s[0] > 0 else 0
         self.U = u[:, :rank]
         self.Wr = self.U.T @ W                          # reduced conserved quantities x all species
+        self.Ws = self.Wr[:, self.species]
         self.r, self.n_phases, self.n_u = rank, len(phases), int(self.solution_species.sum())
         self.size = rank + len(phases) + self.n_u
         self.solution_phases = np.flatnonzero(counts > 1)
+        # the Jacobian's fixed pattern
+        self._sol = np.flatnonzero(self.solution_species)
+        self._cols = rank + len(phases) + self.u_index
+        self._e2 = [(row, self._sol[self.pos[self._sol] == p]) for row, p in enumerate(self.solution_phases)]
+        self._members = [np.flatnonzero(self.pos == i) for i in range(len(phases))]
+        self._dmu_ideal = np.zeros((len(self.species), self.n_u))
+        ideal_sol = self._sol[self.ideal[self.pos[self._sol]]]
+        self._dmu_ideal[ideal_sol, self.u_index[ideal_sol]] = 1.0
+        self._rough = [int(k) for k in self._sol if not self.ideal[self.pos[k]]]
 
     # -------------------------------------------------------------- unknowns
 
@@ -105,7 +115,7 @@ class FixedSet:
     def residual(self, y: np.ndarray, T: float, P: float, b: np.ndarray):
         lam, N, x = self.split(y)
         mu, g = self.model.at_state(T, P, self.full_x(x))
-        Ws = self.Wr[:, self.species]
+        Ws = self.Ws
         e1 = mu[self.species] - Ws.T @ lam
         e2 = np.bincount(self.pos, weights=x, minlength=self.n_phases)[self.solution_phases] - 1.0
         e3 = Ws @ (N[self.pos] * x) - b
@@ -115,19 +125,15 @@ class FixedSet:
         """dF/dy at ``y`` (the cantera state must be the one ``residual`` set at ``y``)."""
         lam, N, x = self.split(y)
         ns, r, npn = len(self.species), self.r, self.n_phases
-        Ws = self.Wr[:, self.species]
+        Ws = self.Ws
         J = np.zeros((ns + len(self.solution_phases) + r, self.size))
         J[:ns, :r] = -Ws.T
-        cols = r + npn + self.u_index
-        sol = np.flatnonzero(self.solution_species)
-        dmu = self._dmu_du(x, T, P)
-        J[:ns, r + npn:] = dmu
-        for row, p in enumerate(self.solution_phases):
-            ks = sol[self.pos[sol] == p]
+        cols, sol = self._cols, self._sol
+        J[:ns, r + npn:] = self._dmu_du(x, T, P)
+        for row, ks in self._e2:
             J[ns + row, cols[ks]] = x[ks]
         top = ns + len(self.solution_phases)
-        for i in range(npn):
-            ks = np.flatnonzero(self.pos == i)
+        for i, ks in enumerate(self._members):
             J[top:, r + i] = Ws[:, ks] @ x[ks]
         J[top:, cols[sol]] = Ws[:, sol] * (N[self.pos[sol]] * x[sol])
         return J
@@ -136,24 +142,19 @@ class FixedSet:
         """d(mu_k/RT)/d(ln x_j) at fixed T, P: one for an ideal solution's own species; for a
         non-ideal phase, from the phase model (a central difference of its chemical potentials
         at fixed T and P, not of the equilibrium)."""
-        ns = len(self.species)
-        out = np.zeros((ns, self.n_u))
-        sol = np.flatnonzero(self.solution_species)
-        for k in sol:
-            if self.ideal[self.pos[k]]:
-                out[k, self.u_index[k]] = 1.0
-        rough = [k for k in sol if not self.ideal[self.pos[k]]]
-        if rough:
-            h = 1e-6
-            for k in rough:
-                xs = []
-                for sgn in (1.0, -1.0):
-                    xx = x.copy()
-                    xx[k] *= np.exp(sgn * h)
-                    xs.append(self.model.at_state(T, P, self.full_x(xx))[0][self.species])
-                same = self.pos == self.pos[k]
-                out[same, self.u_index[k]] = ((xs[0] - xs[1]) / (2 * h))[same]
-            self.model.at_state(T, P, self.full_x(x))
+        if not self._rough:
+            return self._dmu_ideal
+        out = self._dmu_ideal.copy()
+        h = 1e-6
+        for k in self._rough:
+            xs = []
+            for sgn in (1.0, -1.0):
+                xx = x.copy()
+                xx[k] *= np.exp(sgn * h)
+                xs.append(self.model.at_state(T, P, self.full_x(xx))[0][self.species])
+            same = self.pos == self.pos[k]
+            out[same, self.u_index[k]] = ((xs[0] - xs[1]) / (2 * h))[same]
+        self.model.at_state(T, P, self.full_x(x))
         return out
 
     def partials(self, pt: Point) -> tuple[np.ndarray, np.ndarray]:

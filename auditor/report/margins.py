@@ -52,7 +52,7 @@ def sensitivities_document(report) -> dict | None:
 def search_document(report) -> dict:
     """How the margins were searched: what was held, what could not be probed, the bounds."""
     return {"held": list(report.held), "not_probed": [{"phase": p, "reason": why} for p, why in report.not_probed],
-            "problems": list(report.problems), "seconds": report.seconds,
+            "problems": list(report.problems),
             "bounds": {"temperature_span_K": settings.MARGIN_TEMPERATURE_SPAN_K,
                        "pressure_factor": settings.MARGIN_PRESSURE_FACTOR,
                        "feed_factor": settings.MARGIN_FEED_FACTOR},
