@@ -131,7 +131,7 @@ def _audit_all(paths, args, tick=lambda: None):
     executor = make_executor(jobs, args.scheduler)
     try:
         done = {}
-        for (path, _), result in executor.map_blocks(audit_for_batch, [(p, confirm, False, args.margins)
+        for (path, *_), result in executor.map_blocks(audit_for_batch, [(p, confirm, False, args.margins)
                                                                               for p in paths]):
             done[path] = result
             tick()

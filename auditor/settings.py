@@ -122,7 +122,7 @@ MARGIN_RELATIVE_STEP = 0.05               # pressure: in ln P; a feed axis: of i
 MARGIN_STEP_GROWTH = 1.5
 MARGIN_STEP_MAX_MULTIPLE = 10.0
 MARGIN_STEP_MIN_MULTIPLE = 1e-3         # where the state cannot be followed, steps shrink to this before giving up
-MARGIN_TEMPERATURE_XTOL_K = 1e-6          # a boundary is located to this (Brent's method) ...
+MARGIN_TEMPERATURE_XTOL_K = 1e-6          # a boundary is located to this (bracketed false position) ...
 MARGIN_RELATIVE_XTOL = 1e-9               # ... or this relative to the design value
 # A boundary nearer than this to the design point is named in the verdict box and becomes a
 # finding (common practice for a design review; a stated choice, not a physical limit).

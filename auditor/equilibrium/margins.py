@@ -9,7 +9,8 @@ design point on both sides, the state followed by Newton's method from the tange
   in RT): zero where the phase appears;
 * for a present phase, its amount: zero where it vanishes.
 
-The crossing is then found by Brent's bracketed method on that function.  The first boundary
+The crossing is then found by a bracketed method (Illinois false position, with bisection
+steps) on that function.  The first boundary
 met on a side ends that side's search: beyond it the phase set is another one.  Where no
 boundary lies inside the searched interval (the data ranges of the present species and the
 stated bounds of ``settings``), the result says so with the interval.
@@ -175,7 +176,6 @@ def _solve_at(fs: FixedSet, probe: _Probe, v: float, near: Point, near_dy: np.nd
 
 def _follow(fs: FixedSet, bf: _Boundaries, probe: _Probe, pt0: Point, f0: dict, side: int):
     """Move ``probe`` away from the design on one side; returns ([(phase, value)], end reached, why)."""
-    from scipy.optimize import brentq
     bound = probe.bounds[1] if side > 0 else probe.bounds[0]
     prev, f_prev = pt0, f0
     step = probe.step
@@ -199,13 +199,45 @@ def _follow(fs: FixedSet, bf: _Boundaries, probe: _Probe, pt0: Point, f0: dict, 
                 def g(w, p=p, prev=prev, dy=dy):
                     return bf.values(_solve_at(fs, probe, w, prev, dy))[p]
                 try:
-                    found.append((p, brentq(g, prev.value, v, xtol=_xtol(probe), rtol=4 * np.finfo(float).eps)))
-                except (NotFollowed, ValueError, np.linalg.LinAlgError):
+                    found.append((p, bracketed_root(g, prev.value, v, f_prev[p], f[p], _xtol(probe))))
+                except (NotFollowed, np.linalg.LinAlgError):
                     found.append((p, 0.5 * (prev.value + v)))
             return found, min(w for _, w in found) if side > 0 else max(w for _, w in found), "boundary"
         prev, f_prev = pt, f
         step = min(step * settings.MARGIN_STEP_GROWTH, probe.step * settings.MARGIN_STEP_MAX_MULTIPLE)
     return [], bound, "bound"
+
+
+def bracketed_root(g, a: float, b: float, fa: float, fb: float, xtol: float) -> float:
+    """A zero of ``g`` between ``a`` and ``b`` (``fa``, ``fb`` of opposite signs or zero): the
+    Illinois false-position method, with a bisection step whenever the bracket does not shrink
+    by half in two steps (Dowell & Jarratt 1971; guaranteed to stay in the bracket)."""
+    if fa == 0:
+        return a
+    if fb == 0:
+        return b
+    side, width = 0, abs(b - a)
+    for i in range(200):
+        if abs(b - a) <= xtol:
+            break
+        c = b - fb * (b - a) / (fb - fa)
+        if i % 2 == 1 and abs(b - a) > 0.5 * width:       # slow: bisect instead
+            c = 0.5 * (a + b)
+        if i % 2 == 1:
+            width = abs(b - a)
+        fc = g(c)
+        if fc == 0:
+            return c
+        if (fc > 0) == (fb > 0):
+            b, fb = c, fc
+            if side == -1:
+                fa *= 0.5
+            side = -1
+        else:
+            a, fa = b, fb
+            b, fb = c, fc
+            side = 1
+    return b if abs(fb) <= abs(fa) else a
 
 
 def _xtol(probe: _Probe) -> float:

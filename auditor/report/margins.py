@@ -17,6 +17,13 @@ def _finite(x):
     return x if x is not None and math.isfinite(x) else None
 
 
+def _distance(b) -> str:
+    """In kelvin for a temperature, else in the case's unit."""
+    if b.variable == "temperature":
+        return f"{b.distance:.4g} K"
+    return f"{abs(b.user_value - b.user_design):.4g} {b.user_unit}".rstrip()
+
+
 def margins_list(report) -> list[dict]:
     """The JSON ``margins`` list: one entry per phase boundary found (nearest first), then one per
     phase and variable with none inside the interval searched (``value_SI`` null)."""
@@ -94,12 +101,12 @@ def margin_blocks(r, doc: dict) -> list[Block]:
                       "or there is no confirmed state).")]
     blocks = [_para("Each variable is moved alone from the design point with the phases present there held; a "
                     "boundary is where an absent phase's driving force or a present phase's amount reaches zero "
-                    "(bracketed, Brent's method). The first boundary on each side ends that side's search. "
+                    "(bracketed: false position with bisection steps). The first boundary on each side ends that side's search. "
                     f"Named as near: closer than {threshold_words()}.")]
     found = [b for b in report.boundaries if b.value is not None]
     blocks.append(_table(("phase", "change", "variable", "at the boundary", "design", "distance", "near"),
                          [(b.phase, f"{b.change} {b.side}", b.variable, f"{b.user_value:.6g} {b.user_unit}".rstrip(),
-                           f"{b.user_design:.6g} {b.user_unit}".rstrip(), f"{b.distance:.4g} {b.unit}".rstrip(),
+                           f"{b.user_design:.6g} {b.user_unit}".rstrip(), _distance(b),
                            "yes" if is_near(b) else "no") for b in found], "Phase boundaries, nearest first")
                   if found else _para("No phase boundary lies inside the intervals searched."))
     none = [boundary_sentence(b) for b in report.boundaries if b.value is None]

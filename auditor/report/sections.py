@@ -314,4 +314,6 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
     """The JSON document and the report's sections, each a title and its blocks."""
     doc = doc or check_document(r, with_context=True)
     e = entered_mod.read(r.case)
-    return doc, [(title, section(r, doc, e)) for title, section in SECTIONS]
+    # the Margins section only when they were computed (a 'margins:' key or --margins)
+    return doc, [(title, section(r, doc, e)) for title, section in SECTIONS
+                 if title != "Margins" or getattr(r, "margins", None) is not None]
