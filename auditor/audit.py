@@ -37,6 +37,7 @@ class AuditResult:
     verdict: Verdict
     reason: str = ""             # the verdict's reason in one plain sentence
     real_gas: Any = None         # RealGasAudit (equilibrium/real_gas.py) or None: the ideal-gas assumption checked
+    margins: Any = None          # MarginReport (equilibrium/margins.py) or None: not asked for, or no confirmed state
 
 
     @property
@@ -91,8 +92,9 @@ def counting_stages(case: Case, system: ChemicalSystem | None = None) -> Countin
     return CountingStages(system, reactions, analysis, count, audit_specification(case, system, count))
 
 
-def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) -> AuditResult:
-    """Audit one validated case (its system may be passed in when already built)."""
+def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True, margins: bool = False) -> AuditResult:
+    """Audit one validated case (its system may be passed in when already built); the margins
+    of a confirmed state are computed when ``margins`` or the case has a ``margins:`` key."""
     stages = counting_stages(case, system)
     system, reactions, analysis, count, spec = stages.system, stages.reactions, stages.analysis, stages.count, \
         stages.specification
@@ -121,6 +123,11 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     real_gas, gas_findings = _ideal_gas_check(case, system, analysis, equilibrium,
                                               workspace if equilibrium is not None else None)
     findings += gas_findings
+    margin_report = None
+    if (margins or case.margins is not None) and equilibrium is not None:
+        from .equilibrium.margin_findings import margin_report_and_findings
+        margin_report, more = margin_report_and_findings(case, equilibrium, workspace)
+        findings += more
 
     impossible = assumed_outside_range(case, system, count)
     shown = set(dict(equilibrium.set_aside)) if equilibrium is not None else set()
@@ -146,7 +153,7 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True) 
     if verdict == Verdict.INCONSISTENT and wrong_set and not analysis.unbalanced:
         reason = "the phase set cannot be right: " + wrong_set[0].message.split(": ", 1)[0]
     return AuditResult(case, system, analysis, count, spec, equilibrium, tuple(checks), tuple(findings), verdict,
-                       reason, real_gas)
+                       reason, real_gas, margin_report)
 
 
 def _ideal_gas_check(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, equilibrium, workspace):
@@ -347,15 +354,15 @@ def hindered_product_findings(case: Case, system: ChemicalSystem, equilibrium) -
     return out
 
 
-def audit_file(path: str | Path, confirm: bool = True) -> AuditResult:
-    return run(case_mod.load_case(path), confirm=confirm)
+def audit_file(path: str | Path, confirm: bool = True, margins: bool = False) -> AuditResult:
+    return run(case_mod.load_case(path), confirm=confirm, margins=margins)
 
 
-def audit_for_batch(path: str | Path, confirm: bool = True, raise_errors: bool = False):
+def audit_for_batch(path: str | Path, confirm: bool = True, raise_errors: bool = False, margins: bool = False):
     """One unit of work of a multi-case run: the result, or the input error as a value (so that
     an executor does not retry a file that is simply invalid)."""
     try:
-        return audit_file(path, confirm=confirm)
+        return audit_file(path, confirm=confirm, margins=margins)
     except InputError as exc:
         if raise_errors:
             raise

@@ -49,6 +49,9 @@ def _parser() -> argparse.ArgumentParser:
                    help="also show the equilibrium composition on a basis: dry (water left out), ppm (minor "
                         "species, ppm by volume), mass (mass fractions and masses); repeatable")
     c.add_argument("--no-confirm", action="store_true", help="skip the Gibbs minimisation (counting only)")
+    c.add_argument("--margins", action="store_true", help="also find how far the confirmed state is from every "
+                   "phase boundary in T, P and the case's 'margins:' feed axes, and its sensitivities (computed "
+                   "anyway when the case has a 'margins:' key)")
     c.add_argument("--report", metavar="PATH", help="write the full audit; the format follows the suffix "
                    "(.html, .md, .json); several cases give one report, a comparison table first")
     c.add_argument("--force", action="store_true", help="overwrite an existing report")
@@ -123,7 +126,7 @@ def _audit_all(paths, args, tick=lambda: None):
     jobs = args.jobs if args.jobs is not None else (1 if len(paths) <= 2 else None)
     if len(paths) == 1 or (jobs == 1 and not args.scheduler) or args.debug:
         for path in paths:
-            result = audit_for_batch(path, confirm, raise_errors=args.debug)
+            result = audit_for_batch(path, confirm, raise_errors=args.debug, margins=args.margins)
             tick()
             yield path, result
         return
@@ -131,7 +134,8 @@ def _audit_all(paths, args, tick=lambda: None):
     executor = make_executor(jobs, args.scheduler)
     try:
         done = {}
-        for (path, _), result in executor.map_blocks(audit_for_batch, [(p, confirm) for p in paths]):
+        for (path, *_), result in executor.map_blocks(audit_for_batch, [(p, confirm, False, args.margins)
+                                                                              for p in paths]):
             done[path] = result
             tick()
         for path in paths:

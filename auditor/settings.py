@@ -109,3 +109,22 @@ REAL_GAS_LIQUID_LIKE_Z = 0.3
 HIGH_PRESSURE_CAUTION_PA = 50e5
 
 # (these five are printed in the JSON's real_gas block, not in 'tolerances', which every case carries)
+
+# Margins (auditor/equilibrium/margins.py): each probed variable is moved from the design
+# point with the present phases held, in steps that start at these sizes and grow by
+# MARGIN_STEP_GROWTH up to MARGIN_STEP_MAX_MULTIPLE times the first (a window narrower than
+# a step can be stepped over), inside these stated bounds and the present species' data ranges.
+MARGIN_TEMPERATURE_SPAN_K = 1000.0        # searched: design T +- this
+MARGIN_PRESSURE_FACTOR = 100.0            # searched: design P / this to design P * this
+MARGIN_FEED_FACTOR = 10.0                 # searched: zero to this times the design value of a feed axis
+MARGIN_TEMPERATURE_STEP_K = 10.0
+MARGIN_RELATIVE_STEP = 0.05               # pressure: in ln P; a feed axis: of its design value
+MARGIN_STEP_GROWTH = 1.5
+MARGIN_STEP_MAX_MULTIPLE = 10.0
+MARGIN_STEP_MIN_MULTIPLE = 1e-3         # where the state cannot be followed, steps shrink to this before giving up
+MARGIN_TEMPERATURE_XTOL_K = 1e-6          # a boundary is located to this (bracketed false position) ...
+MARGIN_RELATIVE_XTOL = 1e-9               # ... or this relative to the design value
+# A boundary nearer than this to the design point is named in the verdict box and becomes a
+# finding (common practice for a design review; a stated choice, not a physical limit).
+MARGIN_NEAR_TEMPERATURE_K = 25.0
+MARGIN_NEAR_RELATIVE = 0.10               # pressure and feed axes: of the design value

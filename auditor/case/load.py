@@ -13,7 +13,8 @@ from .conditions import read_claims, read_restrictions, read_specified
 from .quantities import feed_quantities, rate_time, read_units
 from .records import Case, SystemSpec, _exact
 
-TOP_KEYS = ("title", "system", "reactions", "feed", "coexisting", "specified", "restrictions", "claims", "units")
+TOP_KEYS = ("title", "system", "reactions", "feed", "coexisting", "specified", "restrictions", "claims", "units",
+            "margins")
 SYSTEM_KEYS = ("source", "mechanism", "phases", "gas-model")
 GAS_MODELS = ("ideal-gas", "peng-robinson")   # system.gas-model: the model of a packaged gas phase
 
@@ -43,9 +44,10 @@ def load_case(path: str | Path, text: str | None = None) -> Case:
     specified = read_specified(rd, rd.get(top, "specified"), declared)
     restrictions = read_restrictions(rd, rd.get(top, "restrictions"))
     claims = read_claims(rd, rd.get(top, "claims"))
+    margin_axes = _read_margins(rd, rd.get(top, "margins"))
     case = Case(path=path, title=title, system=system_spec, reactions=reactions, feed=feed, coexisting=coexisting,
                 specified=specified, restrictions=restrictions, claims=claims, lines=dict(rd.lines),
-                feed_mass=feed_mass, text=text, rate_per=rate_per,
+                feed_mass=feed_mass, text=text, rate_per=rate_per, margins=margin_axes,
                 as_written={kp: t for kp, t in rd.texts.items() if kp.startswith(("feed.", "specified."))})
     if rd.problems:
         # report the names that do not exist together with the structural problems, when the
@@ -246,3 +248,28 @@ def _read_coexisting(rd: NodeReader, cnode) -> tuple[str, ...] | None:
     if not names and not cl:
         rd.problem(cnode, "coexisting", "at least one phase must be assumed present")
     return tuple(names)
+
+
+def _read_margins(rd: NodeReader, mnode) -> tuple[str, ...] | None:
+    """``margins: [feed.H2O, ratio.O/C]``: feed axes probed for phase boundaries, written like
+    sweep axes (temperature and pressure are always probed; naming them changes nothing)."""
+    if mnode is None:
+        return None
+    ml = rd.plain(mnode, "margins", names=True)
+    if not isinstance(ml, list):
+        rd.problem(mnode, "margins", f"expected a list of axes such as [feed.H2O, ratio.O/C], got {kind_of(ml)}")
+        return None
+    axes: list[str] = []
+    for i, (n, v) in enumerate(ml):
+        pair = v[len("ratio."):].split("/") if isinstance(v, str) and v.startswith("ratio.") else []
+        ok = isinstance(v, str) and (v in ("temperature", "pressure") or (v.startswith("feed.") and v[5:].strip())
+                                     or (len(pair) == 2 and all(t.strip() for t in pair)
+                                         and pair[0].strip() != pair[1].strip()))
+        if not ok:
+            rd.problem(n, f"margins[{i}]", "expected temperature, pressure, feed.SPECIES (mol of a feed species) or "
+                       f"ratio.X/Y (atoms of element X per atom of Y in the feed), got {v!r}")
+        elif v in axes:
+            rd.problem(n, f"margins[{i}]", f"axis {v!r} is listed twice; keep one")
+        else:
+            axes.append(v)
+    return tuple(axes)

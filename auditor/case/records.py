@@ -184,6 +184,8 @@ class Case:
     # a feed written as rates ('kmol/h', 'kg/h', 't/d'): the time unit as written ('h'); the case is
     # the closed system fed in one such time unit, so every extensive result is per that unit
     rate_per: str | None = None
+    # the top-level 'margins' key: feed axes probed for phase boundaries (None: the key is absent)
+    margins: tuple[str, ...] | None = None
 
     def line(self, key_path: str) -> int | None:
         return self.lines.get(key_path)

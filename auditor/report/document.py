@@ -173,6 +173,11 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
         doc["equilibrium"]["bases"] = bases_document(r)
     if getattr(r, "real_gas", None) is not None:   # the ideal-gas assumption checked (equilibrium/real_gas.py)
         doc["real_gas"] = real_gas_document(r.real_gas)
+    if getattr(r, "margins", None) is not None:    # equilibrium/margins.py, when asked for
+        from .margins import margins_list, search_document, sensitivities_document
+        doc["margins"] = margins_list(r.margins)
+        doc["sensitivities"] = sensitivities_document(r.margins)
+        doc["margins_search"] = search_document(r.margins)
     if with_context:
         import datetime
         inputs = [_case_input(r.case)]

@@ -22,7 +22,7 @@ from .wording import remedy, tolerance_rows
 # where a finding of each topic is stated in full (titles of SECTIONS, at the end)
 TOPIC_SECTION = {"reactions": "Reactions", "phase-rule": "Phase rule", "specification": "Specification audit",
                  "equilibrium": "Equilibrium and certificate", "claims": "Claims", "data": "Assumptions",
-                 "safety": "Cautions", "real-gas": "Equilibrium and certificate"}
+                 "safety": "Cautions", "real-gas": "Equilibrium and certificate", "margins": "Margins"}
 
 
 def _si(value: float, unit: str) -> str:
@@ -61,6 +61,10 @@ def _verdict(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
         blocks.append(_para(f"Suggested fix: {remedy(doc)}."))
     elif doc["verdict"] == Verdict.WELL_POSED:
         blocks.append(_para("No change to the specifications is needed."))
+    if getattr(r, "margins", None) is not None:
+        from .margins import nearest_words
+        if nearest_words(r.margins):
+            blocks.append(_para(nearest_words(r.margins)))
     where = sorted({TOPIC_SECTION.get(f["topic"], "Findings") for f in doc["findings"] if f["severity"] == "error"},
                    key=SECTION_TITLES.index)
     n_err = sum(f["severity"] == "error" for f in doc["findings"])
@@ -277,6 +281,11 @@ def _equilibrium(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Bloc
     return blocks
 
 
+def _margins(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
+    from .margins import margin_blocks
+    return margin_blocks(r, doc)
+
+
 def _claims(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
     return _errors_of(doc, "Claims") + [
         _table(("claim", "claimed", "found", "result"),
@@ -327,7 +336,7 @@ def _signoff(r: AuditResult, doc: dict, e: entered_mod.Entered) -> list[Block]:
 SECTIONS = (("Verdict", _verdict), ("Case as entered", _case_as_entered), ("Provenance", _provenance),
             ("System", _system), ("Reactions", _reactions), ("Phase rule", _phase_rule),
             ("Specification audit", _specification), ("Equilibrium and certificate", _equilibrium),
-            ("Claims", _claims), ("Assumptions", _assumptions), ("Findings", _findings),
+            ("Margins", _margins), ("Claims", _claims), ("Assumptions", _assumptions), ("Findings", _findings),
             ("Cautions", _cautions), ("Sign-off", _signoff))
 SECTION_TITLES = tuple(title for title, _ in SECTIONS)
 
@@ -336,4 +345,6 @@ def build(r: AuditResult, doc: dict | None = None) -> tuple[dict, list[tuple[str
     """The JSON document and the report's sections, each a title and its blocks."""
     doc = doc or check_document(r, with_context=True)
     e = entered_mod.read(r.case)
-    return doc, [(title, section(r, doc, e)) for title, section in SECTIONS]
+    # the Margins section only when they were computed (a 'margins:' key or --margins)
+    return doc, [(title, section(r, doc, e)) for title, section in SECTIONS
+                 if title != "Margins" or getattr(r, "margins", None) is not None]

@@ -138,6 +138,9 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
         from .document import real_gas_document
         from .text import real_gas_line
         out.append("  " + real_gas_line(real_gas_document(r.real_gas)))
+    if getattr(r, "margins", None) is not None:
+        from .margins import margin_lines
+        out += ["  " + line for line in margin_lines(r.margins)]
     return out
 
 
