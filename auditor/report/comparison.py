@@ -63,9 +63,21 @@ def comparison_rows(docs: list[dict]) -> list[tuple[str, list[str], bool]]:
     for ph, sp in _key_species(docs):
         rows.append((f"x({sp}) in {ph}", [_fmt(_phase_x(d).get((ph, sp)), none="absent" if _phase_x(d) else "not computed")
                                           for d in docs]))
+    rows.append(("nearest phase boundary (margins)", [_nearest(d) for d in docs]))
     rows.append(("errors / warnings", [f"{sum(f['severity'] == 'error' for f in d['findings'])} / "
                                        f"{sum(f['severity'] == 'warning' for f in d['findings'])}" for d in docs]))
     return [(item, values, len(set(values)) > 1) for item, values in rows]
+
+
+def _nearest(d: dict) -> str:
+    """The nearest boundary found by the margins, in words; 'not computed' without margins."""
+    found = [m for m in d.get("margins") or () if m.get("value") is not None]
+    if d.get("margins") is None:
+        return "not computed"
+    if not found:
+        return "none inside the bounds searched"
+    m = found[0]
+    return f"{m['phase']} {m['change']} {m['side'] or ''} {m['variable']} = {m['value']:.4g} {m['unit']}".replace("  ", " ")
 
 
 def _fmt(v, scale: float = 1.0, none: str = "not computed") -> str:
