@@ -58,7 +58,12 @@ def _read_phase_fractions(rd: NodeReader, node) -> tuple[PhaseFractionSpec, ...]
     pm = rd.want_mapping(node, "specified.phase-fractions")
     for ph, (kn, vn) in (pm or {}).items():
         kp = f"specified.phase-fractions.{ph}"
-        x = rd.open_fraction(vn, kp, "a phase fraction (moles of phase / all moles)")
+        # 0 is allowed: the phase is incipient (present in zero amount: a bubble, dew or onset point)
+        x = rd.want_fraction(vn, kp, "a phase fraction (moles of phase / all moles)")
+        if x is not None and not 0 <= x < 1:
+            rd.problem(vn, kp, f"a specified phase fraction must be at least 0 (0: the phase is incipient) and "
+                       f"below 1, got {x:g}")
+            x = None
         if x is not None:
             pfs.append(PhaseFractionSpec(ph, x, kp))
     return tuple(pfs)

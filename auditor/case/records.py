@@ -81,7 +81,8 @@ def _specifications(s: "Specified") -> tuple[Specification, ...]:
     out += [Specification("ratio", f"x({r.numerator})/x({r.denominator})",
                           f"ratio x({r.numerator})/x({r.denominator}) = {r.value:g} in {r.phase}", INTENSIVE,
                           r.key_path, ((r.numerator, r.phase), (r.denominator, r.phase))) for r in s.ratios]
-    out += [Specification("phase-fraction", f"the {p.phase} fraction", f"phase fraction of {p.phase} = {p.value:g}",
+    out += [Specification("phase-fraction", f"the {p.phase} fraction", f"phase fraction of {p.phase} = {p.value:g}"
+                          + (" (incipient: present in zero amount)" if p.value == 0 else ""),
                           EXTENSIVE, p.key_path) for p in s.phase_fractions]
     if s.volume_m3 is not None:
         out.append(Specification("volume", "V", f"volume V = {s.volume_m3:g} m3", EXTENSIVE, "specified.volume", (),
@@ -139,6 +140,11 @@ class Specified:
         if self.adiabatic_feed_temperature_K is not None:
             return self.adiabatic_feed_temperature_K, 0.0
         return None
+
+    @property
+    def incipient_phases(self) -> tuple[str, ...]:
+        """Phases fixed at a fraction of 0: present in zero amount (bubble, dew or onset point)."""
+        return tuple(p.phase for p in self.phase_fractions if p.value == 0)
 
     def names(self) -> list[str]:
         """The full names of what is specified, with their values."""

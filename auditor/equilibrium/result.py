@@ -52,6 +52,8 @@ class EquilibriumCheck:
     heat_feed_temperature_K: float | None = None
     heat_balance: str = ""                       # "enthalpy" or "internal energy"
     heat_of_reaction_J: float | None = None      # H of the state minus H of the feed, both at the state's T, P
+    # phases fixed at a fraction of 0 (bubble, dew or onset point): (phase, driving force RT, phase fraction)
+    incipient: tuple[tuple[str, float, float], ...] = ()
 
     @classmethod
     def not_solved(cls, findings, assumed=(), seconds: float = 0.0) -> "EquilibriumCheck":

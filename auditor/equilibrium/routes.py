@@ -53,6 +53,7 @@ class SolvedState:
     message: str = ""
     sides: tuple | None = None      # the two end states when the solve stopped on a univariant transition
     route: str = ""                 # which route of ``RouteSolver.routes`` produced it
+    also_incipient: tuple = ()      # other T (or P) where a phase fixed at a fraction of 0 is incipient
 
 
 def interior_estimate(W: np.ndarray, n0: np.ndarray, usable: np.ndarray) -> np.ndarray | None:
