@@ -160,6 +160,16 @@ class DeclaredRestriction:
 
 
 @dataclass(frozen=True)
+class ApproachSpec:
+    """A reaction held short of equilibrium by a temperature approach: its quotient equals its
+    equilibrium constant at T - delta (endothermic) or T + delta (exothermic)."""
+
+    equation: str
+    delta_K: float
+    key_path: str               # approach[i]
+
+
+@dataclass(frozen=True)
 class SystemSpec:
     source: str                                 # "packaged" or "mechanism"
     mechanism: Path | None
@@ -185,6 +195,7 @@ class Case:
     # key path -> the text exactly as the user wrote it, for every feed amount and specification
     # ("feed.CH4": "2 kmol", "specified.temperature": "850 degC"), so reports can show inputs as entered
     as_written: Mapping[str, str] = field(default_factory=dict, compare=False)
+    approach: tuple[ApproachSpec, ...] = ()     # reactions held short of equilibrium (top-level 'approach:')
 
     def line(self, key_path: str) -> int | None:
         return self.lines.get(key_path)

@@ -90,7 +90,7 @@ def incipient_residual(solver: RouteSolver, sol: SolvedState, phase: int) -> flo
     if totals[phase] > settings.PHASE_PRESENCE_FRACTION * total:
         return -float(totals[phase]) / total
     phase_present = totals > settings.PHASE_PRESENCE_FRACTION * total
-    mu, g = solver.model.at_state(sol.T, sol.P, n)
+    mu, g = solver.potentials(sol.T, sol.P, n)
     present = phase_present[a.phase_of] & (n > 0)
     ps = ws.present_species(present)
     lam = ps.pinv @ mu[ps.index]
@@ -146,7 +146,7 @@ def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
 
     # element potentials fitted to the present species, and the affinities of the
     # independent reactions among them
-    mu, g = solver.model.at_state(sol.T, sol.P, n)
+    mu, g = solver.potentials(sol.T, sol.P, n)
     present = phase_present[a.phase_of] & (n > 0)
     ps = ws.present_species(present)
     mu_p = mu[ps.index]
@@ -303,6 +303,10 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     ranges = range_report(solver.system, solver.arrays, solver.candidate, solver.candidate_at(sol.T), m.present,
                           m.mole_fractions, sol.T, tuple(count.coexisting))
     ok_incipient, incipient, incipient_notes = incipient_findings(case, m, sol, solver.system)
+    from .approach import approach_findings
+    ok_approach, approached, approach_notes = approach_findings(solver, float(sol.T), float(sol.P), m.n)
+    incipient_notes += approach_notes
+    ok_incipient = ok_incipient and ok_approach
     ok_phases, phase_notes = _phase_findings(m, count, solver, sol.T, ranges, case.specified.incipient_phases)
     findings += more + incipient_notes + phase_notes
     a = solver.arrays
@@ -317,7 +321,7 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
         element_balance_error=m.balance_error, potential_residual_RT=m.potential_residual,
         absent_phase_driving_force=m.drive, unique=m.unique, starts=m.starts, lnK_additivity_error=m.lnk_error,
         jacobian_rcond=m.jacobian_rcond, nonsingularity_test=m.nonsingularity_test, assumed_densities=tuple(solver.model.assumed), findings=tuple(findings),
-        confirmed=ok_numbers and ok_phases and ok_incipient, incipient=tuple(incipient), seconds=time.perf_counter() - t0,
+        confirmed=ok_numbers and ok_phases and ok_incipient, incipient=tuple(incipient), approach=approached, seconds=time.perf_counter() - t0,
         element_potentials=tuple(zip(a.potential_names, m.potentials.tolist())),
         unique_basis=m.unique_basis, phase_amount_rcond=m.amount_rcond,
         route=sol.route, attempts=solver.attempts + ((sol.route, "certified"),), set_aside=ranges.set_aside,

@@ -224,7 +224,7 @@ def refine_transition(solver: RouteSolver, resid: Residual, guess: SolvedState, 
 
     def equations(z):
         sol = state(z)
-        mu = model.at_state(sol.T, sol.P, sol.n)[0][idx]
+        mu = solver.potentials(sol.T, sol.P, sol.n)[0][idx]
         return np.concatenate(((W @ sol.n[idx] - b) / b_scale, basis @ mu, [resid(sol)]))
 
     z0 = np.concatenate((np.log(np.maximum(n_g[idx], 1e-300)), [math.log(guess.T if t_free else guess.P)]))
