@@ -73,7 +73,7 @@ def approach_plan(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis
         if not vec:
             fail(f"reaction {a.equation!r} has no net change")
         elif imbalance:
-            fail(f"reaction {a.equation!r} does not balance: " + ", ".join(f"{e} {v:+}" for e, v in imbalance.items()))
+            fail(f"reaction {a.equation!r} does not balance: " + ", ".join(f"{e} {'+' if v > 0 else ''}{v}" for e, v in imbalance.items()))
         elif exact.rank(_dense(listed + [vec], system.n_species)) > len(listed):
             fail(f"reaction {a.equation!r} is not a combination of the case's independent reactions "
                  f"({len(listed)}): it cannot be held short of an equilibrium the reactions cannot reach")
