@@ -19,7 +19,6 @@ minimiser (:mod:`.minimiser`), which takes them directly.
 """
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 from fractions import Fraction
 
@@ -137,21 +136,8 @@ def potential_shift(model, plan: ApproachPlan, T: float) -> np.ndarray:
     return d
 
 
-def condition_error(states, plan: ApproachPlan, mu: np.ndarray) -> list[float]:
-    """ln Q - ln K(T') of each approached reaction at chemical potentials ``mu`` (RT): from
-    sum nu mu / RT = ln Q - ln K(T)."""
-    return [float(nu @ mu) + st.lnK - st.lnK_target for st, nu in zip(states, plan.rows)]
-
-
 def ln_quotient(st: ApproachState, nu: np.ndarray, mu: np.ndarray) -> float:
     return float(nu @ mu) + st.lnK
-
-
-def no_temperature(states) -> str:
-    """Why the approach cannot hold at this T (its K would be taken at or below 0 K), or ''."""
-    bad = [s for s in states if not s.temperature_of_K > 0 or not math.isfinite(s.lnK_target)]
-    return "; ".join(f"the approach of {s.delta_K:g} K on {s.equation!r} puts its K at {s.temperature_of_K:g} K"
-                     for s in bad)
 
 
 def approach_findings(solver, T: float, P: float, n: np.ndarray) -> tuple[bool, tuple, list]:
