@@ -88,6 +88,9 @@ def counting_stages(case: Case, system: ChemicalSystem | None = None) -> Countin
     basis = derived_basis(system)      # the complete set: the analysis needs it, a case may list it
     reactions = build_reactions(case, system, basis)
     analysis = analyse(system, reactions, basis)
+    if case.approach:      # the approached reactions name the system's species and lie in the reactions' span
+        from .equilibrium.approach import approach_plan
+        approach_plan(case, system, analysis)
     count = count_phase_rule(case, system, reactions, analysis)
     return CountingStages(system, reactions, analysis, count, audit_specification(case, system, count))
 

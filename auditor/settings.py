@@ -19,6 +19,11 @@ ELEMENT_BALANCE_TOLERANCE = 1e-8
 AFFINITY_TOLERANCE_RT = 1e-6
 # A phase is present when it holds at least this fraction of all moles.
 PHASE_PRESENCE_FRACTION = 1e-10
+# An incipient phase (a phase fraction fixed at 0: bubble, dew or onset point) is certified
+# when, absent, its driving force to form is within this of zero (RT), or, present, it holds
+# at most this fraction of all moles.
+INCIPIENT_DRIVING_FORCE_TOLERANCE_RT = AFFINITY_TOLERANCE_RT
+INCIPIENT_FRACTION_TOLERANCE = 1e-6
 # Two solutions from different starting estimates are the same state when every mole
 # fraction agrees to this.
 UNIQUENESS_TOLERANCE = 1e-6

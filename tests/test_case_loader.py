@@ -234,9 +234,10 @@ ROWS = {
                              "note: x}\n", "specified.ratios[0].note", 7, "unknown key 'note'"),
     "ratios-not-list": Row(SYS + "specified:\n  ratios: {phase: gas}\n", "specified.ratios", 6, "expected a list"),
     "phase-fraction-one": Row(SYS + "specified:\n  phase-fractions: {gas: 1.0}\n", "specified.phase-fractions.gas", 6,
-                              "a specified phase fraction must lie strictly between 0 and 1, got 1"),
+                              "a specified phase fraction must be at least 0 (0: the phase is incipient) and below 1, "
+                              "got 1"),
     "phase-fraction-negative": Row(SYS + "specified:\n  phase-fractions: {gas: -0.2}\n",
-                                   "specified.phase-fractions.gas", 6, "strictly between 0 and 1, got -0.2"),
+                                   "specified.phase-fractions.gas", 6, "at least 0 (0: the phase is incipient) and below 1, got -0.2"),
     "phase-fraction-unknown-phase": Row(SYS + "specified:\n  phase-fractions: {liquid: 0.5}\n",
                                         "specified.phase-fractions.liquid", 6, "unknown phase 'liquid'"),
     "adiabatic-missing-feed-temperature": Row(SYS + "specified:\n  adiabatic: {}\n", "specified.adiabatic", 6,

@@ -7,7 +7,7 @@ from ..verdicts import CASE_VERDICTS, Verdict
 from ..yaml_nodes import NodeMapping, NodeReader, kind_of, suggest
 from .. import units
 from .quantities import read_condition
-from .records import DeclaredRestriction, MoleFractionSpec, PhaseFractionSpec, RatioSpec, Specified
+from .records import ApproachSpec, DeclaredRestriction, MoleFractionSpec, PhaseFractionSpec, RatioSpec, Specified
 
 SPECIFIED_KEYS = ("temperature", "pressure", "mole-fractions", "ratios", "phase-fractions", "adiabatic", "volume",
                   "heat-added", "isentropic")
@@ -58,7 +58,12 @@ def _read_phase_fractions(rd: NodeReader, node) -> tuple[PhaseFractionSpec, ...]
     pm = rd.want_mapping(node, "specified.phase-fractions")
     for ph, (kn, vn) in (pm or {}).items():
         kp = f"specified.phase-fractions.{ph}"
-        x = rd.open_fraction(vn, kp, "a phase fraction (moles of phase / all moles)")
+        # 0 is allowed: the phase is incipient (present in zero amount: a bubble, dew or onset point)
+        x = rd.want_fraction(vn, kp, "a phase fraction (moles of phase / all moles)")
+        if x is not None and not 0 <= x < 1:
+            rd.problem(vn, kp, f"a specified phase fraction must be at least 0 (0: the phase is incipient) and "
+                       f"below 1, got {x:g}")
+            x = None
         if x is not None:
             pfs.append(PhaseFractionSpec(ph, x, kp))
     return tuple(pfs)
@@ -228,3 +233,49 @@ def read_claims(rd: NodeReader, clnode) -> tuple[tuple[str, Any], ...]:
             continue
         claims.append((key, v))
     return tuple(claims)
+
+
+# a temperature difference: kelvin and degrees Celsius alike, Fahrenheit and Rankine 5/9 of one
+_DIFFERENCE_UNITS = {"K": 1.0, "kelvin": 1.0, "degC": 1.0, "°C": 1.0, "C": 1.0, "delta_degC": 1.0, "celsius": 1.0,
+                     "degF": 5 / 9, "°F": 5 / 9, "delta_degF": 5 / 9, "fahrenheit": 5 / 9, "degR": 5 / 9, "R": 5 / 9,
+                     "rankine": 5 / 9}
+
+
+def _read_difference(rd: NodeReader, node, kp: str) -> float | None:
+    """A temperature difference in K from '10 K' (also degC, degF, R): zero or positive."""
+    import math
+    import re
+    value = rd.value_of(node, kp)
+    m = re.fullmatch(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(\S+)\s*", value) \
+        if isinstance(value, str) else None
+    if m is None or m.group(2) not in _DIFFERENCE_UNITS:
+        rd.problem(node, kp, f"expected a temperature difference with its unit, such as '10 K', got {kind_of(value)}")
+        return None
+    dt = float(m.group(1)) * _DIFFERENCE_UNITS[m.group(2)]
+    if not math.isfinite(dt) or dt < 0:
+        rd.problem(node, kp, f"an approach to equilibrium must be zero or positive (how far short the reaction "
+                   f"stops), got {value}")
+        return None
+    return dt
+
+
+def read_approach(rd: NodeReader, node) -> tuple[ApproachSpec, ...]:
+    """The top-level ``approach:`` list: ``- {reaction: "CH4 + H2O <=> CO + 3 H2", temperature: 10 K}``."""
+    out = []
+    al = rd.want_list(node, "approach") if node is not None else None
+    for i, (n, _) in enumerate(al or []):
+        kp = f"approach[{i}]"
+        m = rd.want_mapping(n, kp)
+        if m is None:
+            continue
+        rd.check_keys(m, ("reaction", "temperature"), kp)
+        missing = [k for k in ("reaction", "temperature") if k not in m]
+        if missing:
+            rd.problem(n, kp, f"missing key(s) {', '.join(repr(k) for k in missing)} "
+                       "(write {reaction: 'CH4 + H2O <=> CO + 3 H2', temperature: 10 K})")
+            continue
+        eq = rd.want_str(rd.get(m, "reaction"), f"{kp}.reaction", "a reaction equation")
+        dt = _read_difference(rd, rd.get(m, "temperature"), f"{kp}.temperature")
+        if eq is not None and dt is not None:
+            out.append(ApproachSpec(eq, dt, kp))
+    return tuple(out)

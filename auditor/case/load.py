@@ -9,12 +9,12 @@ from .. import settings
 from ..errors import CaseError, InputError
 from ..system import shipped_data_file
 from ..yaml_nodes import NodeMapping, NodeReader, kind_of, load_nodes, suggest
-from .conditions import read_claims, read_restrictions, read_specified
+from .conditions import read_approach, read_claims, read_restrictions, read_specified
 from .quantities import feed_quantities, rate_time, read_units
 from .records import Case, SystemSpec, _exact
 
 TOP_KEYS = ("title", "system", "reactions", "feed", "coexisting", "specified", "restrictions", "claims", "units",
-            "margins")
+            "margins", "approach")
 SYSTEM_KEYS = ("source", "mechanism", "phases", "gas-model")
 GAS_MODELS = ("ideal-gas", "peng-robinson")   # system.gas-model: the model of a packaged gas phase
 
@@ -45,9 +45,10 @@ def load_case(path: str | Path, text: str | None = None) -> Case:
     restrictions = read_restrictions(rd, rd.get(top, "restrictions"))
     claims = read_claims(rd, rd.get(top, "claims"))
     margin_axes = _read_margins(rd, rd.get(top, "margins"))
+    approach = read_approach(rd, rd.get(top, "approach"))
     case = Case(path=path, title=title, system=system_spec, reactions=reactions, feed=feed, coexisting=coexisting,
                 specified=specified, restrictions=restrictions, claims=claims, lines=dict(rd.lines),
-                feed_mass=feed_mass, text=text, rate_per=rate_per, margins=margin_axes,
+                feed_mass=feed_mass, text=text, rate_per=rate_per, margins=margin_axes, approach=approach,
                 as_written={kp: t for kp, t in rd.texts.items() if kp.startswith(("feed.", "specified."))})
     if rd.problems:
         # report the names that do not exist together with the structural problems, when the

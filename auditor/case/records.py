@@ -81,7 +81,8 @@ def _specifications(s: "Specified") -> tuple[Specification, ...]:
     out += [Specification("ratio", f"x({r.numerator})/x({r.denominator})",
                           f"ratio x({r.numerator})/x({r.denominator}) = {r.value:g} in {r.phase}", INTENSIVE,
                           r.key_path, ((r.numerator, r.phase), (r.denominator, r.phase))) for r in s.ratios]
-    out += [Specification("phase-fraction", f"the {p.phase} fraction", f"phase fraction of {p.phase} = {p.value:g}",
+    out += [Specification("phase-fraction", f"the {p.phase} fraction", f"phase fraction of {p.phase} = {p.value:g}"
+                          + (" (incipient: present in zero amount)" if p.value == 0 else ""),
                           EXTENSIVE, p.key_path) for p in s.phase_fractions]
     if s.volume_m3 is not None:
         out.append(Specification("volume", "V", f"volume V = {s.volume_m3:g} m3", EXTENSIVE, "specified.volume", (),
@@ -140,6 +141,11 @@ class Specified:
             return self.adiabatic_feed_temperature_K, 0.0
         return None
 
+    @property
+    def incipient_phases(self) -> tuple[str, ...]:
+        """Phases fixed at a fraction of 0: present in zero amount (bubble, dew or onset point)."""
+        return tuple(p.phase for p in self.phase_fractions if p.value == 0)
+
     def names(self) -> list[str]:
         """The full names of what is specified, with their values."""
         return [s.label for s in self.specifications]
@@ -151,6 +157,16 @@ class DeclaredRestriction:
     key_path: str
     ratio: RatioSpec | None = None
     phases: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class ApproachSpec:
+    """A reaction held short of equilibrium by a temperature approach: its quotient equals its
+    equilibrium constant at T - delta (endothermic) or T + delta (exothermic)."""
+
+    equation: str
+    delta_K: float
+    key_path: str               # approach[i]
 
 
 @dataclass(frozen=True)
@@ -186,6 +202,7 @@ class Case:
     rate_per: str | None = None
     # the top-level 'margins' key: feed axes probed for phase boundaries (None: the key is absent)
     margins: tuple[str, ...] | None = None
+    approach: tuple[ApproachSpec, ...] = ()     # reactions held short of equilibrium (top-level 'approach:')
 
     def line(self, key_path: str) -> int | None:
         return self.lines.get(key_path)

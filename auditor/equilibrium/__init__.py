@@ -75,7 +75,14 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
     # cantera's vcs solver fail); only element rows count here, the charge row has both signs
     rows = workspace.arrays.element_rows
     candidate = ~(rows[rows @ n0 == 0] != 0).any(axis=0)
-    return certified_on_routes(case, count, spec, RouteSolver(workspace, n0, candidate), findings, t0)
+    solver = RouteSolver(workspace, n0, candidate)
+    if case.approach:
+        from .approach import approach_plan
+        solver.approach = approach_plan(case, system, analysis)
+        if not workspace.arrays.ideal:
+            findings.append(Finding("warning", "equilibrium", "an approach to equilibrium is solved by the "
+                                    "element-potential minimiser, which treats every phase as ideal"))
+    return certified_on_routes(case, count, spec, solver, findings, t0)
 
 
 def _treated_as_ideal(system: ChemicalSystem, analysis: ReactionAnalysis, model) -> list[Finding]:

@@ -78,6 +78,28 @@ def absent_driving_forces(arrays: CaseArrays, groups: dict, never: dict, model_g
     return {**(better if min(better.values()) > min(base.values()) else base), **never}
 
 
+def incipient_residual(solver: RouteSolver, sol: SolvedState, phase: int) -> float:
+    """The residual of a phase fixed at a fraction of 0 (incipient): its driving force to form,
+    RT, while it is absent (positive: it would not form yet), minus its phase fraction once it
+    is present.  Both vanish at incipience, where the phase is present in zero amount, so the
+    bracketed outer solve finds the bubble, dew or onset point from either side."""
+    a, ws = solver.arrays, solver.workspace
+    n = np.maximum(sol.n, 0.0)
+    totals = n @ a.membership
+    total = max(float(totals.sum()), 1e-300)
+    if totals[phase] > settings.PHASE_PRESENCE_FRACTION * total:
+        return -float(totals[phase]) / total
+    phase_present = totals > settings.PHASE_PRESENCE_FRACTION * total
+    mu, g = solver.potentials(sol.T, sol.P, n)
+    present = phase_present[a.phase_of] & (n > 0)
+    ps = ws.present_species(present)
+    lam = ps.pinv @ mu[ps.index]
+    groups, never = ws.absent_groups(phase_present, solver.candidate_at(sol.T))
+    if phase in never or phase not in groups:
+        return math.inf            # it cannot form here (an element the feed lacks, or outside its data)
+    return absent_driving_forces(a, {phase: groups[phase]}, {}, g, lam, ps.free)[phase]
+
+
 @dataclass(slots=True)
 class Measured:
     """The certificate's numbers at one solved state (a transient record inside ``certify``;
@@ -124,7 +146,7 @@ def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
 
     # element potentials fitted to the present species, and the affinities of the
     # independent reactions among them
-    mu, g = solver.model.at_state(sol.T, sol.P, n)
+    mu, g = solver.potentials(sol.T, sol.P, n)
     present = phase_present[a.phase_of] & (n > 0)
     ps = ws.present_species(present)
     mu_p = mu[ps.index]
@@ -210,14 +232,16 @@ def _numerical_findings(m: Measured) -> tuple[bool, list[Finding]]:
 
 
 def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: float,
-                    ranges: RangeReport) -> tuple[bool, list[Finding]]:
-    """Findings on the phases found against those assumed, and on the data's T range."""
+                    ranges: RangeReport, incipient: tuple[str, ...] = ()) -> tuple[bool, list[Finding]]:
+    """Findings on the phases found against those assumed (an incipient phase is present in
+    zero amount: it counts as present, as it does in the phase rule), and on the data's T range."""
     ok, out = ranges.ok, []
     assumed = tuple(count.coexisting)
-    if set(m.present_names) != set(assumed):
+    found = set(m.present_names) | set(incipient)
+    if found != set(assumed):
         ok = False
-        appeared = sorted(set(m.present_names) - set(assumed))
-        vanished = sorted(set(assumed) - set(m.present_names))
+        appeared = sorted(found - set(assumed))
+        vanished = sorted(set(assumed) - found)
         parts = []
         if appeared:
             parts.append(f"phase(s) {', '.join(appeared)} appeared")
@@ -234,6 +258,42 @@ def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: 
     return ok, out
 
 
+def _with_incipient(present: tuple[str, ...], incipient: tuple[str, ...], system) -> tuple[str, ...]:
+    """The phases present, an incipient phase among them (present in zero amount, as the phase
+    rule counts it), in the system's order."""
+    return tuple(p.name for p in system.phases if p.name in present or p.name in incipient)
+
+
+def incipient_findings(case: Case, m: Measured, sol: SolvedState, system) -> tuple[bool, list, list[Finding]]:
+    """The phases fixed at a fraction of 0: each must be absent with zero driving force (to
+    ``INCIPIENT_DRIVING_FORCE_TOLERANCE_RT``) or present in at most ``INCIPIENT_FRACTION_TOLERANCE``
+    of all moles; every other absent phase must have a positive one (``_numerical_findings``).
+    Returns (holds, (phase, driving force RT, phase fraction) per incipient phase, findings)."""
+    ok, records, out = True, [], []
+    drive, total = dict(m.drive), max(float(m.totals.sum()), 1e-300)
+    names = [p.name for p in system.phases]
+    for name in case.specified.incipient_phases:
+        frac = float(m.totals[names.index(name)]) / total
+        d = 0.0 if name in m.present_names else drive.get(name, math.inf)
+        records.append((name, d, frac))
+        if name in m.present_names and frac > settings.INCIPIENT_FRACTION_TOLERANCE:
+            ok = False
+            out.append(Finding("error", "equilibrium", f"phase {name} is fixed as incipient (fraction 0) but holds "
+                               f"{frac:.3g} of all moles (accepted: {settings.INCIPIENT_FRACTION_TOLERANCE:g})", (name,)))
+        elif not abs(d) <= settings.INCIPIENT_DRIVING_FORCE_TOLERANCE_RT:
+            ok = False
+            out.append(Finding("error", "equilibrium", f"phase {name} is fixed as incipient (fraction 0) but its "
+                               f"driving force to form is {d:.3g} RT, not zero (accepted: "
+                               f"{settings.INCIPIENT_DRIVING_FORCE_TOLERANCE_RT:g} RT)", (name,)))
+    if records and sol.also_incipient:
+        what, unit = ("temperature", "K") if case.specified.temperature_K is None else ("pressure", "Pa")
+        others = ", ".join(f"{v:.6g} {unit}" for v in sol.also_incipient)
+        out.append(Finding("note", "equilibrium", f"{', '.join(case.specified.incipient_phases)} is also incipient "
+                           f"at {what} {others}: the lowest {what} where it is incipient is reported", 
+                           case.specified.incipient_phases))
+    return ok, records, out
+
+
 def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver: RouteSolver, sol: SolvedState,
             findings: list[Finding], t0: float) -> EquilibriumCheck:
     """The equilibrium check of a solved state: its certificate's numbers and findings.
@@ -242,8 +302,13 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     ok_numbers, more = _numerical_findings(m)
     ranges = range_report(solver.system, solver.arrays, solver.candidate, solver.candidate_at(sol.T), m.present,
                           m.mole_fractions, sol.T, tuple(count.coexisting))
-    ok_phases, phase_notes = _phase_findings(m, count, solver, sol.T, ranges)
-    findings += more + phase_notes
+    ok_incipient, incipient, incipient_notes = incipient_findings(case, m, sol, solver.system)
+    from .approach import approach_findings
+    ok_approach, approached, approach_notes = approach_findings(solver, float(sol.T), float(sol.P), m.n)
+    incipient_notes += approach_notes
+    ok_incipient = ok_incipient and ok_approach
+    ok_phases, phase_notes = _phase_findings(m, count, solver, sol.T, ranges, case.specified.incipient_phases)
+    findings += more + incipient_notes + phase_notes
     a = solver.arrays
     from .energy import heat_of
     heat = heat_of(case.specified, solver.model, solver.n0, float(sol.T), float(sol.P), sol.n)
@@ -252,11 +317,11 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
                    for p, idx, labels, tot in zip(solver.system.phases, a.phase_species, a.phase_labels, m.totals.tolist()))
     return EquilibriumCheck(
         solved=True, converged=sol.converged, solver=sol.solver, temperature_K=float(sol.T), pressure_Pa=float(sol.P),
-        phases=phases, phases_present=m.present_names, max_affinity_RT=m.max_affinity,
+        phases=phases, phases_present=_with_incipient(m.present_names, case.specified.incipient_phases, solver.system), max_affinity_RT=m.max_affinity,
         element_balance_error=m.balance_error, potential_residual_RT=m.potential_residual,
         absent_phase_driving_force=m.drive, unique=m.unique, starts=m.starts, lnK_additivity_error=m.lnk_error,
         jacobian_rcond=m.jacobian_rcond, nonsingularity_test=m.nonsingularity_test, assumed_densities=tuple(solver.model.assumed), findings=tuple(findings),
-        confirmed=ok_numbers and ok_phases, seconds=time.perf_counter() - t0,
+        confirmed=ok_numbers and ok_phases and ok_incipient, incipient=tuple(incipient), approach=approached, seconds=time.perf_counter() - t0,
         element_potentials=tuple(zip(a.potential_names, m.potentials.tolist())),
         unique_basis=m.unique_basis, phase_amount_rcond=m.amount_rcond,
         route=sol.route, attempts=solver.attempts + ((sol.route, "certified"),), set_aside=ranges.set_aside,

@@ -153,6 +153,16 @@ class PhaseModel:
             out.append(ph.standard_gibbs_RT)
         return np.concatenate(out)
 
+    def standard_at(self, T: float) -> tuple[np.ndarray, np.ndarray]:
+        """Standard chemical potentials mu°_k/RT and enthalpies H°_k/RT at ``T`` and each phase's
+        reference pressure (the data's standard state: what an equilibrium constant uses)."""
+        g, h = [], []
+        for ph in self.phases:
+            ph.TP = T, ph.reference_pressure
+            g.append(ph.standard_gibbs_RT)
+            h.append(ph.standard_enthalpies_RT)
+        return np.concatenate(g), np.concatenate(h)
+
     def at_state(self, T: float, P: float, n: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """At amounts n, T, P, from one setting of the state: chemical potentials mu_k/RT and
         standard ones mu°_k(T, P)/RT."""

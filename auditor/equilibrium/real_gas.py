@@ -131,7 +131,11 @@ def _fixed_point(case, system, workspace, n_ideal, groups, T, P):
     W = a.W[:, idx]
     b = a.W @ n0
     scale = max(float(np.abs(b).max()), 1e-300)
-    g = workspace.model.g_RT(T, P)[idx]
+    g = workspace.model.g_RT(T, P)
+    if case.approach:       # the approached reactions keep their condition (approach.py)
+        from .approach import approach_plan, potential_shift
+        g = g + potential_shift(workspace.model, approach_plan(case, system, workspace.analysis), T)
+    g = g[idx]
     phase = a.phase_of[idx]
     solution = a.solution[phase]
     same = (phase[:, None] == phase[None, :]) & solution[:, None]

@@ -52,6 +52,10 @@ class EquilibriumCheck:
     heat_feed_temperature_K: float | None = None
     heat_balance: str = ""                       # "enthalpy" or "internal energy"
     heat_of_reaction_J: float | None = None      # H of the state minus H of the feed, both at the state's T, P
+    # phases fixed at a fraction of 0 (bubble, dew or onset point): (phase, driving force RT, phase fraction)
+    incipient: tuple[tuple[str, float, float], ...] = ()
+    # reactions held short of equilibrium: (equation, approach K, temperature of K, ln K there, ln Q or None)
+    approach: tuple[tuple[str, float, float, float, float | None], ...] = ()
 
     @classmethod
     def not_solved(cls, findings, assumed=(), seconds: float = 0.0) -> "EquilibriumCheck":

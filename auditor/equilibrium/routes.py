@@ -53,6 +53,7 @@ class SolvedState:
     message: str = ""
     sides: tuple | None = None      # the two end states when the solve stopped on a univariant transition
     route: str = ""                 # which route of ``RouteSolver.routes`` produced it
+    also_incipient: tuple = ()      # other T (or P) where a phase fixed at a fraction of 0 is incipient
 
 
 def interior_estimate(W: np.ndarray, n0: np.ndarray, usable: np.ndarray) -> np.ndarray | None:
@@ -136,6 +137,25 @@ class RouteSolver:
         self.details: list[str] = []  # cantera's exception texts, for the failure classifier only
         self.lower: SolvedState | None = None   # a uniqueness restart's state of lower G than the one certified
         self.deadline = time.perf_counter() + settings.MINIMISATION_WALL_SECONDS
+        self.approach = None          # an ApproachPlan (approach.py): standard potentials shifted per T
+        self._shift: tuple = (None, 0.0)
+
+    def shift_at(self, T: float):
+        """The shift of the standard potentials (RT) that holds the approached reactions short of
+        equilibrium at ``T`` (``approach.potential_shift``); 0 when the case approaches nothing."""
+        if self.approach is None:
+            return 0.0
+        if self._shift[0] != T:
+            from .approach import potential_shift
+            self._shift = (T, potential_shift(self.model, self.approach, T))
+        return self._shift[1]
+
+    def potentials(self, T: float, P: float, n: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """``model.at_state`` with the approach's shift: the potentials whose zero affinities are
+        the conditions this case's state meets."""
+        mu, g = self.model.at_state(T, P, n)
+        d = self.shift_at(T)
+        return mu + d, g + d
 
     def candidate_at(self, T: float) -> np.ndarray:
         """The species that may form at ``T``: ``candidate`` less the condensed species whose
@@ -152,7 +172,7 @@ class RouteSolver:
     def _ours(self, T: float, P: float) -> SolvedState:
         from .minimiser import MinimiserInputs, minimise_gibbs
         a = self.arrays
-        g = self.model.g_RT(T, P)
+        g = self.model.g_RT(T, P) + self.shift_at(T)
         idx = np.flatnonzero(self.candidate_at(T) & a.usable_species)
         if idx.size == 0:
             return SolvedState(np.zeros(self.system.n_species), T, P, "element-potential minimiser (auditor.minimiser)",
@@ -249,7 +269,8 @@ class RouteSolver:
         feed, then from element-preserving starting estimates, then the project's own minimiser
         (ideal phases only: it treats every phase as ideal).  An incomplete reaction list has
         one route: only the own minimiser holds the extra conserved quantities."""
-        if not self.complete or not all(self.model.usable) or not (self.candidate & self.arrays.usable_species).any():
+        if not self.complete or not all(self.model.usable) or not (self.candidate & self.arrays.usable_species).any() \
+                or self.approach is not None:     # cantera's solvers take no shifted potentials
             return (ROUTE_OURS,)
         one_gas = self.workspace.mixture(self.candidate).one_gas
         return ((ROUTE_ONE_GAS,) if one_gas else ()) + CANTERA_ROUTES + ((ROUTE_OURS,) if self.arrays.ideal else ())

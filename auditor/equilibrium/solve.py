@@ -28,26 +28,35 @@ from .routes import RouteSolver, SolvedState, SolveError
 
 Residual = Callable[[SolvedState], float]
 RESIDUAL_TOLERANCE = 1e-6   # an extensive specification met to this (scaled) residual
+INCIPIENT = "incipient phase"
+INCIPIENT_SCAN_POINTS = 97  # values scanned for a sign change of an incipient phase's residual
 
 
 class NoSolution(SolveError):
     """The specifications the count accepts have no solution (a finding about the case, not a solver failure)."""
 
 
-def bracket_solve(f, lo: float, hi: float, log: bool, what: str):
+def bracket_solve(f, lo: float, hi: float, log: bool, what: str, points: int = 25, others: list | None = None):
     """Root of f on [lo, hi] by Brent's method (R. P. Brent, Algorithms for Minimization
-    without Derivatives, 1973), scanning for a sign change first."""
+    without Derivatives, 1973), scanning ``points`` values for a sign change first.  The
+    first sign change is solved; when ``others`` is a list, the roots of the later sign
+    changes are appended to it."""
     from scipy.optimize import brentq
-    grid = np.geomspace(lo, hi, 25) if log else np.linspace(lo, hi, 25)
+    grid = np.geomspace(lo, hi, points) if log else np.linspace(lo, hi, points)
     vals = []
     for x in grid:
         try:
             vals.append(f(x))
         except Exception:
             vals.append(np.nan)
-    for (a, fa), (b, fb) in zip(zip(grid, vals), zip(grid[1:], vals[1:])):
-        if np.isfinite(fa) and np.isfinite(fb) and fa * fb <= 0:
-            return brentq(f, a, b, xtol=1e-10 * max(abs(a), 1.0), rtol=1e-12, maxiter=200)
+    brackets = [(a, b) for (a, fa), (b, fb) in zip(zip(grid, vals), zip(grid[1:], vals[1:]))
+                if np.isfinite(fa) and np.isfinite(fb) and fa * fb <= 0]
+    if brackets:
+        roots = [brentq(f, a, b, xtol=1e-10 * max(abs(a), 1.0), rtol=1e-12, maxiter=200)
+                 for a, b in (brackets if others is not None else brackets[:1])]
+        if others is not None:
+            others.extend(r for r in roots[1:] if r > roots[0] * (1 + 1e-9))
+        return roots[0]
     finite = [v for v in vals if np.isfinite(v)]
     if len(finite) == len(vals) and (min(finite) > 0 or max(finite) < 0):
         raise NoSolution(f"no {what} from {lo:g} to {hi:g} {'K' if what == 'temperature' else 'Pa'} meets the "
@@ -71,7 +80,11 @@ def other_residuals(s: Specified, system: ChemicalSystem, solver: RouteSolver) -
         a, b = system.index_in(r.numerator, r.phase), system.index_in(r.denominator, r.phase)
         others.append(("ratio", lambda sol, a=a, b=b, r=r: math.log(max(sol.n[a], 1e-300) / max(sol.n[b], 1e-300)) - math.log(r.value)))
     for pf in s.phase_fractions:
-        others.append(("phase fraction", lambda sol, pf=pf: phase_total(sol.n, pf.phase) / sol.n.sum() - pf.value))
+        if pf.value == 0:
+            from .certificate import incipient_residual
+            others.append((INCIPIENT, lambda sol, p=phase_index[pf.phase]: incipient_residual(solver, sol, p)))
+        else:
+            others.append(("phase fraction", lambda sol, pf=pf: phase_total(sol.n, pf.phase) / sol.n.sum() - pf.value))
     from .energy import residuals
     others += residuals(s, solver.model, solver.n0, lambda T, P: _reference(solver, T, P))
     return others
@@ -123,12 +136,15 @@ def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
         # a solve that holds nothing (no species valid at this T can carry the feed) has no residual
         return resid(sol) if sol.converged or sol.n.any() else math.nan
 
+    # an incipient phase may appear and vanish again (graphite in a reformer gas): a finer scan,
+    # and every point where it is incipient is kept
+    points, also = (INCIPIENT_SCAN_POINTS, []) if what == INCIPIENT else (25, None)
     if T is None:
         t_lo, t_hi = temperature_range(system, what in ENERGY_KINDS)
-        x = bracket_solve(lambda v: held(solver.solve(v, P)), t_lo, t_hi, False, "temperature")
+        x = bracket_solve(lambda v: held(solver.solve(v, P)), t_lo, t_hi, False, "temperature", points, also)
     else:
         try:
-            x = bracket_solve(lambda v: held(solver.solve(T, v)), 1.0, 1e9, True, "pressure")
+            x = bracket_solve(lambda v: held(solver.solve(T, v)), 1.0, 1e9, True, "pressure", points, also)
         except NoSolution as exc:
             raise NoSolution(_no_pressure(what, T, solver, resid) or str(exc)) from None
     sol = solver.solve(x, P) if T is None else solver.solve(T, x)
@@ -137,6 +153,7 @@ def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
     if abs(resid(sol)) > RESIDUAL_TOLERANCE:
         sol.converged = False
         sol.message = f"the {what} specification is met only to {abs(resid(sol)):.2e}"
+    sol.also_incipient = tuple(also or ())
     return sol
 
 
@@ -207,7 +224,7 @@ def refine_transition(solver: RouteSolver, resid: Residual, guess: SolvedState, 
 
     def equations(z):
         sol = state(z)
-        mu = model.at_state(sol.T, sol.P, sol.n)[0][idx]
+        mu = solver.potentials(sol.T, sol.P, sol.n)[0][idx]
         return np.concatenate(((W @ sol.n[idx] - b) / b_scale, basis @ mu, [resid(sol)]))
 
     z0 = np.concatenate((np.log(np.maximum(n_g[idx], 1e-300)), [math.log(guess.T if t_free else guess.P)]))

@@ -161,6 +161,13 @@ def certificate(eq: dict, doc: dict) -> Block:
                      kilojoules(eq["heat_J"])))
         rows.append(("heat of reaction at the state (state minus feed, both at its T and P), kJ",
                      kilojoules(eq["heat_of_reaction_J"]) if eq["heat_of_reaction_J"] is not None else "n/a"))
+    rows += [(f"approached reaction {a['reaction']} ({a['approach_K']:g} K): ln Q; ln K at {a['K_temperature_K']:.2f} K "
+              "(must be equal)", f"{a['lnQ']:.6g}; {a['lnK_at_approach']:.6g}" if a["lnQ"] is not None
+              else f"n/a; {a['lnK_at_approach']:.6g}") for a in eq.get("approach", ())]
+    rows += [(f"incipient phase {i['phase']} (fraction fixed at 0): driving force to form, RT; phase fraction "
+              "(both must be zero)", f"{i['driving_force_RT']:+.3g}; {i['phase_fraction']:.3g}"
+              if i["driving_force_RT"] is not None else f"n/a; {i['phase_fraction']:.3g}")
+             for i in eq.get("incipient_phases", ())]
     aside = {a["phase"] for a in eq.get("phases_set_aside", ())}
     rows += [(f"driving force to form absent phase {k}, RT (must be positive)",
               f"{v:+.4g}" if v is not None else "n/a (cannot form at this T: outside its thermo data range)"

@@ -190,7 +190,7 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
 
 def equilibrium_document(eq: EquilibriumCheck) -> dict:
     """The ``equilibrium`` block of the JSON document."""
-    return {
+    out = {
         "converged": eq.converged,
         "temperature_K": eq.temperature_K,
         "pressure_Pa": eq.pressure_Pa,
@@ -228,6 +228,15 @@ def equilibrium_document(eq: EquilibriumCheck) -> dict:
         "heat_balance": eq.heat_balance or None,
         "heat_of_reaction_J": eq.heat_of_reaction_J,
     }
+    if eq.approach:
+        # reactions held short of equilibrium: ln Q equals ln K at the approach's temperature
+        out["approach"] = [{"reaction": e, "approach_K": dt, "K_temperature_K": t2, "lnK_at_approach": lnk,
+                            "lnQ": lnq} for e, dt, t2, lnk, lnq in eq.approach]
+    if eq.incipient:
+        # phases fixed at a fraction of 0 (bubble, dew or onset point), present in zero amount
+        out["incipient_phases"] = [{"phase": p, "driving_force_RT": d if math.isfinite(d) else None,
+                                    "phase_fraction": f} for p, d, f in eq.incipient]
+    return out
 
 
 def real_gas_document(rg) -> dict:

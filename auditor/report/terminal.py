@@ -119,6 +119,12 @@ def equilibrium_lines(r: AuditResult) -> list[str]:
                             left_out_words(left_out))
     if eq.heat_J is not None:
         out.append("  " + heat_words(eq.heat_J, eq.heat_feed_temperature_K, eq.heat_balance, eq.heat_of_reaction_J))
+    for equation, dt, t2, lnk, lnq in eq.approach:
+        out.append(f"  approach to equilibrium: {equation} held {dt:g} K short: ln Q = "
+                   + (f"{lnq:.6g}" if lnq is not None else "not defined") + f", ln K({t2:.2f} K) = {lnk:.6g}")
+    for name, d, frac in eq.incipient:
+        out.append(f"  incipient phase {name}: present in zero amount (driving force to form {d:+.2e} RT, "
+                   f"fraction {frac:.2e}; both must be zero)")
     unique = f"{yes[eq.unique]} ({eq.unique_basis})" if eq.unique_basis else yes[eq.unique]
     out.append(f"  certificate: converged {yes[eq.converged]}; unique {unique}; balance error "
                f"{_fmt(eq.element_balance_error)}; largest affinity {_fmt(eq.max_affinity_RT)} RT; potential residual "
