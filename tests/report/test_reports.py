@@ -30,7 +30,7 @@ import pytest
 
 from clitools import run
 
-REPO = Path(__file__).resolve().parents[1]
+REPO = Path(__file__).resolve().parents[2]
 CASES = sorted((REPO / "cases").glob("*.yaml"))
 CASE_IDS = [p.stem for p in CASES]
 DESIGN = REPO / "cases" / "reformer_design_point.yaml"       # well posed, solved equilibrium

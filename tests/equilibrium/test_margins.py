@@ -14,8 +14,8 @@ from clitools import run
 from auditor.audit import run as audit_run
 from auditor.case import load_case
 
-ROOT = Path(__file__).resolve().parent.parent
-DATA = Path(__file__).resolve().parent / "data"
+ROOT = Path(__file__).resolve().parents[2]
+DATA = Path(__file__).resolve().parents[1] / "data"
 WINDOW = DATA / "margins_carbon_window.yaml"
 FLUE = DATA / "margins_flue_dew.yaml"
 KILN = ROOT / "cases" / "lime_kiln_calciner.yaml"

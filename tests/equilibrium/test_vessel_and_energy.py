@@ -224,7 +224,7 @@ def test_bad_input_for_each_new_key_is_refused_where_it_is(tmp_path, specified, 
 
 def test_a_temperature_axis_on_an_energy_balanced_case_is_refused_with_the_reason(tmp_path):
     """The adiabatic balance already sets the temperature: an axis on it would make three specifications."""
-    path = Path(__file__).resolve().parents[1] / "cases" / "combustor_adiabatic.yaml"
+    path = Path(__file__).resolve().parents[2] / "cases" / "combustor_adiabatic.yaml"
     rc, out, err = run(["sweep", path, "--vary", "temperature=1500:2000:500", "--jobs", "1", "--out", tmp_path / "s"])
     assert rc == 2, (rc, out, err)
     assert "does not fix the temperature: it is solved from adiabatic enthalpy balance" in err

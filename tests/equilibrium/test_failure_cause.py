@@ -22,7 +22,7 @@ from auditor.audit import counting_stages
 from auditor.equilibrium import diagnosis, routes, workspace
 from clitools import run
 
-CASES = Path(__file__).resolve().parents[1] / "cases"
+CASES = Path(__file__).resolve().parents[2] / "cases"
 
 
 def solver_for(tmp_path: Path, text: str):
@@ -93,7 +93,7 @@ def test_cantera_texts_become_words():
 
 
 @pytest.mark.parametrize("case", [CASES / "ice_melter_adiabatic.yaml",
-                                  Path(__file__).parent / "data" / "margules_two_liquids_case.yaml"])
+                                  Path(__file__).parents[1] / "data" / "margules_two_liquids_case.yaml"])
 def test_no_raw_library_text_in_the_report(case):
     # cases whose earlier routes stop short in cantera (the liquids' saddle at x = 1/2; the ice
     # melter before the data-range rule): the route history and findings say so in words

@@ -206,7 +206,7 @@ def test_outside_range_closed_intervals():
     from auditor.audit import counting_stages
     from auditor.case import load_case
     from auditor.equilibrium.model import PhaseModel
-    case = load_case(Path(__file__).resolve().parents[1] / "cases" / "ice_melter_adiabatic.yaml")
+    case = load_case(Path(__file__).resolve().parents[2] / "cases" / "ice_melter_adiabatic.yaml")
     system, _, analysis, _, _ = counting_stages(case)
     a = CaseArrays.from_stages(system, analysis, PhaseModel(system))
     ice, water = system.index("H2O(s)"), system.index("H2O(L)")

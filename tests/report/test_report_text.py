@@ -12,7 +12,7 @@ from auditor.audit import audit_file  # noqa: E402
 from auditor.report.terminal import audit_text  # noqa: E402
 from auditor.report.text import phase_rule_explanation, yes_no  # noqa: E402
 
-CASES = Path(__file__).resolve().parents[1] / "cases"
+CASES = Path(__file__).resolve().parents[2] / "cases"
 PYTHON_LITERAL = re.compile(r"\b(True|False|None)\b")
 
 

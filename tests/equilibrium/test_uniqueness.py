@@ -21,7 +21,7 @@ from auditor.equilibrium import routes, uniqueness, workspace
 from auditor import settings
 from auditor.audit import audit_file, counting_stages
 
-CASES = Path(__file__).resolve().parents[1] / "cases"
+CASES = Path(__file__).resolve().parents[2] / "cases"
 
 
 def stages(path: Path):

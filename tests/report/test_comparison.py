@@ -14,7 +14,7 @@ import pytest
 
 from clitools import run
 
-CASES = Path(__file__).resolve().parent / "data" / "operating_cases"
+CASES = Path(__file__).resolve().parents[1] / "data" / "operating_cases"
 NAMES = ["start_of_run.yaml", "end_of_run.yaml", "turndown.yaml"]
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser") or shutil.which("google-chrome")
 PDFTOTEXT = shutil.which("pdftotext")

@@ -16,8 +16,8 @@ from auditor import settings
 from auditor.equilibrium.peng_robinson import NoGasRoot, PengRobinsonGas, gas_root
 from auditor.system.critical import critical_constants, own_table
 
-DATA = Path(__file__).parent / "data" / "real_gas"
-ROOT = Path(__file__).parent.parent
+DATA = Path(__file__).parents[1] / "data" / "real_gas"
+ROOT = Path(__file__).parents[2]
 
 # Larson & Dodge, J. Am. Chem. Soc. 45 (1923) 2918: measured equilibrium NH3 at 450 degC,
 # 300 atm, 3 : 1 H2 : N2 feed (from memory)

@@ -31,7 +31,7 @@ ct = pytest.importorskip("cantera")
 from auditor.audit import audit_file  # noqa: E402
 from auditor.equilibrium import certificate_holds  # noqa: E402
 
-CASE = Path(__file__).resolve().parents[1] / "cases" / "ice_melter_adiabatic.yaml"
+CASE = Path(__file__).resolve().parents[2] / "cases" / "ice_melter_adiabatic.yaml"
 P_ATM = 101325.0
 
 DFH_WATER_LIQUID_298 = -285.830            # kJ/mol, CODATA 1989

@@ -19,7 +19,7 @@ import pytest
 
 from clitools import run
 
-REPO = Path(__file__).resolve().parents[1]
+REPO = Path(__file__).resolve().parents[2]
 SULPHUR = REPO / "cases" / "sulphur_furnace_demo.yaml"      # invented SRU reaction furnace, 1300 degC, 1.6 bar
 CARBON = REPO / "cases" / "reformer_carbon_risk.yaml"      # graphite forms although gas-only is assumed
 DESIGN = REPO / "cases" / "reformer_design_point.yaml"     # CH4/H2O/N2 reformer, well posed

@@ -24,7 +24,7 @@ from auditor.audit import counting_stages
 from auditor.equilibrium import routes, uniqueness, workspace
 from clitools import run
 
-DATA = Path(__file__).resolve().parent / "data"
+DATA = Path(__file__).resolve().parents[1] / "data"
 AQUEOUS = DATA / "co2_aqueous_case.yaml"
 TWO_LIQUIDS = DATA / "margules_two_liquids_case.yaml"
 M_WATER = 0.01801528   # kg/mol, from the IUPAC standard atomic weights (common practice)

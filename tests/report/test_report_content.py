@@ -23,7 +23,7 @@ import pytest
 import clitools
 from clitools import run
 
-REPO = Path(__file__).resolve().parents[1]
+REPO = Path(__file__).resolve().parents[2]
 CASES = REPO / "cases"
 ALL_CASES = sorted(CASES.glob("*.yaml"))
 KMOL = CASES / "reformer_kmol_feed.yaml"                 # feed written in kmol

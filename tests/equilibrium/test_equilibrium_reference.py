@@ -41,7 +41,7 @@ ct = pytest.importorskip("cantera")
 from auditor.audit import audit_file  # noqa: E402
 from auditor.report.document import equilibrium_document  # noqa: E402
 
-CASES = Path(__file__).resolve().parents[1] / "cases"
+CASES = Path(__file__).resolve().parents[2] / "cases"
 R_KJ = 8.314462618e-3          # kJ/(mol K), CODATA 2018
 R_J = 8.314462618              # J/(mol K)
 P_ATM = 101325.0               # Pa

@@ -13,7 +13,7 @@ import pytest
 import auditor
 from clitools import run
 
-ROOT = Path(__file__).resolve().parent.parent
+ROOT = Path(__file__).resolve().parents[2]
 IUPAC = {"H": 1.008, "C": 12.011, "O": 15.999}          # IUPAC 2021 abridged standard atomic weights
 M = {"CH4": IUPAC["C"] + 4 * IUPAC["H"], "H2O": 2 * IUPAC["H"] + IUPAC["O"], "CO": IUPAC["C"] + IUPAC["O"],
      "CO2": IUPAC["C"] + 2 * IUPAC["O"], "H2": 2 * IUPAC["H"], "C(gr)": IUPAC["C"]}
