@@ -92,11 +92,24 @@ def parse_vary(text: str) -> Axis:
         if si < 0 or (si == 0 and kind in ("temperature", "pressure")):
             fail(f"{name} must stay above zero (got {v} {unit})".rstrip() if kind in ("temperature", "pressure")
                  else f"{name} must not be negative (got {v})")
-        beyond = outside_limits(kind, si, f"{v:g} {unit}") if kind in ("temperature", "pressure") else None
+        beyond = outside_limits(kind, si, f"{v:g} {unit}") if kind in ("temperature", "pressure") else \
+            _outside_amount_limits(kind, v, unit)
         if beyond:
             fail(f"{name}: {beyond}")
         values.append(si)
     return Axis(name, tuple(values))
+
+
+def _outside_amount_limits(kind: str, v: float, unit: str) -> str | None:
+    """Why a feed amount (in the unit written) or an atom ratio of an axis cannot be physical:
+    outside the case file's limits for feed amounts (0 is allowed: "not fed")."""
+    from . import settings
+    if v == 0 or settings.MIN_FEED_AMOUNT <= v <= settings.MAX_FEED_AMOUNT:
+        return None
+    what = f"an amount lies between {settings.MIN_FEED_AMOUNT:g} and {settings.MAX_FEED_AMOUNT:g} in its unit " \
+           f"({unit})" if kind == "amount" else \
+        f"a ratio lies between {settings.MIN_FEED_AMOUNT:g} and {settings.MAX_FEED_AMOUNT:g}"
+    return f"{v:g} cannot be physical: {what}, or is 0; check the number and its unit"
 
 
 def parse_ternary(text: str, divisions: int, edges: bool = False) -> Axis:
