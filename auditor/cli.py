@@ -218,29 +218,41 @@ def _sweep_axes(args) -> list:
     return axes
 
 
-def _run_points(args, case, axes, journal: Path, header: str, done: list) -> list:
+def _run_points(args, axes, total: int, journal: Path, header: str, done: list) -> list:
     """Every point of the grid, each journalled as it finishes, with a progress bar."""
     from .executors import make_executor
     from .report.console import progress_bar
     from .report.files import write_atomic
-    from .sweep import grid, run_sweep
-    total = len(grid(case, axes))                        # checks the axes before any file is touched
-    executor = make_executor(args.jobs, args.scheduler)  # checks --scheduler likewise
+    from .sweep import run_sweep
+    existed = journal.exists()
+    executor = make_executor(args.jobs, args.scheduler)  # bounded: no workers in time is an InputError
     # rewrite the journal with only whole lines, so new results never join a fragment
     try:
         write_atomic(journal, "\n".join([header] + [r.to_json() for r in done]) + "\n")
     except BaseException:
         executor.close()
         raise
+    journalled = len(done)
+    started = False
     try:
         with open(journal, "a", encoding="utf-8") as jf, \
                 progress_bar(total, "point", args.quiet, initial=len(done)) as bar:
             def on_result(r):
+                nonlocal started, journalled
                 jf.write(r.to_json() + "\n")
                 jf.flush()
+                started, journalled = True, journalled + 1
                 bar.update(1)
             return run_sweep(str(Path(args.case)), axes, executor, done=done, on_result=on_result,
                              block_size=args.block_size, workers=executor.workers)
+    except KeyboardInterrupt:
+        print(f"auditor: {journalled} of {total} points are kept in {journal}; run the same command with "
+              "--resume to continue", file=sys.stderr)
+        raise
+    except InputError:
+        if not started and not existed:        # a sweep that never started leaves no journal
+            journal.unlink(missing_ok=True)
+        raise
     finally:
         executor.close()
 
@@ -261,8 +273,9 @@ def _sweep_picture(args, case, axes, results) -> str:
 def _cmd_sweep(args) -> int:
     from .case import load_case
     from .report.console import sweep_summary
-    from .report.files import check_target, write_atomic
-    from .sweep_files import csv_text, journal_header, points_done
+    from .report.files import check_target, resolved_or_refused, write_atomic
+    from .sweep import validate
+    from .sweep_files import OutputLock, csv_text, journal_header, points_done
     axes = _sweep_axes(args)
     case = load_case(args.case)
     if case.feed is None:
@@ -270,15 +283,19 @@ def _cmd_sweep(args) -> int:
                                 "has none (it is an intensive problem: use 'auditor check')", "feed")
     prefix = args.out or Path(args.case).stem + "_sweep"
     csv_path, svg_path, journal = Path(f"{prefix}.csv"), Path(f"{prefix}.svg"), Path(f"{prefix}.partial.jsonl")
-    if not csv_path.parent.resolve().is_dir():
+    if not resolved_or_refused(csv_path.parent).is_dir():
         raise InputError.single(csv_path.parent, "output directory does not exist")
     for target in (csv_path, svg_path):
         check_target(target, [args.case], args.force or args.resume)
-    header = journal_header(args.case, axes)
-    results = _run_points(args, case, axes, journal, header, points_done(journal, header, args.resume, args.force))
-    write_atomic(csv_path, csv_text(results))
-    write_atomic(svg_path, _sweep_picture(args, case, axes, results))
-    journal.unlink(missing_ok=True)
+    resolved_or_refused(journal)
+    total = len(validate(args.case, axes))     # bad input is exit 2 here, before any file is created
+    with OutputLock(prefix):
+        header = journal_header(case, axes)
+        results = _run_points(args, axes, total, journal, header,
+                              points_done(journal, header, args.resume, args.force))
+        write_atomic(csv_path, csv_text(results))
+        write_atomic(svg_path, _sweep_picture(args, case, axes, results))
+        journal.unlink(missing_ok=True)
     if not args.quiet:
         print("\n".join(sweep_summary(results, bool(args.ternary), csv_path, svg_path)))
     if args.ternary:

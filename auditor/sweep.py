@@ -296,6 +296,25 @@ def _prepared(case_path: str, vary: tuple[str, ...]) -> Prepared:
     return Prepared(case, stages, Workspace(stages.system, stages.analysis))
 
 
+def validate(case_path: str, axes: Sequence[Axis]) -> list[Point]:
+    """The grid, after the checks ``check`` makes (names, mechanism, counting stages) and those
+    of the first point's inputs, so that bad input is an ``InputError`` before any file is
+    written; the stages made here are the ones a point run in this process reuses."""
+    case = load_case(case_path)
+    points = grid(case, axes)
+    vary = tuple(sorted(a.name for a in axes))
+    prepared = _prepared(case_path, vary)
+    first = points[0]
+    if first.feed is not None:
+        from .phase_rule import count_phase_rule
+        from .structure import audit_specification
+        here = replace(prepared.case, feed=first.feed)
+        stages = prepared.stages
+        audit_specification(here, stages.system, count_phase_rule(here, stages.system, stages.reactions,
+                                                                  stages.analysis))
+    return points
+
+
 def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> PointResult:
     from .equilibrium import certificate_holds, confirm
     case, stages, workspace = _prepared(case_path, vary)

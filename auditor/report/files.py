@@ -12,15 +12,27 @@ from typing import Iterable
 from ..errors import InputError, Problem
 
 
+def resolved_or_refused(target: Path) -> Path:
+    """``target`` with its symbolic links followed; a link that leads nowhere (a loop, or a
+    missing target) or a folder in a loop is refused, so nothing is written through it."""
+    try:
+        if target.is_symlink():
+            target.resolve(strict=True)
+        return target.resolve()
+    except (OSError, RuntimeError):      # RuntimeError: Python before 3.13 on a symlink loop
+        raise InputError(Problem(str(target), "is a symbolic link that leads nowhere (a loop of links or a "
+                                 "missing target); remove it or choose another path")) from None
+
+
 def check_target(path: str | Path, inputs: Iterable[str | Path], force: bool) -> Path:
     """Refuse a report path that is an input file, or an existing file without ``force``."""
     target = Path(path)
-    resolved = target.resolve()
+    resolved = resolved_or_refused(target)
     for i in inputs:
         try:
             if Path(i).resolve() == resolved:
                 raise InputError(Problem(str(target), "refusing to write the report over an input file"))
-        except OSError:
+        except (OSError, RuntimeError):
             continue
     if target.is_dir():
         raise InputError(Problem(str(target), "is a directory, not a file"))
