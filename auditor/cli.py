@@ -143,6 +143,13 @@ def _cmd_check(args) -> int:
     from .report.document import check_document
     from .report.terminal import audit_text, summary_line
     paths = args.cases or [str(resources.files("auditor") / "data" / "default_case.yaml")]
+    if args.scheduler is not None:
+        from .executors import parse_scheduler
+        try:
+            parse_scheduler(args.scheduler)
+        except InputError as exc:
+            print(terminal_safe(f"auditor: error: {exc}"), file=sys.stderr)
+            return EXIT_INPUT
     if args.report and len(paths) != 1:
         print("auditor: error: --report takes exactly one CASE", file=sys.stderr)
         return EXIT_INPUT
@@ -211,6 +218,9 @@ def _sweep_axes(args) -> list:
     if bool(args.vary) == bool(args.ternary):
         raise InputError.single("--vary", "give --vary (one or two axes) or --ternary, not both and not neither")
     axes = [parse_vary(v) for v in args.vary] if args.vary else [parse_ternary(args.ternary, args.divisions, args.edges)]
+    if args.scheduler is not None:
+        from .executors import parse_scheduler
+        parse_scheduler(args.scheduler)
     for name in ("jobs", "block_size"):
         value = getattr(args, name)
         if value is not None and value < 1:

@@ -52,6 +52,12 @@ MAX_PRESSURE_PA = 1e9          # 1e4 bar
 MIN_FEED_AMOUNT = 1e-30
 MAX_FEED_AMOUNT = 1e30
 
+# Bounded waits on pools and clusters (sweeps and multi-case checks).
+SCHEDULER_CONNECT_S = 5.0          # a Dask scheduler must answer within this
+SCHEDULER_WORKERS_WAIT_S = 20.0    # ... and have a worker within this
+MAX_LOCAL_WORKERS = 256            # local:N
+WORKER_PARENT_POLL_S = 0.5         # a worker process checks that its parent lives this often
+
 # Limits against hostile input.
 MAX_CASE_FILE_BYTES = 1_000_000
 MAX_YAML_DEPTH = 20
