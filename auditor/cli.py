@@ -249,8 +249,13 @@ def _run_points(args, axes, total: int, journal: Path, header: str, done: list) 
                 progress_bar(total, "point", args.quiet, initial=len(done)) as bar:
             def on_result(r):
                 nonlocal started, journalled
-                jf.write(r.to_json() + "\n")
-                jf.flush()
+                try:
+                    jf.write(r.to_json() + "\n")
+                    jf.flush()
+                except OSError as exc:     # a full disk, a file-size limit: the lines written are kept
+                    raise InputError.single(journal, f"cannot write the sweep's journal: {exc.strerror or exc}; "
+                                            f"{journalled} of {total} points are kept in it (free space, then run "
+                                            "the same command with --resume)") from None
                 started, journalled = True, journalled + 1
                 bar.update(1)
             return run_sweep(str(Path(args.case)), axes, executor, done=done, on_result=on_result,
