@@ -245,13 +245,15 @@ def _run_points(args, axes, total: int, journal: Path, header: str, done: list) 
     journalled = len(done)
     started = False
     try:
-        with open(journal, "a", encoding="utf-8") as jf, \
+        # unbuffered: a line is on disk when written, and closing has nothing left to fail on
+        with open(journal, "ab", buffering=0) as jf, \
                 progress_bar(total, "point", args.quiet, initial=len(done)) as bar:
             def on_result(r):
                 nonlocal started, journalled
+                line = memoryview((r.to_json() + "\n").encode("utf-8"))
                 try:
-                    jf.write(r.to_json() + "\n")
-                    jf.flush()
+                    while line:
+                        line = line[jf.write(line):]
                 except OSError as exc:     # a full disk, a file-size limit: the lines written are kept
                     raise InputError.single(journal, f"cannot write the sweep's journal: {exc.strerror or exc}; "
                                             f"{journalled} of {total} points are kept in it (free space, then run "

@@ -195,31 +195,42 @@ def points_done(journal: Path, header: str, resume: bool, force: bool) -> list[P
     return done
 
 
+_HELD: set[str] = set()     # the prefixes this process holds (POSIX locks do not conflict within a process)
+
+
 class OutputLock:
     """``<prefix>.lock``, held for a sweep's whole run: a second sweep on the prefix is refused.
-    ``flock`` ties the lock to the open file, so the system releases it when its holder dies."""
+    A POSIX record lock (``lockf``) belongs to this process alone (worker processes forked from
+    it do not inherit it) and the system releases it when the process dies, however it died."""
 
     def __init__(self, prefix: str | Path):
         self.path = Path(f"{prefix}.lock")
         self._fd: int | None = None
+
+    def _refuse(self, fd: int):
+        import os
+        holder = os.pread(fd, 64, 0).decode("ascii", "replace").strip()
+        os.close(fd)
+        raise InputError.single(self.path, "another sweep is writing to this output prefix"
+                                + (f" (process {holder})" if holder.isdigit() else "")
+                                + "; wait for it to finish or choose another --out")
 
     def __enter__(self) -> "OutputLock":
         import fcntl
         import os
         while True:
             try:
-                fd = os.open(self.path, os.O_RDWR | os.O_CREAT | os.O_NOFOLLOW, 0o644)
+                fd = os.open(self.path, os.O_RDWR | os.O_CREAT | os.O_NOFOLLOW | os.O_CLOEXEC, 0o644)
             except OSError as exc:
                 raise InputError.single(self.path, f"cannot create the sweep's lock file: {exc.strerror or exc}") \
                     from None
+            key = str(self.path.resolve())
+            if key in _HELD:
+                self._refuse(fd)
             try:
-                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                fcntl.lockf(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
             except OSError:
-                holder = os.pread(fd, 64, 0).decode("ascii", "replace").strip()
-                os.close(fd)
-                raise InputError.single(self.path, "another sweep is writing to this output prefix"
-                                        + (f" (process {holder})" if holder.isdigit() else "")
-                                        + "; wait for it to finish or choose another --out") from None
+                self._refuse(fd)
             try:
                 same = os.fstat(fd).st_ino == os.stat(self.path).st_ino
             except OSError:
@@ -229,7 +240,8 @@ class OutputLock:
             os.close(fd)
         os.ftruncate(fd, 0)
         os.pwrite(fd, str(os.getpid()).encode(), 0)
-        self._fd = fd
+        self._fd, self._key = fd, key
+        _HELD.add(key)
         return self
 
     def __exit__(self, *exc) -> None:
@@ -239,5 +251,6 @@ class OutputLock:
                 self.path.unlink()
             except OSError:
                 pass
+            _HELD.discard(self._key)
             os.close(self._fd)
             self._fd = None

@@ -257,3 +257,206 @@ def _first_points(grid, n):
     def first(case, axes):
         return grid(case, axes)[:n]
     return first
+
+
+def _files(folder: Path) -> dict[str, bytes]:
+    return {p.name: (p.read_bytes() if p.is_file() and not p.is_symlink() else os.readlink(p).encode())
+            for p in sorted(folder.iterdir()) if p.is_file() or p.is_symlink()}
+
+
+def test_a_second_sweep_on_a_prefix_in_use_is_refused(tmp_path):
+    """Two sweeps on one --out: the second is refused (the lock), even with --force; the first's
+    files are not touched by it; a killed sweep's lock does not block the next run."""
+    case, prefix = _mechanism_sweep(tmp_path), tmp_path / "s"
+    journal = Path(f"{prefix}.partial.jsonl")
+    first = _start_sweep(case, prefix)
+    try:
+        assert _wait_for(lambda: _journal_rows(journal) >= 2, 60)
+        t0 = time.monotonic()
+        rc, _, err = run(["sweep", case, "--vary", "temperature=1000:1100:100", "--jobs", "1", "--out", prefix,
+                          "--force"], cwd=tmp_path)
+        assert rc == 2 and "another sweep is writing to this output prefix" in err and f"process {first.pid}" in err
+        assert time.monotonic() - t0 < 5
+        assert first.poll() is None and _journal_rows(journal) >= 2
+        assert not Path(f"{prefix}.csv").exists()
+    finally:
+        first.kill()
+        first.wait()
+    assert Path(f"{prefix}.lock").exists()          # left by the kill, but no longer held
+    rc, _, err = run(["sweep", case, "--vary", "temperature=1000:1100:100", "--jobs", "1", "--out", prefix,
+                      "--force"], cwd=tmp_path)
+    assert rc in (0, 1), err
+    assert len(read_csv(Path(f"{prefix}.csv"))) == 2 and not Path(f"{prefix}.lock").exists()
+
+
+def test_a_full_file_system_while_journalling_is_an_input_error(tmp_path):
+    """RLIMIT_FSIZE stands for a full disk: the journal cannot grow past 40 kB (its header, with
+    the grid's 2001 values, takes about 20 kB).  Exit 2
+    naming the journal and how to continue; the CSV of an earlier run is kept; no part file."""
+    import resource
+    case, prefix = _mechanism_sweep(tmp_path), tmp_path / "s"
+    Path(f"{prefix}.csv").write_text("an earlier run\n", encoding="utf-8")
+
+    def small_files():
+        resource.setrlimit(resource.RLIMIT_FSIZE, (40_000, 40_000))
+
+    t0 = time.monotonic()
+    proc = subprocess.run([sys.executable, "-m", "auditor", "sweep", str(case), "--vary", LONG_GRID, "--jobs", "1",
+                           "--block-size", "2", "--out", str(prefix), "--force", "--quiet"], cwd=tmp_path,
+                          preexec_fn=small_files, capture_output=True, text=True, timeout=60)
+    assert proc.returncode == 2, proc.stderr
+    assert "cannot write the sweep's journal: File too large" in proc.stderr and "--resume" in proc.stderr
+    assert time.monotonic() - t0 < 30
+    assert Path(f"{prefix}.csv").read_text(encoding="utf-8") == "an earlier run\n"
+    assert not [p for p in tmp_path.iterdir() if p.name.endswith(".part")]
+    lines = Path(f"{prefix}.partial.jsonl").read_text(encoding="utf-8").splitlines()
+    assert len(lines) >= 2 and json.loads(lines[0])["journal"] == 2
+
+
+@pytest.mark.parametrize("command", ["report", "sweep-file", "sweep-folder"])
+def test_a_symlink_loop_as_output_is_refused(tmp_path, command):
+    case = _mechanism_sweep(tmp_path)
+    for a, b in (("loop.html", "loop.html"), ("s.csv", "t.csv"), ("t.csv", "s.csv"), ("d1", "d2"), ("d2", "d1")):
+        os.symlink(b, tmp_path / a)
+    before = _files(tmp_path)
+    argv = {"report": ["check", case, "--report", tmp_path / "loop.html", "--force"],
+            "sweep-file": ["sweep", case, "--vary", "temperature=1000:1100:100", "--jobs", "1", "--out",
+                           tmp_path / "s", "--force"],
+            "sweep-folder": ["sweep", case, "--vary", "temperature=1000:1100:100", "--jobs", "1", "--out",
+                             tmp_path / "d1" / "s"]}[command]
+    t0 = time.monotonic()
+    rc, _, err = run(argv, cwd=tmp_path)
+    assert rc == 2 and "symbolic link that leads nowhere" in err
+    assert time.monotonic() - t0 < 5
+    assert _files(tmp_path) == before
+
+
+# ------------------------------------------------------------------ schedulers: every wait bounded
+
+@pytest.mark.parametrize("address", ["local:0", "local:-1", "local:two", "tcp://127.0.0.1:0", "127.0.0.1"])
+@pytest.mark.parametrize("command", ["sweep", "check"])
+def test_invalid_scheduler_addresses_are_refused_at_parse_time(tmp_path, address, command):
+    case = _mechanism_sweep(tmp_path)
+    argv = (["sweep", case, "--vary", "temperature=1000:1100:100", "--out", tmp_path / "s"] if command == "sweep"
+            else ["check", case, case])
+    t0 = time.monotonic()
+    rc, _, err = run(argv + ["--scheduler", address], cwd=tmp_path)
+    assert rc == 2 and "--scheduler" in err and repr(address) in err
+    assert time.monotonic() - t0 < 2
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["case.yaml", "mech.yaml"]
+
+
+class _Listener:
+    """Something on loopback that is not a Dask scheduler: silent, or answering like a web server."""
+
+    def __init__(self, mode: str):
+        import socket
+        import threading
+        self.sock = socket.socket()
+        self.sock.bind(("127.0.0.1", 0))
+        self.sock.listen()
+        self.port = self.sock.getsockname()[1]
+        self.mode, self.held = mode, []
+        threading.Thread(target=self._serve, daemon=True).start()
+
+    def _serve(self):
+        while True:
+            try:
+                conn, _ = self.sock.accept()
+            except OSError:
+                return
+            if self.mode == "web":
+                conn.sendall(b"HTTP/1.0 400 Bad Request\r\nContent-Length: 0\r\n\r\n" + b"x" * 64)
+            self.held.append(conn)
+
+    def close(self):
+        self.sock.close()
+        for c in self.held:
+            c.close()
+
+
+@pytest.mark.parametrize("mode", ["nothing", "silent", "web"])
+def test_a_scheduler_address_where_no_scheduler_answers(tmp_path, monkeypatch, mode):
+    """Nothing listening: refused at once; another service (silent, or a web server): refused
+    within settings.SCHEDULER_CONNECT_S (1 s here).  No journal is left."""
+    import socket
+    from auditor import settings
+    monkeypatch.setattr(settings, "SCHEDULER_CONNECT_S", 1.0)
+    case = _mechanism_sweep(tmp_path)
+    if mode == "nothing":
+        s = socket.socket()
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+        s.close()
+        listener = None
+    else:
+        listener = _Listener(mode)
+        port = listener.port
+    try:
+        t0 = time.monotonic()
+        rc, _, err = run(["sweep", case, "--vary", "temperature=1000:1100:100", "--out", tmp_path / "s",
+                          "--scheduler", f"tcp://127.0.0.1:{port}"], cwd=tmp_path)
+        took = time.monotonic() - t0
+    finally:
+        if listener:
+            listener.close()
+    assert rc == 2 and f"tcp://127.0.0.1:{port}" in err
+    assert {"nothing": "nothing listens there", "silent": "sent no Dask greeting within 1 s",
+            "web": "another service answers there"}[mode] in err
+    assert took < 3
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["case.yaml", "mech.yaml"]
+
+
+def test_a_scheduler_without_workers_is_an_error_in_bounded_time(tmp_path, monkeypatch):
+    """A real Dask scheduler on loopback with no worker: an error naming it after
+    settings.SCHEDULER_WORKERS_WAIT_S (1 s here), and no journal left."""
+    pytest.importorskip("distributed")
+    from dask.distributed import LocalCluster
+    from auditor import settings
+    monkeypatch.setattr(settings, "SCHEDULER_WORKERS_WAIT_S", 1.0)
+    case = _mechanism_sweep(tmp_path)
+    with LocalCluster(n_workers=0, processes=False, protocol="tcp://", dashboard_address=None,
+                      host="127.0.0.1") as cluster:
+        t0 = time.monotonic()
+        rc, _, err = run(["sweep", case, "--vary", "temperature=1000:1100:100", "--out", tmp_path / "s",
+                          "--scheduler", cluster.scheduler_address], cwd=tmp_path)
+        took = time.monotonic() - t0
+    assert rc == 2 and "has no worker after 1 s" in err and cluster.scheduler_address in err
+    assert took < 6
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["case.yaml", "mech.yaml"]
+
+
+# ------------------------------------------------------------------ sweep validates first; Ctrl-C says how to go on
+
+@pytest.mark.parametrize("bad", ["unknown-species", "rejected-mechanism"])
+def test_sweep_validates_the_case_before_creating_any_file(tmp_path, bad):
+    case = _mechanism_sweep(tmp_path)
+    if bad == "unknown-species":
+        case.write_text(MECHANISM_CASE.replace("O2: 1}", "O2: 1, Xe: 1}"), encoding="utf-8")
+    else:
+        (tmp_path / "mech.yaml").write_text(MECHANISM.replace("cp0: 29.4 J/mol/K", "cp0: hot"), encoding="utf-8")
+    rc_check, _, err_check = run(["check", case], cwd=tmp_path)
+    t0 = time.monotonic()
+    rc, _, err = run(["sweep", case, "--vary", "temperature=1000:1400:100", "--jobs", "2", "--out",
+                      tmp_path / "s"], cwd=tmp_path)
+    assert rc == rc_check == 2, err
+    assert err.splitlines()[0] == err_check.splitlines()[0]
+    assert time.monotonic() - t0 < 10
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["case.yaml", "mech.yaml"]
+
+
+def test_an_interrupted_sweep_says_how_to_continue(tmp_path, monkeypatch):
+    case = _mechanism_sweep(tmp_path)
+    real = auditor.sweep.evaluate_block
+
+    def stop_at_third(case_path, vary, points):
+        if any(p.index == 2 for p in points):
+            raise KeyboardInterrupt
+        return real(case_path, vary, points)
+
+    monkeypatch.setattr(auditor.sweep, "evaluate_block", stop_at_third)
+    rc, _, err = run(["sweep", case, "--vary", "temperature=1000:1400:100", "--jobs", "1", "--block-size", "1",
+                      "--out", tmp_path / "s"], cwd=tmp_path)
+    assert rc == 130
+    assert "2 of 5 points are kept in" in err and "--resume" in err
+    assert not (tmp_path / "s.lock").exists()
