@@ -460,3 +460,52 @@ def test_an_interrupted_sweep_says_how_to_continue(tmp_path, monkeypatch):
     assert rc == 130
     assert "2 of 5 points are kept in" in err and "--resume" in err
     assert not (tmp_path / "s.lock").exists()
+
+
+# ------------------------------------------------------------------ wording: long values, floods, NaN, part files
+
+def test_a_flood_of_problems_of_one_kind_is_summarised(tmp_path):
+    """1000 unknown feed species: the first settings.MAX_PROBLEMS_OF_A_KIND lines, then one counting the rest."""
+    from auditor import settings
+    case = tmp_path / "case.yaml"
+    feed = ", ".join(f"Zz{i}: 1" for i in range(1000))
+    case.write_text(RATIO_ON_ABSENT.split("restrictions:")[0].replace("feed: {CH4: 1, H2O: 3}", f"feed: {{{feed}}}"),
+                    encoding="utf-8")
+    rc, _, err = run(["check", case])
+    lines = err.strip().splitlines()
+    assert rc == 2 and len(lines) == settings.MAX_PROBLEMS_OF_A_KIND + 1
+    assert "unknown species 'Zz0'" in lines[0]
+    assert "and 995 more of the same kind" in lines[-1]
+
+
+@pytest.mark.parametrize("where", ["species", "temperature"])
+def test_a_long_value_is_cut_with_its_length_stated(tmp_path, where):
+    long = "x" * 5000
+    text = RATIO_ON_ABSENT.split("restrictions:")[0]
+    text = text.replace("N2, Ar]", f"N2, {long}]") if where == "species" else text.replace("900 K", long)
+    case = tmp_path / "case.yaml"
+    case.write_text(text, encoding="utf-8")
+    rc, _, err = run(["check", case])
+    assert rc == 2 and "(5000 characters)" in err
+    assert len(err) < 400
+
+
+@pytest.mark.parametrize("written,named", [(".nan", "not a number (NaN)"), (".NaN", "not a number (NaN)"),
+                                           ("-.inf", "an infinity")])
+def test_nan_in_thermo_data_is_named_as_such(tmp_path, written, named):
+    case = _mechanism_sweep(tmp_path)
+    (tmp_path / "mech.yaml").write_text(MECHANISM.replace("s0: 205.1 J/mol/K", f"s0: {written}"), encoding="utf-8")
+    rc, _, err = run(["check", case], cwd=tmp_path)
+    assert rc == 2 and f"mech.yaml:13: mechanism file holds {named}, written {written}" in err
+
+
+def test_a_report_killed_mid_write_leaves_no_part_file(tmp_path):
+    """The writer is killed (SIGKILL) after writing the text and before naming the file: nothing
+    is left in the folder, not even a hidden part file (an unnamed O_TMPFILE file on Linux)."""
+    script = ("import os, signal, sys\n"
+              "from auditor.report import files\n"
+              "os.fsync = lambda fd: os.kill(os.getpid(), signal.SIGKILL)\n"
+              "files.write_atomic(sys.argv[1], 'x' * 100000)\n")
+    proc = subprocess.run([sys.executable, "-c", script, str(tmp_path / "report.html")], capture_output=True, timeout=30)
+    assert proc.returncode == -signal.SIGKILL
+    assert list(tmp_path.iterdir()) == []
