@@ -112,6 +112,13 @@ exit status: 0 well posed and every claim holds, 1 the audit found a problem,
 2 an input could not be read or is invalid."""
 
 
+def _check_scheduler(args) -> None:
+    """--scheduler refused at parse time when it is no address (local:0, a port of 0, ...)."""
+    if args.scheduler is not None:
+        from .executors import parse_scheduler
+        parse_scheduler(args.scheduler)
+
+
 def _audit_all(paths, args, tick=lambda: None):
     """(path, AuditResult or InputError) in the order given; several cases go to an executor.
     ``tick`` is called once per finished case (the progress bar)."""
@@ -143,13 +150,7 @@ def _cmd_check(args) -> int:
     from .report.document import check_document
     from .report.terminal import audit_text, summary_line
     paths = args.cases or [str(resources.files("auditor") / "data" / "default_case.yaml")]
-    if args.scheduler is not None:
-        from .executors import parse_scheduler
-        try:
-            parse_scheduler(args.scheduler)
-        except InputError as exc:
-            print(terminal_safe(f"auditor: error: {exc}"), file=sys.stderr)
-            return EXIT_INPUT
+    _check_scheduler(args)
     if args.report and len(paths) != 1:
         print("auditor: error: --report takes exactly one CASE", file=sys.stderr)
         return EXIT_INPUT
@@ -218,9 +219,7 @@ def _sweep_axes(args) -> list:
     if bool(args.vary) == bool(args.ternary):
         raise InputError.single("--vary", "give --vary (one or two axes) or --ternary, not both and not neither")
     axes = [parse_vary(v) for v in args.vary] if args.vary else [parse_ternary(args.ternary, args.divisions, args.edges)]
-    if args.scheduler is not None:
-        from .executors import parse_scheduler
-        parse_scheduler(args.scheduler)
+    _check_scheduler(args)
     for name in ("jobs", "block_size"):
         value = getattr(args, name)
         if value is not None and value < 1:
@@ -274,23 +273,11 @@ def _run_points(args, axes, total: int, journal: Path, header: str, done: list) 
         executor.close()
 
 
-def _sweep_picture(args, case, axes, results) -> str:
-    """The ternary map, or the plot of the swept axes."""
-    if args.ternary:
-        from .report.ternary import ternary_svg
-        s, written = case.specified, case.as_written       # T and P as the case file writes them
-        return ternary_svg(results, axes[0].elements, args.divisions,
-                           f"T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
-                           f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title)
-    from .report.sweep_plot import sweep_svg, unit_of
-    assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
-    return sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary])
-
-
 def _cmd_sweep(args) -> int:
     from .case import load_case
     from .report.console import sweep_summary
     from .report.files import check_target, resolved_or_refused, write_atomic
+    from .report.sweep_plot import sweep_picture
     from .sweep import validate
     from .sweep_files import OutputLock, csv_text, journal_header, points_done
     axes = _sweep_axes(args)
@@ -311,7 +298,7 @@ def _cmd_sweep(args) -> int:
         results = _run_points(args, axes, total, journal, header,
                               points_done(journal, header, args.resume, args.force))
         write_atomic(csv_path, csv_text(results))
-        write_atomic(svg_path, _sweep_picture(args, case, axes, results))
+        write_atomic(svg_path, sweep_picture(case, axes, results, args.ternary and args.divisions, args.vary))
         journal.unlink(missing_ok=True)
     if not args.quiet:
         print("\n".join(sweep_summary(results, bool(args.ternary), csv_path, svg_path)))

@@ -69,6 +69,10 @@ class InputError(AuditorError, ValueError):
         self.problems = [problems] if isinstance(problems, Problem) else list(problems)
         super().__init__(str(self))
 
+    def __reduce__(self):
+        """Pickled with its problems (an error crosses from a worker process to the CLI)."""
+        return self.__class__, (self.problems,)
+
     def __str__(self) -> str:
         """One line per problem; after ``settings.MAX_PROBLEMS_OF_A_KIND`` problems of one kind,
         one line counting the rest."""

@@ -509,3 +509,13 @@ def test_a_report_killed_mid_write_leaves_no_part_file(tmp_path):
     proc = subprocess.run([sys.executable, "-c", script, str(tmp_path / "report.html")], capture_output=True, timeout=30)
     assert proc.returncode == -signal.SIGKILL
     assert list(tmp_path.iterdir()) == []
+
+
+def test_an_input_error_crosses_process_boundaries_whole():
+    """Errors come back from pool workers pickled: the problems survive, and so does the summary."""
+    import pickle
+    from auditor.errors import CaseError, Problem
+    err = CaseError([Problem("f.yaml", f"unknown species 'S{i}'", f"feed.S{i}", 3) for i in range(8)])
+    back = pickle.loads(pickle.dumps(err))
+    assert type(back) is CaseError and back.problems == err.problems and str(back) == str(err)
+    assert str(back).splitlines()[-1] == "f.yaml: ... and 3 more of the same kind (unknown species '_')"
