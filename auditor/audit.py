@@ -140,7 +140,7 @@ def run(case: Case, system: ChemicalSystem | None = None, confirm: bool = True, 
 
     # verdict before claims
     verdict = spec.status
-    if analysis.unbalanced or F < 0 or count.empty_phases or impossible or any(f.severity == "error"
+    if analysis.unbalanced or F < 0 or count.empty_phases or count.unholdable or impossible or any(f.severity == "error"
                                                                                for f in set_findings):
         verdict = Verdict.INCONSISTENT
     elif verdict == Verdict.WELL_POSED and equilibrium is not None and not equilibrium.confirmed:
@@ -255,6 +255,11 @@ def _count_findings(count: PhaseRuleCount) -> list[Finding]:
         findings.append(Finding("note", "phase-rule", f"{', '.join(count.excluded)} cannot be present (the feed lacks "
                                 "an element of each, or the listed reactions cannot form it) and are left out of the "
                                 "count", count.excluded))
+    for rel, absent in count.unholdable:
+        findings.append(Finding("error", "phase-rule", f"declared restriction '{rel.text}' ({rel.key_path}) cannot "
+                                f"hold: {', '.join(absent)} cannot be present (the feed lacks an element of it, or the "
+                                "listed reactions cannot form it), so its mole fraction is zero; remove the restriction "
+                                "or feed what forms the species", absent))
     if F < 0:
         findings.append(Finding("error", "phase-rule", f"F = {F} < 0: the phases assumed to coexist "
                                 f"({', '.join(count.coexisting)}) cannot coexist at equilibrium with these "

@@ -118,6 +118,13 @@ exit status: 0 well posed and every claim holds, 1 the audit found a problem,
 2 an input could not be read or is invalid."""
 
 
+def _check_scheduler(args) -> None:
+    """--scheduler refused at parse time when it is no address (local:0, a port of 0, ...)."""
+    if args.scheduler is not None:
+        from .executors import parse_scheduler
+        parse_scheduler(args.scheduler)
+
+
 def _audit_all(paths, args, tick=lambda: None):
     """(path, AuditResult or InputError) in the order given; several cases go to an executor.
     ``tick`` is called once per finished case (the progress bar)."""
@@ -150,6 +157,7 @@ def _cmd_check(args) -> int:
     from .report.document import check_document
     from .report.terminal import audit_text, summary_line
     paths = args.cases or [str(resources.files("auditor") / "data" / "default_case.yaml")]
+    _check_scheduler(args)
     if args.report:
         from .report.files import REPORT_FORMATS, check_target
         try:
@@ -223,6 +231,7 @@ def _sweep_axes(args) -> list:
     if bool(args.vary) == bool(args.ternary):
         raise InputError.single("--vary", "give --vary (one or two axes) or --ternary, not both and not neither")
     axes = [parse_vary(v) for v in args.vary] if args.vary else [parse_ternary(args.ternary, args.divisions, args.edges)]
+    _check_scheduler(args)
     for name in ("jobs", "block_size"):
         value = getattr(args, name)
         if value is not None and value < 1:
@@ -230,53 +239,59 @@ def _sweep_axes(args) -> list:
     return axes
 
 
-def _run_points(args, case, axes, journal: Path, header: str, done: list) -> list:
+def _run_points(args, axes, total: int, journal: Path, header: str, done: list) -> list:
     """Every point of the grid, each journalled as it finishes, with a progress bar."""
     from .executors import make_executor
     from .report.console import progress_bar
     from .report.files import write_atomic
-    from .sweep import grid, run_sweep
-    total = len(grid(case, axes))                        # checks the axes before any file is touched
-    executor = make_executor(args.jobs, args.scheduler)  # checks --scheduler likewise
+    from .sweep import run_sweep
+    existed = journal.exists()
+    executor = make_executor(args.jobs, args.scheduler)  # bounded: no workers in time is an InputError
     # rewrite the journal with only whole lines, so new results never join a fragment
     try:
         write_atomic(journal, "\n".join([header] + [r.to_json() for r in done]) + "\n")
     except BaseException:
         executor.close()
         raise
+    journalled = len(done)
+    started = False
     try:
-        with open(journal, "a", encoding="utf-8") as jf, \
+        # unbuffered: a line is on disk when written, and closing has nothing left to fail on
+        with open(journal, "ab", buffering=0) as jf, \
                 progress_bar(total, "point", args.quiet, initial=len(done)) as bar:
             def on_result(r):
-                jf.write(r.to_json() + "\n")
-                jf.flush()
+                nonlocal started, journalled
+                line = memoryview((r.to_json() + "\n").encode("utf-8"))
+                try:
+                    while line:
+                        line = line[jf.write(line):]
+                except OSError as exc:     # a full disk, a file-size limit: the lines written are kept
+                    raise InputError.single(journal, f"cannot write the sweep's journal: {exc.strerror or exc}; "
+                                            f"{journalled} of {total} points are kept in it (free space, then run "
+                                            "the same command with --resume)") from None
+                started, journalled = True, journalled + 1
                 bar.update(1)
             return run_sweep(str(Path(args.case)), axes, executor, done=done, on_result=on_result,
                              block_size=args.block_size, workers=executor.workers)
+    except KeyboardInterrupt:
+        print(f"auditor: {journalled} of {total} points are kept in {journal}; run the same command with "
+              "--resume to continue", file=sys.stderr)
+        raise
+    except InputError:
+        if not started and not existed:        # a sweep that never started leaves no journal
+            journal.unlink(missing_ok=True)
+        raise
     finally:
         executor.close()
-
-
-def _sweep_picture(args, case, axes, results) -> str:
-    """The ternary map, or the plot of the swept axes."""
-    if args.ternary:
-        from .report.sweep_plot import picture_stamp
-        from .report.ternary import ternary_svg
-        s, written = case.specified, case.as_written       # T and P as the case file writes them
-        return ternary_svg(results, axes[0].elements, args.divisions,
-                           f"T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
-                           f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title,
-                           picture_stamp(case))
-    from .report.sweep_plot import sweep_svg, unit_of
-    assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
-    return sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary])
 
 
 def _cmd_sweep(args) -> int:
     from .case import load_case
     from .report.console import sweep_summary
-    from .report.files import check_target, write_atomic
-    from .sweep_files import csv_text, journal_header, points_done
+    from .report.files import check_target, resolved_or_refused, write_atomic
+    from .report.sweep_plot import sweep_picture
+    from .sweep import validate
+    from .sweep_files import OutputLock, csv_text, journal_header, points_done
     axes = _sweep_axes(args)
     case = load_case(args.case)
     if case.feed is None:
@@ -284,15 +299,19 @@ def _cmd_sweep(args) -> int:
                                 "has none (it is an intensive problem: use 'auditor check')", "feed")
     prefix = args.out or Path(args.case).stem + "_sweep"
     csv_path, svg_path, journal = Path(f"{prefix}.csv"), Path(f"{prefix}.svg"), Path(f"{prefix}.partial.jsonl")
-    if not csv_path.parent.resolve().is_dir():
+    if not resolved_or_refused(csv_path.parent).is_dir():
         raise InputError.single(csv_path.parent, "output directory does not exist")
     for target in (csv_path, svg_path):
         check_target(target, [args.case], args.force or args.resume)
-    header = journal_header(args.case, axes)
-    results = _run_points(args, case, axes, journal, header, points_done(journal, header, args.resume, args.force))
-    write_atomic(csv_path, csv_text(results))
-    write_atomic(svg_path, _sweep_picture(args, case, axes, results))
-    journal.unlink(missing_ok=True)
+    resolved_or_refused(journal)
+    total = len(validate(args.case, axes))     # bad input is exit 2 here, before any file is created
+    with OutputLock(prefix):
+        header = journal_header(case, axes)
+        results = _run_points(args, axes, total, journal, header,
+                              points_done(journal, header, args.resume, args.force))
+        write_atomic(csv_path, csv_text(results))
+        write_atomic(svg_path, sweep_picture(case, axes, results, args.ternary and args.divisions, args.vary))
+        journal.unlink(missing_ok=True)
     if not args.quiet:
         print("\n".join(sweep_summary(results, bool(args.ternary), csv_path, svg_path)))
     if args.ternary:

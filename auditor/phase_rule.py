@@ -61,6 +61,8 @@ class PhaseRuleCount:
     excluded: tuple[str, ...] = ()            # species that need an element the feed lacks
     empty_phases: tuple[str, ...] = ()        # assumed phases none of whose species can exist
     feed_words: tuple[tuple[str, str], ...] = ()  # (phase, the feed relations of it as ratios in words)
+    # declared restrictions on a species that cannot be present, each with the labels of those species
+    unholdable: tuple[tuple[Relation, tuple[str, ...]], ...] = ()
 
     @property
     def n_species(self) -> int:
@@ -258,16 +260,27 @@ class _Tally:
         return 0
 
 
-def _same_composition(case: Case, system: ChemicalSystem, coexisting: Sequence[str], tally: _Tally) -> None:
+def _same_composition(case: Case, system: ChemicalSystem, coexisting: Sequence[str], tally: _Tally,
+                      present: set) -> list[Relation]:
     """Step 6: relations that tie phases together; both normalisations make x(a) - x(c) summed
-    over all species zero already, so that combination is implied and not counted."""
+    over all species zero already, so that combination is implied and not counted.  A pair of
+    which neither species can be present holds trivially (left out); a pair of which one only
+    can be present cannot hold as written (returned)."""
     labels = system.labels
+    unholdable: list[Relation] = []
     for r in case.restrictions:
         if r.kind != "same-composition" or not all(p in coexisting for p in r.phases):
             continue
         first = r.phases[0]
         for other in r.phases[1:]:
-            pairs = matching_species(system, first, other)
+            pairs = [(a, c) for a, c in matching_species(system, first, other) if a in present or c in present]
+            lone = [(a, c) for a, c in pairs if (a in present) != (c in present)]
+            if lone:
+                absent = ", ".join(labels[k] for a, c in lone for k in (a, c) if k not in present)
+                unholdable.append(Relation("across phases", tuple((k, 1) for a, c in lone for k in (a, c)), "declared",
+                                           f"same composition of {first} and {other} (but {absent} cannot be present)",
+                                           r.key_path))
+                continue
             implied = {}
             for a, c in pairs:
                 implied[a], implied[c] = 1, -1
@@ -278,6 +291,7 @@ def _same_composition(case: Case, system: ChemicalSystem, coexisting: Sequence[s
             if not new:   # the whole declaration repeats what is already counted
                 tally.double.append(Relation("across phases", (), "implied by the other restrictions",
                                              f"same composition of {first} and {other}", r.key_path))
+    return unholdable
 
 
 def count_phase_rule(case: Case, system: ChemicalSystem, reactions: Sequence[Reaction],
@@ -301,6 +315,11 @@ def count_phase_rule(case: Case, system: ChemicalSystem, reactions: Sequence[Rea
     if case.feed is not None:
         b = [sum((Fraction(w.get(k, 0)) * a for k, a in n0.items()), Fraction(0)) for w in W]
     declared = _declared_ratios(case, system)
+    present_set = set(present)
+    # a declared ratio of a species that cannot be present cannot hold (x = 0, or a ratio over zero)
+    unholdable = [rel for phase, rels in declared.items() if phase in coexisting for rel in rels
+                  if any(k not in present_set for k, _ in rel.coefficients)]
+    declared = {p: [rel for rel in rels if rel not in unholdable] for p, rels in declared.items()}
     tally, feed_words = _Tally(), []
     for phase in coexisting:
         found, words = _phase_relations(phase, system, analysis, present, W, b)
@@ -310,13 +329,15 @@ def count_phase_rule(case: Case, system: ChemicalSystem, reactions: Sequence[Rea
             tally.feed(rel)
         for rel in declared.get(phase, []):
             tally.declared(rel)
-    _same_composition(case, system, coexisting, tally)
+    unholdable += _same_composition(case, system, coexisting, tally, present_set)
     return PhaseRuleCount(
         coexisting=tuple(coexisting), present_species=present, n_present=len(present),
         n_phases=len(coexisting), independent_reactions=len(basis), reactions_present=reactions_present,
         r_feed=tally.r_feed, r_declared=tally.r_declared, relations=tuple(tally.relations),
         double_counted=tuple(tally.double), has_feed=case.feed is not None,
-        excluded=tuple(system.labels[k] for k in excluded), empty_phases=empty, feed_words=tuple(feed_words))
+        excluded=tuple(system.labels[k] for k in excluded), empty_phases=empty, feed_words=tuple(feed_words),
+        unholdable=tuple((rel, tuple(dict.fromkeys(labels[k] for k, _ in rel.coefficients if k not in present_set)))
+                         for rel in unholdable))
 
 
 count = count_phase_rule          # the name tests and parallel work import

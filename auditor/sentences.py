@@ -61,6 +61,10 @@ def verdict_reason(verdict, system, analysis, count, spec, equilibrium, checks, 
         if count.empty_phases:
             return (f"{one_of(count.empty_phases)} cannot form from this feed, yet the case assumes "
                     f"{'it' if len(count.empty_phases) == 1 else 'them'} present")
+        if count.unholdable:
+            rel, absent = count.unholdable[0]
+            return (f"the declared restriction '{rel.text}' ({rel.key_path}) cannot hold: {', '.join(absent)} cannot "
+                    "be present with this feed")
         if impossible:
             return (f"{one_of(p for p, _ in impossible)} cannot exist at T = {case.specified.temperature_K:.2f} K "
                     f"({'; '.join(why for _, why in impossible)}), yet the case assumes "

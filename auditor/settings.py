@@ -57,6 +57,18 @@ MAX_PRESSURE_PA = 1e9          # 1e4 bar
 MIN_FEED_AMOUNT = 1e-30
 MAX_FEED_AMOUNT = 1e30
 
+# Bounded waits on pools and clusters (sweeps and multi-case checks).
+SCHEDULER_CONNECT_S = 5.0          # a Dask scheduler must answer within this
+SCHEDULER_WORKERS_WAIT_S = 20.0    # ... and have a worker within this
+MAX_LOCAL_WORKERS = 256            # local:N
+WORKER_PARENT_POLL_S = 0.5         # a worker process checks that its parent lives this often
+
+# Messages: an echoed value longer than this is cut (its length stated); a message longer than
+# MAX_MESSAGE_CHARS likewise; after MAX_PROBLEMS_OF_A_KIND problems of one kind one line counts the rest.
+MAX_QUOTED_CHARS = 80
+MAX_MESSAGE_CHARS = 600
+MAX_PROBLEMS_OF_A_KIND = 5
+
 # Limits against hostile input.
 MAX_CASE_FILE_BYTES = 1_000_000
 MAX_YAML_DEPTH = 20

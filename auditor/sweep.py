@@ -91,11 +91,24 @@ def parse_vary(text: str) -> Axis:
         if si < 0 or (si == 0 and kind in ("temperature", "pressure")):
             fail(f"{name} must stay above zero (got {v} {unit})".rstrip() if kind in ("temperature", "pressure")
                  else f"{name} must not be negative (got {v})")
-        beyond = outside_limits(kind, si, f"{v:g} {unit}") if kind in ("temperature", "pressure") else None
+        beyond = outside_limits(kind, si, f"{v:g} {unit}") if kind in ("temperature", "pressure") else \
+            _outside_amount_limits(kind, v, unit)
         if beyond:
             fail(f"{name}: {beyond}")
         values.append(si)
     return Axis(name, tuple(values))
+
+
+def _outside_amount_limits(kind: str, v: float, unit: str) -> str | None:
+    """Why a feed amount (in the unit written) or an atom ratio of an axis cannot be physical:
+    outside the case file's limits for feed amounts (0 is allowed: "not fed")."""
+    from . import settings
+    if v == 0 or settings.MIN_FEED_AMOUNT <= v <= settings.MAX_FEED_AMOUNT:
+        return None
+    what = f"an amount lies between {settings.MIN_FEED_AMOUNT:g} and {settings.MAX_FEED_AMOUNT:g} in its unit " \
+           f"({unit})" if kind == "amount" else \
+        f"a ratio lies between {settings.MIN_FEED_AMOUNT:g} and {settings.MAX_FEED_AMOUNT:g}"
+    return f"{v:g} cannot be physical: {what}, or is 0; check the number and its unit"
 
 
 def parse_ternary(text: str, divisions: int, edges: bool = False) -> Axis:
@@ -287,6 +300,25 @@ def _prepared(case_path: str, vary: tuple[str, ...]) -> Prepared:
     from .equilibrium import Workspace
     # one workspace per case and worker: every point of the sweep shares its cantera objects
     return Prepared(case, stages, Workspace(stages.system, stages.analysis))
+
+
+def validate(case_path: str, axes: Sequence[Axis]) -> list[Point]:
+    """The grid, after the checks ``check`` makes (names, mechanism, counting stages) and those
+    of the first point's inputs, so that bad input is an ``InputError`` before any file is
+    written; the stages made here are the ones a point run in this process reuses."""
+    case = load_case(case_path)
+    points = grid(case, axes)
+    vary = tuple(sorted(a.name for a in axes))
+    prepared = _prepared(case_path, vary)
+    first = points[0]
+    if first.feed is not None:
+        from .phase_rule import count_phase_rule
+        from .structure import audit_specification
+        here = replace(prepared.case, feed=first.feed)
+        stages = prepared.stages
+        audit_specification(here, stages.system, count_phase_rule(here, stages.system, stages.reactions,
+                                                                  stages.analysis))
+    return points
 
 
 def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> PointResult:

@@ -107,7 +107,7 @@ def example(kind: str | tuple[str, ...]) -> str:
 
 def _what(value) -> str:
     text = repr(value)
-    return text if len(text) <= 80 else text[:77] + "..."
+    return text if len(text) <= 80 else f"{text[:60]}... ({len(str(value))} characters)"
 
 
 def split(value: Any, kind: str) -> tuple[str, str, str]:

@@ -252,4 +252,4 @@ def kind_of(v) -> str:
     if isinstance(v, list):
         return "a list" if v else "an empty list"
     text = repr(v)
-    return text if len(text) <= 80 else text[:77] + "..."
+    return text if len(text) <= 80 else f"{text[:60]}... ({len(str(v))} characters)"

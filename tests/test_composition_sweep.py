@@ -278,15 +278,13 @@ def test_bad_sweep_input_is_one_message_and_exit_2(tmp_path, extra, message):
 
 def test_ternary_journal_of_another_element_order_is_refused(tmp_path):
     """A journal names its map's elements: C,H,O points must not resume an H,C,O map."""
-    import hashlib
-    import json
-    header = json.dumps({"journal": 1, "case_sha256": hashlib.sha256(MAP_CASE.read_bytes()).hexdigest(),
-                         "grid": [["ternary:C,H,O", [list(v) for v in parse_ternary("C,H,O", 6).values]]]},
-                        sort_keys=True)
+    from auditor.case import load_case
+    from auditor.sweep_files import journal_header
+    header = journal_header(load_case(MAP_CASE), [parse_ternary("C,H,O", 6)])   # the journal a C,H,O map writes
     (tmp_path / "m.partial.jsonl").write_text(header + "\n")
     rc, out, err = run(["sweep", MAP_CASE, "--ternary", "H,C,O", "--divisions", "6", "--out", "m", "--resume"],
                        tmp_path)
-    assert rc == 2 and "belongs to another case file or grid" in err
+    assert rc == 2 and "cannot be resumed: it belongs to another grid" in err
     rc, out, err = run(["sweep", MAP_CASE, "--ternary", "C,H,O", "--divisions", "6", "--out", "m", "--resume",
                         "--jobs", "1"], tmp_path)
     assert rc == 0, err

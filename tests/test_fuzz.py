@@ -469,3 +469,70 @@ def test_found_messages_show_internal_nodes(old, new, tmp_path):
         load_case(path)
     msg = str(info.value)
     assert "Node(" not in msg and "_Mapping" not in msg, msg
+
+
+# ------------------------------------------------------------------ mechanism files (issue 20)
+
+MECHANISMS = {p.name: p.read_bytes() for p in sorted((REPO / "tests" / "data").glob("*mech*.yaml"))}
+MECHANISM_CASE = (REPO / "tests" / "data" / "invented_ammonia_case.yaml").read_text(encoding="utf-8")
+
+
+def check_mechanism(path: Path, tally: Counter) -> None:
+    """What ``auditor reactions`` does with a mechanism file: its system and exact analysis, or
+    an InputError naming the file; never another exception."""
+    from auditor.stoichiometry import analyse, mechanism_reactions
+    from auditor.system import from_mechanism
+    tally["examples"] += 1
+    try:
+        system = from_mechanism(path)
+        analyse(system, mechanism_reactions(system))
+    except InputError as exc:
+        assert str(path) in str(exc) or path.name in str(exc), str(exc)
+        tally["InputError"] += 1
+        return
+    tally["analysed"] += 1
+
+
+def test_mechanism_mutated_files(tmp_path):
+    """Mutated hand-written mechanisms (lines deleted, duplicated, swapped; values replaced by
+    hostile scalars: aliases, anchors, tags, NaN, huge numbers; random bytes) read as the
+    'reactions' command reads them, and as a case's mechanism (load, count, no minimisation)."""
+    tally, case_tally = Counter(), Counter()
+    path = tmp_path / "mech.yaml"
+    case = tmp_path / "case.yaml"
+    case.write_text(MECHANISM_CASE.replace("invented_ammonia_mech.yaml", "mech.yaml"), encoding="utf-8")
+
+    @fuzz(150)
+    @given(name=st.sampled_from(sorted(MECHANISMS)), ops=st.lists(mutations, min_size=1, max_size=3))
+    def prop(name, ops):
+        path.write_bytes(mutate(MECHANISMS[name], ops))
+        check_mechanism(path, tally)
+        if name == "invented_ammonia_mech.yaml":
+            check_loader(case, case_tally)
+
+    prop()
+    report("mechanism: mutated files", tally)
+    if case_tally["examples"]:
+        report("mechanism: mutated files under a case", case_tally)
+
+
+def test_mechanism_random_structures(tmp_path):
+    """Random YAML structures biased to a mechanism's keys, as a mechanism file."""
+    tally = Counter()
+    path = tmp_path / "mech.yaml"
+    words = st.sampled_from(["phases", "species", "reactions", "name", "thermo", "elements", "composition", "model",
+                             "ideal-gas", "NASA7", "constant-cp", "equation", "rate-constant", "data",
+                             "temperature-ranges", "state", "H2", "O2", "H2O", "H", "O", "units", "T0", "h0", "s0",
+                             "cp0", "kinetics", "gas", "A", "b", "Ea"])
+    leaves = st.one_of(scalars, words)
+    mech_trees = st.recursive(leaves, lambda kids: st.one_of(st.lists(kids, max_size=4),
+                                                             st.dictionaries(words, kids, max_size=4)), max_leaves=12)
+
+    @fuzz(150)
+    @given(doc=st.dictionaries(words, mech_trees, max_size=4), flow=st.booleans())
+    def prop(doc, flow):
+        path.write_bytes(dump(doc, flow, True))
+        check_mechanism(path, tally)
+
+    prop()
+    report("mechanism: random structures", tally)

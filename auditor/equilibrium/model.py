@@ -134,6 +134,10 @@ class PhaseModel:
 
     # ---- thermodynamics at a state
     def set_state(self, T: float, P: float, n: np.ndarray):
+        if not (np.isfinite(n).all() and np.isfinite(T) and np.isfinite(P)):
+            # an iterate beyond what floating point carries (exp overflow): refused before cantera
+            # takes it, which would leave the phase in a state it cannot leave (NaN density)
+            raise FloatingPointError("amounts, temperature or pressure beyond the floating-point range")
         off = 0
         for ph in self.phases:
             k = ph.n_species

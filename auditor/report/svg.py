@@ -20,7 +20,9 @@ def nice_ticks(lo: float, hi: float, target: int = 5) -> list[float]:
     mag = 10 ** math.floor(math.log10(raw))
     step = next(m * mag for m in (1, 2, 2.5, 5, 10) if m * mag >= raw * 0.999)
     first, last = math.floor(lo / step + 1e-9), math.ceil(hi / step - 1e-9)
-    return [round(i * step, 12) for i in range(first, last + 1)]
+    # twelve significant digits (a fixed number of decimals would round tiny steps to zero)
+    ticks = [float(f"{i * step:.12g}") for i in range(first, last + 1)]
+    return ticks if len(ticks) > 1 and ticks[-1] > ticks[0] else [lo, hi]
 
 
 def tick_text(v: float) -> str:
@@ -96,6 +98,8 @@ def line_chart(title: str, x_label: str, xs: list[float], series: dict[str, list
     x0, x1 = min(finite_x), max(finite_x)
     if x1 <= x0:
         x0, x1 = xt[0], xt[-1]
+    if not x1 > x0:                      # a span the arithmetic cannot divide: one unit around the value
+        x0, x1 = x0 - 0.5, x0 + 0.5
     xt = [t for t in xt if x0 - 1e-9 * abs(x1 - x0) <= t <= x1 + 1e-9 * abs(x1 - x0)]
     vals = [v for vs in series.values() for v in vs if v == v]
     lo = min(vals) if vals else 0.0
@@ -104,6 +108,8 @@ def line_chart(title: str, x_label: str, xs: list[float], series: dict[str, list
         lo = min(0.0, lo)
     yt = nice_ticks(lo, hi, 6)
     y0, y1 = yt[0], yt[-1]
+    if not y1 > y0:
+        y0, y1 = y0 - 0.5, y0 + 0.5
 
     def X(x):
         return left + (x - x0) / (x1 - x0) * pw

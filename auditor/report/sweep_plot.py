@@ -147,3 +147,16 @@ def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units:
         parts.append(svg.line_chart(title, label, xs, moles, shade=shade, y_label="phase amount, mol",
                                     subtitle=[f"phase amounts{absent}; {note}"] + fixed, y_from_zero=False))
     return _stack(parts or [svg.line_chart(title, label, xs, {}, subtitle=["no solved points"] + fixed)])
+
+
+def sweep_picture(case, axes, results, ternary_divisions: int | None, vary) -> str:
+    """The ternary map (``ternary_divisions`` given), or the plot of the swept axes."""
+    if ternary_divisions:
+        from .ternary import ternary_svg
+        s, written = case.specified, case.as_written       # T and P as the case file writes them
+        return ternary_svg(results, axes[0].elements, ternary_divisions,
+                           f"T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
+                           f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title,
+                           picture_stamp(case))
+    assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
+    return sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in vary])

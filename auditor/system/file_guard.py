@@ -25,6 +25,8 @@ _DEEP_INDENT = re.compile(r"^ {%d,}(?:- |[A-Za-z_\"'][^:\n]*:)" % settings.MAX_M
 _ANCHOR = re.compile(r"(?:^|[\s\[\{,:-])&([A-Za-z0-9_][\w.-]*)", re.M)
 _SPECIES_OR_PHASE = re.compile(r"^[ \t]*-[ \t]+name[ \t]*:", re.M)
 _REACTION = re.compile(r"^[ \t]*-[ \t]+equation[ \t]*:", re.M)
+# YAML 1.1's not-a-number and infinity (.nan, -.inf, ...) as a plain value
+_NOT_FINITE = re.compile(r"(?<![\w.'\"])([-+]?\.(?:nan|NaN|NAN|inf|Inf|INF))(?![\w.'\"])")
 
 
 def _raise_it(setting: str) -> str:
@@ -74,9 +76,23 @@ def check_text(path: Path, text: str, what: str = "mechanism file") -> None:
     if n_reactions > settings.MAX_MECHANISM_REACTIONS:
         refuse(f"declares {n_reactions:,} reactions, above the limit of {settings.MAX_MECHANISM_REACTIONS:,} "
                f"{_raise_it('MAX_MECHANISM_REACTIONS')}")
+    _check_finite(path, text, what)
     anchors = set(_ANCHOR.findall(text)) if "&" in text and "*" in text else ()
     if anchors and any(re.search(r"\*" + re.escape(a) + r"(?![\w.-])", text) for a in anchors):
         _check_aliases(text, refuse)
+
+
+def _check_finite(path: Path, text: str, what: str) -> None:
+    """A NaN or an infinity written among the file's numbers (thermo data, rate parameters) is
+    named as such, with its line (cantera would report a type mismatch)."""
+    if ".nan" not in text.lower() and ".inf" not in text.lower():
+        return
+    for number, line in enumerate(text.splitlines(), start=1):
+        m = _NOT_FINITE.search(line.split("#", 1)[0])
+        if m:
+            kind = "not a number (NaN)" if "nan" in m.group(1).lower() else "an infinity"
+            raise MechanismError.single(path, f"{what} holds {kind}, written {m.group(1)}, where a number belongs "
+                                              "(thermo data and parameters must be finite numbers)", line=number)
 
 
 def _flow_depth(text: str) -> int:
