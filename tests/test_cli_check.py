@@ -19,7 +19,8 @@ from pathlib import Path
 
 import pytest
 
-from auditor.cli import _parser, main
+from auditor.cli import main
+from auditor.cli_parser import build_parser
 
 REPO = Path(__file__).resolve().parents[1]
 CASES_DIR = REPO / "cases"
@@ -324,7 +325,7 @@ def test_unknown_mechanism_phase_names_the_case_file(capsys, tmp_path):
 # ------------------------------------------------------------------ help
 
 def subcommands() -> list[str]:
-    parser = _parser()
+    parser = build_parser()
     actions = [a for a in parser._actions if isinstance(a, argparse._SubParsersAction)]
     return sorted(actions[0].choices)
 

@@ -386,8 +386,8 @@ def test_species_finds_common_names_and_formulae(query, expected):
 
 
 def test_species_help_examples_all_work():
-    from auditor.cli import _parser
-    parser = _parser()
+    from auditor.cli_parser import build_parser
+    parser = build_parser()
     sub = next(a for a in parser._actions if a.dest == "command").choices["species"]
     examples = [ln.strip() for ln in sub.epilog.splitlines() if ln.strip().startswith("auditor species")]
     assert len(examples) >= 5
