@@ -102,6 +102,10 @@ def feed_ratios(W, names, b, idx, outside, relations, readable=None) -> str:
     readable = readable or [True] * len(W)   # quantities with a short name (the elements)
     order = sorted((i for i in range(len(W)) if b[i] != 0 and readable[i]), key=lambda i: (names[i] != "C", i))
     inside, outside, kept = set(idx), set(outside), []
+    # every vector compared here lies in the row space of W over the phase's species; on columns
+    # where W has full row rank the restriction to them is one-to-one on that space, so the
+    # exact elimination below runs on those few columns instead of every species
+    inside = _spanning_columns(W, idx) or inside
     ech = exact.RowEchelon(track=False)
     for pos, j in enumerate(order):            # j the reference (carbon first when fed)
         for i in order[pos + 1:]:
@@ -115,10 +119,27 @@ def feed_ratios(W, names, b, idx, outside, relations, readable=None) -> str:
             v = {k: c for k, c in v.items() if c != 0 and k in inside}
             if v and ech.add(v) is None:
                 kept.append((i, j))
-    if len(kept) != len(relations) or any(ech.reduce(dict(u))[0] for u in relations):
+    if len(kept) != len(relations) or any(ech.reduce({k: c for k, c in u.items() if k in inside})[0]
+                                          for u in relations):
         return ""
     parts = [f"{names[i]}:{names[j]} = {_ratio_text(Fraction(b[i]) / b[j])}" for i, j in kept]
     return parts[0] if len(parts) == 1 else ", ".join(parts[:-1]) + " and " + parts[-1]
+
+
+def _spanning_columns(W, idx) -> set[int] | None:
+    """Columns (species of ``idx``) on which the rows of ``W`` have the same rank as over all of
+    ``idx`` (chosen greedily, each column a short vector over the rows): restricting the row
+    space to them is one-to-one (equal dimensions of the space and its image).  None when
+    ``idx`` is empty."""
+    ech = exact.RowEchelon(track=False)
+    chosen: set[int] = set()
+    for k in idx:
+        column = {i: w[k] for i, w in enumerate(W) if w.get(k, 0) != 0}
+        if column and ech.add(column) is None:
+            chosen.add(k)
+            if ech.rank == len(W):
+                break
+    return chosen or None
 
 
 def _exact_amount(x) -> Fraction:

@@ -12,14 +12,33 @@ from ..verdicts import Verdict
 
 def progress_bar(total: int, unit: str, quiet: bool, initial: int = 0, every_update: bool = False):
     """A progress bar (points done, rate, time left) on stderr, drawn only when stdout and stderr are
-    both terminals and --quiet is off; otherwise a bar that draws nothing."""
-    from tqdm import tqdm
+    both terminals and --quiet is off; otherwise a bar that draws nothing (tqdm, whose import
+    costs a few tens of milliseconds, is then not imported)."""
     show = not quiet and sys.stdout.isatty() and sys.stderr.isatty()
+    if not show:
+        return _NoBar()
+    from tqdm import tqdm
     # a few slow cases: draw each one; many fast sweep points: at most ten redraws a second
     return tqdm(total=total, initial=initial, unit=unit, file=sys.stderr, disable=not show, leave=False,
                 mininterval=0 if every_update else 0.1,
                 dynamic_ncols=True, bar_format="{desc}{percentage:3.0f}% |{bar}| {n_fmt}/{total_fmt} {unit}s "
                                               "[{elapsed} elapsed, {remaining} left, {rate_fmt}]")
+
+
+class _NoBar:
+    """The progress bar that draws nothing: the calls a caller makes, doing nothing."""
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        return False
+
+    def update(self, n: int = 1) -> None:
+        pass
+
+    def clear(self) -> None:
+        pass
 
 
 _CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f\ud800-\udfff]")
