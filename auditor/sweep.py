@@ -337,7 +337,7 @@ def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> Point
             here = replace(here, feed=point.feed)
             count = count_phase_rule(here, system, reactions, analysis)
             structure = audit_specification(here, system, count)
-        eq = confirm(here, system, analysis, count, structure, workspace)
+        eq = confirm(here, system, analysis, count, structure, workspace, heat=False)
     except Exception as exc:  # a point that fails is recorded, never fatal
         return PointResult(*where, Verdict.FAILED, (), (), (), f"{type(exc).__name__}: {exc}", point.coordinates)
     if not eq.solved:

@@ -39,11 +39,13 @@ __all__ = ["confirm", "confirm_equilibrium", "EquilibriumCheck", "PhaseState", "
 
 
 def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, count: PhaseRuleCount,
-            spec: SpecificationAudit, workspace: Workspace | None = None) -> EquilibriumCheck:
+            spec: SpecificationAudit, workspace: Workspace | None = None, heat: bool = True) -> EquilibriumCheck:
     """Solve the case's equilibrium and check the certificate; failures become findings.
 
     ``workspace`` holds what the solves of this system and reaction analysis share; a
     caller evaluating many states of one case (a sweep) passes the same one each time.
+    ``heat``: compute the heat from the feed to the state (a sweep, which records no heat,
+    leaves it out).
     """
     t0 = time.perf_counter()
     findings: list[Finding] = []
@@ -76,6 +78,7 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
     rows = workspace.arrays.element_rows
     candidate = ~(rows[rows @ n0 == 0] != 0).any(axis=0)
     solver = RouteSolver(workspace, n0, candidate)
+    solver.report_heat = heat
     if case.approach:
         from .approach import approach_plan
         solver.approach = approach_plan(case, system, analysis)

@@ -311,7 +311,8 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     findings += more + incipient_notes + phase_notes
     a = solver.arrays
     from .energy import heat_of
-    heat = heat_of(case.specified, solver.model, solver.n0, float(sol.T), float(sol.P), sol.n)
+    heat = heat_of(case.specified, solver.model, solver.n0, float(sol.T), float(sol.P), sol.n) \
+        if solver.report_heat else None
     x_list = m.mole_fractions.tolist()                 # zero in an empty phase (mole_fractions)
     phases = tuple(PhaseState(p.name, tot, tuple(zip(labels, (x_list[k] for k in idx.tolist()))))
                    for p, idx, labels, tot in zip(solver.system.phases, a.phase_species, a.phase_labels, m.totals.tolist()))

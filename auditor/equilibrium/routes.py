@@ -137,6 +137,7 @@ class RouteSolver:
         self.details: list[str] = []  # cantera's exception texts, for the failure classifier only
         self.lower: SolvedState | None = None   # a uniqueness restart's state of lower G than the one certified
         self.deadline = time.perf_counter() + settings.MINIMISATION_WALL_SECONDS
+        self.report_heat = True       # the certificate also gives the heat from the feed (not in sweeps)
         self.approach = None          # an ApproachPlan (approach.py): standard potentials shifted per T
         self._shift: tuple = (None, 0.0)
 
@@ -154,6 +155,8 @@ class RouteSolver:
         """``model.at_state`` with the approach's shift: the potentials whose zero affinities are
         the conditions this case's state meets."""
         mu, g = self.model.at_state(T, P, n)
+        if self.approach is None:
+            return mu, g
         d = self.shift_at(T)
         return mu + d, g + d
 

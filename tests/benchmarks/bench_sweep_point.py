@@ -8,8 +8,10 @@ graphite), swept over an 847-point grid, 77 temperatures from 450 to 1000 degC b
 pressures from 1 to 41 bar.
 
 * bare  -- ``cantera.Mixture.equilibrate('TP', solver='vcs')`` at every point, on the same
-           cantera phases the tool builds (same species, densities, feed as the start,
-           same solver options), nothing else;
+           cantera phases the tool builds (same species, densities, same solver options),
+           nothing else; two starts: every species absent from the feed seeded at 1e-12 of the
+           feed (the fastest start found, the reference of the target), and the feed as a user
+           writes it with only the empty graphite phase seeded (cantera needs that much);
 * sweep -- ``auditor.sweep.evaluate_block`` over the same points: the minimisation, its
            certificate (balances, element potentials, affinities, absent-phase driving
            forces, uniqueness, ln K additivity) and the point's record.
@@ -40,8 +42,9 @@ def grid_axes():
     return [t, p]
 
 
-def bare_round(points, vary) -> float:
-    """Every point solved by cantera's vcs on the tool's own phases, from the feed."""
+def bare_round(points, vary, seed_all: bool = True) -> float:
+    """Every point solved by cantera's vcs on the tool's own phases, from the feed (every absent
+    species seeded, or only the graphite phase)."""
     prepared = sweep._prepared(CASE, vary)
     case, system, ws = prepared.case, prepared.stages.system, prepared.workspace
     from auditor.equilibrium.workspace import feed_vector
@@ -49,7 +52,10 @@ def bare_round(points, vary) -> float:
     n0 = feed_vector(case, system)
     mix = ct.Mixture([(ph, 0.0) for ph in ws.model.phases])
     start = n0.copy()
-    start[start == 0] = 1e-12 * n0.sum()
+    if seed_all:
+        start[start == 0] = 1e-12 * n0.sum()
+    else:
+        start[-1] = 1e-12 * n0.sum()        # C(gr), the last species: an empty phase stops vcs
     t0 = time.perf_counter()
     for p in points:
         mix.T, mix.P = p.temperature_K, p.pressure_Pa
@@ -78,12 +84,15 @@ def main() -> None:
     sweep.evaluate_block(CASE, vary, points[:20])        # build the workspace and warm the tables
     bare_round(points[:20], vary)
     b = min(bare_round(points, vary) for _ in range(args.repeats))
+    b_feed = min(bare_round(points, vary, seed_all=False) for _ in range(args.repeats))
     s = min(sweep_round(points, vary) for _ in range(args.repeats))
     n = len(points)
     print(f"reformer gas + graphite, {n}-point T x P grid, in process, best of {args.repeats}")
-    print(f"  bare cantera vcs:        {1e3 * b / n:.3f} ms a point")
+    print(f"  bare cantera vcs:        {1e3 * b / n:.3f} ms a point (absent species seeded)")
+    print(f"  bare cantera vcs:        {1e3 * b_feed / n:.3f} ms a point (the feed as written, graphite seeded)")
     print(f"  certified sweep point:   {1e3 * s / n:.3f} ms a point")
-    print(f"  ratio sweep/bare: {s / b:.2f} (target <= {TARGET})")
+    print(f"  ratio sweep/bare: {s / b:.2f} against the seeded start (target <= {TARGET}); "
+          f"{s / b_feed:.2f} against the feed as written")
     print(f"  graphite present at {sum('graphite' in r.phases_present for r in sweep.evaluate_block(CASE, vary, points))}"
           f" of {n} points")
 
