@@ -50,11 +50,12 @@ def test_every_key_of_the_golden_documents_is_documented(golden):
     assert undocumented(json.loads(golden.read_text(encoding="utf-8")), schema()) == []
 
 
-def test_every_key_of_a_fresh_document_is_documented():
+@pytest.mark.parametrize("with_context", [False, True], ids=["check --json", "filed report"])
+def test_every_key_of_a_fresh_document_is_documented(with_context):
     pytest.importorskip("cantera")
     from auditor.audit import audit_file
     from auditor.report.document import check_document
-    doc = check_document(audit_file(resources.files("auditor") / "data" / "default_case.yaml"))
+    doc = check_document(audit_file(resources.files("auditor") / "data" / "default_case.yaml"), with_context)
     assert undocumented(doc, schema()) == []
 
 

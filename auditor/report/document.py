@@ -162,12 +162,19 @@ def check_document(r: AuditResult, with_context: bool = False) -> dict:
         "tool": {"name": "auditor", "version": __version__},
         "cautions": case_cautions(r),
     }
+    return _additive_blocks(doc, r, eqs, with_context)
+
+
+def _additive_blocks(doc: dict, r: AuditResult, eqs: list[str], with_context: bool) -> dict:
+    """The blocks added to the first contract, one per stage or option (each described in
+    auditor/data/check.schema.json)."""
+    a = r.reactions
     doc["reactions"]["duplicates"] = [{"equation": eqs[g.representative],
                                        "members": [{"equation": eqs[i], "factor": format_fraction(f)} for i, f in g.members]}
                                       for g in a.duplicates]
     doc["reactions"]["derived_complete_set"] = [x.equation for x in a.derived_basis]
     doc["system"] = system_block(r)
-    from .bases import bases_document, flow_document    # additive: reporting bases and the flow basis (issue 24)
+    from .bases import bases_document, flow_document    # reporting bases and the flow basis
     doc["flow_basis"] = flow_document(r.case)
     if doc["equilibrium"] is not None:
         doc["equilibrium"]["bases"] = bases_document(r)
