@@ -57,6 +57,14 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--version", action="version", version=f"auditor {__version__}")
     p.add_argument("--debug", action="store_true", help="show a traceback on errors")
     sub = p.add_subparsers(dest="command", metavar="COMMAND")
+    _check_command(sub)
+    _sweep_command(sub)
+    _other_commands(sub)
+    return p
+
+
+def _check_command(sub) -> None:
+    """`auditor check`: its arguments and help."""
     c = sub.add_parser("check", help="audit case files (default: the packaged demo case)",
                        epilog=EPILOG_CHECK, formatter_class=argparse.RawDescriptionHelpFormatter)
     c.add_argument("cases", nargs="*", metavar="CASE", help="case file(s) in YAML")
@@ -78,6 +86,10 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--scheduler", metavar="ADDRESS", help="audit several cases on a Dask cluster: tcp://HOST:PORT "
                    "or local:N (needs the cluster extra)")
     c.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
+
+
+def _sweep_command(sub) -> None:
+    """`auditor sweep`: its arguments and help."""
     w = sub.add_parser("sweep", help="run the confirmation over a grid of temperature, pressure or feed composition",
                        epilog=EPILOG_SWEEP, formatter_class=argparse.RawDescriptionHelpFormatter)
     w.add_argument("case", metavar="CASE", help="the case file to sweep (YAML, with a feed)")
@@ -99,6 +111,10 @@ def build_parser() -> argparse.ArgumentParser:
     w.add_argument("--force", action="store_true", help="overwrite existing outputs")
     w.add_argument("--quiet", action="store_true", help="no summary line")
     w.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
+
+
+def _other_commands(sub) -> None:
+    """`auditor new`, `species` and `reactions`: their arguments and help."""
     n = sub.add_parser("new", help="write a commented starter case file",
                        epilog="example:\n  auditor new my_case.yaml && auditor check my_case.yaml",
                        formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -125,4 +141,3 @@ def build_parser() -> argparse.ArgumentParser:
     r.add_argument("--limit", type=int, default=50, metavar="N",
                    help="list at most N items per section in the text output (default 50; 0 = all)")
     r.add_argument("--debug", action="store_true", default=argparse.SUPPRESS, help=argparse.SUPPRESS)
-    return p
