@@ -219,6 +219,62 @@ def _describe_quantity(vec: Mapping[int, Fraction | int], labels: Sequence[str])
     return signed_terms((c, f"n({labels[k]})") for k, c in sorted(vec.items()))
 
 
+# Above this many vectors the complements below are chosen by coordinates (linear in the species
+# count) instead of by growing one elimination over them (quadratic); below it the incremental
+# choice, whose picks a reader of a small case's report has seen, is kept.
+COORDINATE_COMPLEMENT_MIN = 200
+
+
+def _free_columns(ech: exact.RowEchelon, n: int) -> list[int]:
+    pivots = set(ech.pivots)
+    return [c for c in range(n) if c not in pivots]
+
+
+def _beyond_elements(rows, element_pivots, ech: exact.RowEchelon, null_w, n: int, base: exact.RowEchelon):
+    """The conserved quantities of the listed reactions (``null_w``, one per free column of
+    their elimination ``ech``) that complete the element rows to a basis.  Each null vector
+    has one nonzero among the free columns, so a vector of the null space is fixed by its free
+    coordinates: the element rows' free parts, in echelon form with pivots P, and the null
+    vectors of the free columns outside P form a basis.  ``base`` (the element rows' own
+    elimination) serves the small case, where null vectors are taken in order."""
+    if len(null_w) < COORDINATE_COMPLEMENT_MIN:
+        return [w for w in null_w if base.add(w) is None]
+    free = _free_columns(ech, n)
+    free_set = set(free)
+    parts = exact.RowEchelon(track=False)
+    for e in element_pivots:
+        parts.add({k: x for k, x in enumerate(rows[e]) if x != 0 and k in free_set})
+    taken = set(parts.pivots)
+    return [w for w, c in zip(null_w, free) if c not in taken]
+
+
+def _frozen_directions(system: ChemicalSystem, reactions, basis_reaction, basis, ech: exact.RowEchelon):
+    """Reactions of the derived complete set that the listed ones cannot produce: a complement
+    of their span within the element-balanced directions.  For a large set the derived
+    reactions are in canonical form (one species each outside the pivots of the formula
+    matrix's elimination, as ``derived_basis`` builds them), and the complement is read off
+    the listed reactions' free coordinates; otherwise the listed reactions' elimination is
+    continued with the derived ones in order."""
+    n = system.n_species
+    if len(basis) >= COORDINATE_COMPLEMENT_MIN:
+        simplicity = [_simplicity(system, k) for k in range(n)]
+        order = sorted(range(n), key=simplicity.__getitem__)
+        position = {k: j for j, k in enumerate(order)}
+        elim = exact.RowEchelon(track=False, leftmost=True)
+        for row in system.formula_matrix:
+            elim.add({position[k]: x for k, x in enumerate(row) if x != 0})
+        pivots = {order[j] for j in elim.pivots}
+        own = [[k for k, _ in r.stoich if k not in pivots] for r in basis]
+        if all(len(c) == 1 for c in own):
+            listed = exact.RowEchelon(track=False)
+            for i in basis_reaction:
+                listed.add({k: c for k, c in reactions[i].stoich if k not in pivots})
+            reached = set(listed.pivots)
+            return [r for r, c in zip(basis, own) if c[0] not in reached]
+    ech.track = False           # continue the same elimination: what the list cannot reach is frozen
+    return [r for r in basis if ech.add({k: c for k, c in r.stoich}) is None]
+
+
 def analyse(system: ChemicalSystem, reactions: Sequence[Reaction],
             basis: tuple[Reaction, ...] | None = None) -> ReactionAnalysis:
     """Complete exact account of a list of reactions over the system's phase-species.
@@ -294,11 +350,10 @@ def analyse(system: ChemicalSystem, reactions: Sequence[Reaction],
             base.add(vec)
             conserved.append(ConservedQuantity(system.elements[e], tuple(sorted(vec.items())), True))
         extra = 0
-        for w in null_w:
-            if base.add(w) is None:
-                extra += 1
-                conserved.append(ConservedQuantity(f"extra {extra}: {_describe_quantity(w, system.labels)}",
-                                                   tuple(sorted(w.items())), False))
+        for w in _beyond_elements(rows, element_pivots, ech, null_w, n, base):
+            extra += 1
+            conserved.append(ConservedQuantity(f"extra {extra}: {_describe_quantity(w, system.labels)}",
+                                               tuple(sorted(w.items())), False))
     else:
         for j, w in enumerate(null_w, 1):
             conserved.append(ConservedQuantity(f"quantity {j}: {_describe_quantity(w, system.labels)}",
@@ -308,11 +363,7 @@ def analyse(system: ChemicalSystem, reactions: Sequence[Reaction],
         basis = derived_basis(system)
     frozen = []
     if all_balanced and m < n - formula_rank:
-        ech_frozen = ech  # continue the same elimination: what the list cannot reach is frozen
-        ech_frozen.track = False
-        for r in basis:
-            if ech_frozen.add({k: c for k, c in r.stoich}) is None:
-                frozen.append(r)
+        frozen = _frozen_directions(system, reactions, basis_reaction, basis, ech)
     complete = all_balanced and m == n - formula_rank
 
     return ReactionAnalysis(
