@@ -46,6 +46,7 @@ class Crossing:
     t: float                                      # fraction of the edge from first (0) to second (1)
     coordinates: tuple[tuple[str, float], ...]    # map coordinates there (SI, a plain ratio, atom fractions)
     traced: bool                                  # located by the bracketed solve; else the edge's midpoint
+    direction: tuple[int, ...] = ()               # sign of each coordinate's change from first to second
 
 
 @dataclass(frozen=True)
@@ -149,6 +150,11 @@ class _Context:
         return tuple((name, (1 - t) * va + t * vb) for (name, va), (_, vb) in zip(ca, cb))
 
 
+    def direction(self, a: int, b: int) -> tuple[int, ...]:
+        ca, cb = _coords_of(self.points[a], self.axes), _coords_of(self.points[b], self.axes)
+        return tuple((vb > va) - (vb < va) for (_, va), (_, vb) in zip(ca, cb))
+
+
 def _coords_of(p: sweep.Point, axes: Sequence[Axis]) -> tuple[tuple[str, float], ...]:
     if axes[0].name == TERNARY:
         return tuple(p.coordinates)
@@ -245,7 +251,7 @@ def _trace_edge(ctx: _Context, results: Sequence[PointResult], a: int, b: int, s
     for phase in differ:
         t = located.get(phase, 0.5)
         out.append(Crossing(phase, APPEARS if phase in sb else VANISHES, a, b, t, ctx.coordinates(a, b, t),
-                            phase in located))
+                            phase in located, ctx.direction(a, b)))
     return out
 
 

@@ -213,7 +213,9 @@ A ternary point feeds each element as the case's single-element feed species (e.
 C(gr), H2, O2) with the case's total atoms; without --edges every element is present:
 (N-1)(N-2)/2 points, else (N+1)(N+2)/2.
 Writes PREFIX.csv and PREFIX.svg (for --ternary: a labelled triangle marking the phases
-present and their boundaries); finished points are journalled in PREFIX.partial.jsonl so
+present and their boundaries); a map (two axes, or --ternary) also gets its phase boundaries
+traced between grid points, drawn on the picture with the case's design point, and listed in
+PREFIX_boundaries.csv; finished points are journalled in PREFIX.partial.jsonl so
 that --resume can continue a run that was stopped."""
 
 
@@ -257,8 +259,8 @@ def _run_points(args, case, axes, journal: Path, header: str, done: list) -> lis
         executor.close()
 
 
-def _sweep_picture(args, case, axes, results) -> str:
-    """The ternary map, or the plot of the swept axes."""
+def _sweep_picture(args, case, axes, results, boundaries=None) -> str:
+    """The ternary map, or the plot of the swept axes (a map with its traced ``boundaries``)."""
     if args.ternary:
         from .report.sweep_plot import picture_stamp
         from .report.ternary import ternary_svg
@@ -266,10 +268,10 @@ def _sweep_picture(args, case, axes, results) -> str:
         return ternary_svg(results, axes[0].elements, args.divisions,
                            f"T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
                            f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title,
-                           picture_stamp(case))
+                           picture_stamp(case), boundaries=boundaries)
     from .report.sweep_plot import sweep_svg, unit_of
     assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
-    return sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary])
+    return sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in args.vary], boundaries=boundaries)
 
 
 def _cmd_sweep(args) -> int:
@@ -284,17 +286,28 @@ def _cmd_sweep(args) -> int:
                                 "has none (it is an intensive problem: use 'auditor check')", "feed")
     prefix = args.out or Path(args.case).stem + "_sweep"
     csv_path, svg_path, journal = Path(f"{prefix}.csv"), Path(f"{prefix}.svg"), Path(f"{prefix}.partial.jsonl")
+    lines_path = Path(f"{prefix}_boundaries.csv") if len(axes) == 2 or args.ternary else None
     if not csv_path.parent.resolve().is_dir():
         raise InputError.single(csv_path.parent, "output directory does not exist")
-    for target in (csv_path, svg_path):
-        check_target(target, [args.case], args.force or args.resume)
+    for target in (csv_path, svg_path, lines_path):
+        if target is not None:
+            check_target(target, [args.case], args.force or args.resume)
     header = journal_header(args.case, axes)
     results = _run_points(args, case, axes, journal, header, points_done(journal, header, args.resume, args.force))
     write_atomic(csv_path, csv_text(results))
-    write_atomic(svg_path, _sweep_picture(args, case, axes, results))
+    boundaries = None
+    if lines_path is not None:     # a map: its phase boundaries traced between grid points
+        from .boundaries import trace
+        from .report.boundary_lines import boundaries_csv
+        boundaries = trace(str(Path(args.case)), axes, results)
+        write_atomic(lines_path, boundaries_csv(boundaries))
+    write_atomic(svg_path, _sweep_picture(args, case, axes, results, boundaries))
     journal.unlink(missing_ok=True)
     if not args.quiet:
         print("\n".join(sweep_summary(results, bool(args.ternary), csv_path, svg_path)))
+        if boundaries is not None:
+            print(f"traced {len(boundaries.lines)} phase boundary line(s) through {len(boundaries.crossings)} "
+                  f"crossings; wrote {lines_path}" + "".join(f"\n  {p}" for p in boundaries.problems))
     if args.ternary:
         return EXIT_OK if all(r.certified for r in results) else EXIT_PROBLEM
     return EXIT_OK if all(r.verdict == Verdict.WELL_POSED for r in results) else EXIT_PROBLEM
