@@ -198,7 +198,6 @@ class _Start:
 def _follow_edge(ctx: _Context, start: _Start, a: int, b: int, side: int) -> list[tuple[str, float]]:
     """(phase, t) of the first crossing met going from the start (a at t = 0 when ``side`` is
     +1, b at t = 1 when it is -1) along the edge a-b."""
-    from .equilibrium.fixed_set import NotFollowed
     from .equilibrium.margins import _follow, _Probe
     fs = start.fs
     pa, pb = ctx.points[a], ctx.points[b]
@@ -220,7 +219,7 @@ def _follow_edge(ctx: _Context, start: _Start, a: int, b: int, side: int) -> lis
     pt0.value = t0
     try:
         found, _, why = _follow(fs, start.functions, probe, pt0, start.functions.values(pt0), side)
-    except (NotFollowed, np.linalg.LinAlgError):
+    except (RuntimeError, np.linalg.LinAlgError):      # NotFollowed, or cantera refusing a state
         return []
     return found if why == "boundary" else []
 
@@ -230,7 +229,6 @@ EDGE_DIFFERENCE = 1e-4      # a step in t for the feed's derivative along an edg
 
 def _trace_edge(ctx: _Context, results: Sequence[PointResult], a: int, b: int, starts: dict) -> list[Crossing]:
     """The crossings of every phase that differs between grid points a and b."""
-    from .equilibrium.fixed_set import NotFollowed
     sa, sb = _known(results[a]), _known(results[b])
     differ = sorted(sa ^ sb)
     located: dict[str, float] = {}
@@ -240,7 +238,7 @@ def _trace_edge(ctx: _Context, results: Sequence[PointResult], a: int, b: int, s
         if end not in starts:
             try:
                 starts[end] = _Start(ctx, results[end], end)
-            except (NotFollowed, np.linalg.LinAlgError, ValueError):
+            except (RuntimeError, np.linalg.LinAlgError, ValueError):   # NotFollowed, or cantera refusing a state
                 starts[end] = None
         if starts[end] is None:
             continue
