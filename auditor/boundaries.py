@@ -195,11 +195,13 @@ class _Start:
         self.functions = _Boundaries(fs, ws, names, groups)
 
 
-def _follow_edge(ctx: _Context, start: _Start, a: int, b: int, side: int) -> list[tuple[str, float]]:
-    """(phase, t) of the first crossing met going from the start (a at t = 0 when ``side`` is
-    +1, b at t = 1 when it is -1) along the edge a-b."""
+def _follow_edge(ctx: _Context, start: _Start, a: int, b: int, side: int, differ) -> list[tuple[str, float]]:
+    """(phase, t) of the first crossings met going from the start (a at t = 0 when ``side`` is
+    +1, b at t = 1 when it is -1) along the edge a-b: one Newton solve at the far end from the
+    tangent, then the crossing by regula falsi on the changing phase's boundary function; the
+    margins' stepping continuation where the far end cannot be reached in one step."""
     from .equilibrium.margins import _follow, _Probe
-    fs = start.fs
+    fs, bf = start.fs, start.functions
     pa, pb = ctx.points[a], ctx.points[b]
     dT, dP = pb.temperature_K - pa.temperature_K, pb.pressure_Pa - pa.pressure_Pa
 
@@ -208,22 +210,66 @@ def _follow_edge(ctx: _Context, start: _Start, a: int, b: int, side: int) -> lis
 
     def dF(pt):
         t = pt.value
-        h = EDGE_DIFFERENCE
-        dn = (ctx.feed_at(a, b, min(t + h, 1.0)) - ctx.feed_at(a, b, max(t - h, 0.0))) / (min(t + h, 1.0) - max(t - h, 0.0))
+        hi, lo = min(t + EDGE_DIFFERENCE, 1.0), max(t - EDGE_DIFFERENCE, 0.0)
         fT, fP = fs.partials(pt)
-        return dT * fT + dP * fP + fs.feed_partial(dn)
+        return dT * fT + dP * fP + fs.feed_partial((ctx.feed_at(a, b, hi) - ctx.feed_at(a, b, lo)) / (hi - lo))
 
-    t0 = 0.0 if side > 0 else 1.0
-    probe = _Probe("edge", t0, "", (0.0, 1.0), False, 1.0, state, dF)
+    t0, t1 = (0.0, 1.0) if side > 0 else (1.0, 0.0)
     pt0 = start.point
     pt0.value = t0
     try:
-        found, _, why = _follow(fs, start.functions, probe, pt0, start.functions.values(pt0), side)
+        f0 = bf.values(pt0)
+        far = fs.solve(pt0.y + fs.tangent(pt0, dF(pt0)) * (t1 - t0), *state(t1))
+        f1 = bf.values(far)
+        crossed = [p for p in differ if f1.get(p) is not None and f0.get(p) is not None and f1[p] <= 0 < f0[p]]
+        if crossed:
+            return [(p, _regula_falsi(fs, bf, state, p, (t0, pt0.y, f0[p]), (t1, far.y, f1[p]))) for p in crossed]
     except (RuntimeError, np.linalg.LinAlgError):      # NotFollowed, or cantera refusing a state
+        pass
+    probe = _Probe("edge", t0, "", (0.0, 1.0), False, 0.25, state, dF)
+    try:
+        found, _, why = _follow(fs, bf, probe, pt0, bf.values(pt0), side)
+    except (RuntimeError, np.linalg.LinAlgError):
         return []
     return found if why == "boundary" else []
 
 
+def _regula_falsi(fs, bf, state, phase: str, lo: tuple, hi: tuple) -> float:
+    """The zero of ``phase``'s boundary function between two solved states (t, y, f) of opposite
+    signs: Brent's bracketed method (scipy's ``brentq``), each state solved by Newton's method
+    from the straight line between the nearest solved states on either side."""
+    from scipy.optimize import brentq
+    known = [lo[:2], hi[:2]]          # (t, y) of the solved states
+
+    def f(t):
+        below = max((k for k in known if k[0] <= t), key=lambda k: k[0], default=None)
+        above = min((k for k in known if k[0] >= t), key=lambda k: k[0], default=None)
+        if below is None or above is None or above[0] == below[0]:
+            y0 = (below or above)[1]
+        else:
+            w = (t - below[0]) / (above[0] - below[0])
+            y0 = below[1] + w * (above[1] - below[1])
+        pt = fs.solve(y0, *state(t))
+        known.append((t, pt.y))
+        value = bf.values(pt)[phase]
+        if value is None:
+            raise RuntimeError("the boundary function is not defined here")
+        return value
+
+    a, b = sorted([lo, hi], key=lambda k: k[0])
+    if a[2] == 0:
+        return a[0]
+    if b[2] == 0:
+        return b[0]
+    fa, fb = a[2], b[2]
+    cache = {a[0]: fa, b[0]: fb}
+    return float(brentq(lambda t: cache[t] if t in cache else f(t), a[0], b[0], xtol=EDGE_XTOL,
+                        maxiter=EDGE_ITERATIONS))
+
+
+EDGE_XTOL = 1e-6            # a crossing is located to this fraction of its grid edge ...
+EDGE_FTOL = 1e-10           # ... or where its boundary function (RT, or mol) is this small
+EDGE_ITERATIONS = 60
 EDGE_DIFFERENCE = 1e-4      # a step in t for the feed's derivative along an edge (exact where the feed is linear)
 
 
@@ -242,7 +288,7 @@ def _trace_edge(ctx: _Context, results: Sequence[PointResult], a: int, b: int, s
                 starts[end] = None
         if starts[end] is None:
             continue
-        for phase, t in _follow_edge(ctx, starts[end], a, b, side):
+        for phase, t in _follow_edge(ctx, starts[end], a, b, side, differ):
             if phase in differ and phase not in located and 0.0 <= t <= 1.0:
                 located[phase] = float(t)
     out = []
@@ -345,8 +391,9 @@ def design_coordinates(case, axes: Sequence[Axis]) -> tuple[tuple[str, float], .
     return tuple(out)
 
 
-def trace(case_path: str, axes: Sequence[Axis], results: Sequence[PointResult]) -> BoundaryMap:
-    """The phase boundaries of a map's ``results`` (in grid order), traced between grid points."""
+def trace(case_path: str, axes: Sequence[Axis], results: Sequence[PointResult], case=None) -> BoundaryMap:
+    """The phase boundaries of a map's ``results`` (in grid order), traced between grid points;
+    ``case``, the case file as loaded (read again when not given), places its design point."""
     from .case import load_case
     ctx = _Context(case_path, axes)
     edges, cells = _lattice(axes)
@@ -360,4 +407,4 @@ def trace(case_path: str, axes: Sequence[Axis], results: Sequence[PointResult]) 
     problems = (f"{loose} of {len(crossings)} crossings could not be located by the bracketed solve; "
                 "they are drawn at the middle of their grid edge",) if loose else ()
     return BoundaryMap(_coordinate_names(axes), tuple(crossings), tuple(_join(crossings, cells)),
-                       design_coordinates(load_case(case_path), axes), problems)
+                       design_coordinates(case or load_case(case_path), axes), problems)

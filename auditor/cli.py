@@ -299,7 +299,7 @@ def _cmd_sweep(args) -> int:
     if lines_path is not None:     # a map: its phase boundaries traced between grid points
         from .boundaries import trace
         from .report.boundary_lines import boundaries_csv
-        boundaries = trace(str(Path(args.case)), axes, results)
+        boundaries = trace(str(Path(args.case)), axes, results, case)
         write_atomic(lines_path, boundaries_csv(boundaries))
     write_atomic(svg_path, _sweep_picture(args, case, axes, results, boundaries))
     journal.unlink(missing_ok=True)
