@@ -1,15 +1,13 @@
 """Phase boundaries traced on a map (a two-variable sweep or a ternary composition grid).
 
 A map's grid points are joined by edges (neighbours along an axis; on a ternary lattice, the
-three directions of the triangular lattice).  Along each edge whose two end points hold
-different phases, the crossing is located exactly: the state of one end point is followed
-towards the other with its phase set held (the equations of
-:mod:`.equilibrium.fixed_set`, Newton continuation from the tangent), and the crossing is the
-zero of the boundary function of the phase that changes -- an absent phase's driving force
-to form, or a present phase's amount -- by the bracketed solve of
-:mod:`.equilibrium.margins`.  Every variable of the map moves linearly along an edge (a
-ratio axis: its feed is rebuilt by the sweep's own rule at each ratio), so a crossing at
-fraction ``t`` of the edge lies at the interpolated map coordinates.
+three directions of the triangular lattice).  Along each edge whose end points hold different
+phases, the state of one end is followed towards the other with its phase set held
+(:mod:`.equilibrium.fixed_set`, Newton's method from the tangent), and the crossing is the zero
+of the changing phase's boundary function (an absent phase's driving force to form, or a
+present phase's amount; those of :mod:`.equilibrium.margins`) by a bracketed solve.  Every map
+variable moves linearly along an edge (a ratio axis: its feed is rebuilt by the sweep's own
+rule), so a crossing at fraction ``t`` of the edge lies at the interpolated coordinates.
 
 The crossings of one phase are then joined cell by cell (a square of four grid points, or
 a triangle of three): a cell that the phase's boundary enters on one side leaves it on
@@ -68,13 +66,13 @@ class BoundaryMap:
 # ---------------------------------------------------------------- the lattice
 
 
+FIELD = {"temperature": "temperature_K", "pressure": "pressure_Pa"}
+
+
 def _coordinate_names(axes: Sequence[Axis]) -> tuple[str, ...]:
     if axes[0].name == TERNARY:
         return tuple(f"atoms[{e}]" for e in axes[0].elements)
     return tuple(FIELD.get(a.name, a.name) for a in axes)
-
-
-FIELD = {"temperature": "temperature_K", "pressure": "pressure_Pa"}
 
 
 def _lattice(axes: Sequence[Axis]) -> tuple[list[tuple[int, int]], list[list[tuple[int, int]]]]:
@@ -198,7 +196,7 @@ class _Start:
 def _follow_edge(ctx: _Context, start: _Start, a: int, b: int, side: int, differ) -> list[tuple[str, float]]:
     """(phase, t) of the first crossings met going from the start (a at t = 0 when ``side`` is
     +1, b at t = 1 when it is -1) along the edge a-b: one Newton solve at the far end from the
-    tangent, then the crossing by regula falsi on the changing phase's boundary function; the
+    tangent, then the crossing by a bracketed solve on the changing phase's boundary function; the
     margins' stepping continuation where the far end cannot be reached in one step."""
     from .equilibrium.margins import _follow, _Probe
     fs, bf = start.fs, start.functions
@@ -223,7 +221,7 @@ def _follow_edge(ctx: _Context, start: _Start, a: int, b: int, side: int, differ
         f1 = bf.values(far)
         crossed = [p for p in differ if f1.get(p) is not None and f0.get(p) is not None and f1[p] <= 0 < f0[p]]
         if crossed:
-            return [(p, _regula_falsi(fs, bf, state, p, (t0, pt0.y, f0[p]), (t1, far.y, f1[p]))) for p in crossed]
+            return [(p, _bracketed(fs, bf, state, p, (t0, pt0.y, f0[p]), (t1, far.y, f1[p]))) for p in crossed]
     except (RuntimeError, np.linalg.LinAlgError):      # NotFollowed, or cantera refusing a state
         pass
     probe = _Probe("edge", t0, "", (0.0, 1.0), False, 0.25, state, dF)
@@ -234,37 +232,27 @@ def _follow_edge(ctx: _Context, start: _Start, a: int, b: int, side: int, differ
     return found if why == "boundary" else []
 
 
-def _regula_falsi(fs, bf, state, phase: str, lo: tuple, hi: tuple) -> float:
+def _bracketed(fs, bf, state, phase: str, lo: tuple, hi: tuple) -> float:
     """The zero of ``phase``'s boundary function between two solved states (t, y, f) of opposite
     signs: Brent's bracketed method (scipy's ``brentq``), each state solved by Newton's method
     from the straight line between the nearest solved states on either side."""
     from scipy.optimize import brentq
-    known = [lo[:2], hi[:2]]          # (t, y) of the solved states
+    known = {lo[0]: (lo[1], lo[2]), hi[0]: (hi[1], hi[2])}        # t -> (y, f) of the solved states
 
     def f(t):
-        below = max((k for k in known if k[0] <= t), key=lambda k: k[0], default=None)
-        above = min((k for k in known if k[0] >= t), key=lambda k: k[0], default=None)
-        if below is None or above is None or above[0] == below[0]:
-            y0 = (below or above)[1]
-        else:
-            w = (t - below[0]) / (above[0] - below[0])
-            y0 = below[1] + w * (above[1] - below[1])
-        pt = fs.solve(y0, *state(t))
-        known.append((t, pt.y))
+        if t in known:
+            return known[t][1]
+        below, above = max(k for k in known if k <= t), min(k for k in known if k >= t)
+        w = (t - below) / (above - below)
+        pt = fs.solve(known[below][0] + w * (known[above][0] - known[below][0]), *state(t))
         value = bf.values(pt)[phase]
         if value is None:
             raise RuntimeError("the boundary function is not defined here")
+        known[t] = (pt.y, value)
         return value
 
-    a, b = sorted([lo, hi], key=lambda k: k[0])
-    if a[2] == 0:
-        return a[0]
-    if b[2] == 0:
-        return b[0]
-    fa, fb = a[2], b[2]
-    cache = {a[0]: fa, b[0]: fb}
-    return float(brentq(lambda t: cache[t] if t in cache else f(t), a[0], b[0], xtol=EDGE_XTOL,
-                        maxiter=EDGE_ITERATIONS))
+    a, b = sorted((lo[0], hi[0]))
+    return float(brentq(f, a, b, xtol=EDGE_XTOL, maxiter=EDGE_ITERATIONS))
 
 
 EDGE_XTOL = 1e-6            # a crossing is located to this fraction of its grid edge ...

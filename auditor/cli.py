@@ -289,25 +289,21 @@ def _cmd_sweep(args) -> int:
     lines_path = Path(f"{prefix}_boundaries.csv") if len(axes) == 2 or args.ternary else None
     if not csv_path.parent.resolve().is_dir():
         raise InputError.single(csv_path.parent, "output directory does not exist")
-    for target in (csv_path, svg_path, lines_path):
-        if target is not None:
-            check_target(target, [args.case], args.force or args.resume)
+    for target in filter(None, (csv_path, svg_path, lines_path)):
+        check_target(target, [args.case], args.force or args.resume)
     header = journal_header(args.case, axes)
     results = _run_points(args, case, axes, journal, header, points_done(journal, header, args.resume, args.force))
     write_atomic(csv_path, csv_text(results))
-    boundaries = None
+    boundaries = note = None
     if lines_path is not None:     # a map: its phase boundaries traced between grid points
-        from .boundaries import trace
-        from .report.boundary_lines import boundaries_csv
-        boundaries = trace(str(Path(args.case)), axes, results, case)
-        write_atomic(lines_path, boundaries_csv(boundaries))
+        from .report.boundary_lines import traced
+        boundaries, note = traced(str(Path(args.case)), axes, results, case, lines_path)
     write_atomic(svg_path, _sweep_picture(args, case, axes, results, boundaries))
     journal.unlink(missing_ok=True)
     if not args.quiet:
         print("\n".join(sweep_summary(results, bool(args.ternary), csv_path, svg_path)))
-        if boundaries is not None:
-            print(f"traced {len(boundaries.lines)} phase boundary line(s) through {len(boundaries.crossings)} "
-                  f"crossings; wrote {lines_path}" + "".join(f"\n  {p}" for p in boundaries.problems))
+        if note:
+            print(note)
     if args.ternary:
         return EXIT_OK if all(r.certified for r in results) else EXIT_PROBLEM
     return EXIT_OK if all(r.verdict == Verdict.WELL_POSED for r in results) else EXIT_PROBLEM

@@ -135,3 +135,14 @@ def map_overlay(bmap, axes, units: Sequence[str], xs: Sequence[float], ys: Seque
             out += design_svg(X(design[0]), Y(design[1]))
         return out + legend_svg(lx, ly, bool(lines), shown)
     return overlay, note
+
+
+def traced(case_path: str, axes, results, case, path) -> tuple[object, str]:
+    """Trace a map's phase boundaries, write their CSV to ``path``; returns the boundaries and the
+    line the terminal prints about them."""
+    from ..boundaries import trace
+    from .files import write_atomic
+    bmap = trace(case_path, axes, results, case)
+    write_atomic(path, boundaries_csv(bmap))
+    return bmap, (f"traced {len(bmap.lines)} phase boundary line(s) through {len(bmap.crossings)} crossings; "
+                  f"wrote {path}" + "".join(f"\n  {p}" for p in bmap.problems))
