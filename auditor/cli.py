@@ -176,21 +176,30 @@ def _cmd_sweep(args) -> int:
                                 "has none (it is an intensive problem: use 'auditor check')", "feed")
     prefix = args.out or Path(args.case).stem + "_sweep"
     csv_path, svg_path, journal = Path(f"{prefix}.csv"), Path(f"{prefix}.svg"), Path(f"{prefix}.partial.jsonl")
+    lines_path = Path(f"{prefix}_boundaries.csv") if len(axes) == 2 or args.ternary else None
     if not resolved_or_refused(csv_path.parent).is_dir():
         raise InputError.single(csv_path.parent, "output directory does not exist")
-    for target in (csv_path, svg_path):
+    for target in filter(None, (csv_path, svg_path, lines_path)):
         check_target(target, [args.case], args.force or args.resume)
     resolved_or_refused(journal)
     total = len(validate(args.case, axes))     # bad input is exit 2 here, before any file is created
+    note = None
     with OutputLock(prefix):
         header = journal_header(case, axes)
         results = _run_points(args, axes, total, journal, header,
                               points_done(journal, header, args.resume, args.force))
         write_atomic(csv_path, csv_text(results))
-        write_atomic(svg_path, sweep_picture(case, axes, results, args.ternary and args.divisions, args.vary))
+        boundaries = None
+        if lines_path is not None:     # a map: its phase boundaries traced between grid points
+            from .report.boundary_lines import traced
+            boundaries, note = traced(str(Path(args.case)), axes, results, case, lines_path)
+        write_atomic(svg_path, sweep_picture(case, axes, results, args.ternary and args.divisions, args.vary,
+                                             boundaries))
         journal.unlink(missing_ok=True)
     if not args.quiet:
         print("\n".join(sweep_summary(results, bool(args.ternary), csv_path, svg_path)))
+        if note:
+            print(note)
     if args.ternary:
         return EXIT_OK if all(r.certified for r in results) else EXIT_PROBLEM
     return EXIT_OK if all(r.verdict == Verdict.WELL_POSED for r in results) else EXIT_PROBLEM

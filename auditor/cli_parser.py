@@ -28,7 +28,9 @@ A ternary point feeds each element as the case's single-element feed species (e.
 C(gr), H2, O2) with the case's total atoms; without --edges every element is present:
 (N-1)(N-2)/2 points, else (N+1)(N+2)/2.
 Writes PREFIX.csv and PREFIX.svg (for --ternary: a labelled triangle marking the phases
-present and their boundaries); finished points are journalled in PREFIX.partial.jsonl so
+present and their boundaries); a map (two axes, or --ternary) also gets its phase boundaries
+traced between grid points, drawn on the picture with the case's design point, and listed in
+PREFIX_boundaries.csv; finished points are journalled in PREFIX.partial.jsonl so
 that --resume can continue a run that was stopped."""
 
 

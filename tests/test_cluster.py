@@ -45,6 +45,8 @@ def test_dask_cluster_matches_in_process_byte_for_byte(tmp_path, cluster):
     assert status_a == status_b == status_c
     assert in_process == on_dask == on_pool
     assert in_process.count(b"\n") == 13   # header + 12 points
+    for suffix in ("_boundaries.csv", ".svg"):    # the map's traced boundaries and picture too
+        assert len({(tmp_path / f"{p}{suffix}").read_bytes() for p in "abc"}) == 1, suffix
 
 
 def _dies_once(marker: str, case_path, vary, points):

@@ -136,17 +136,20 @@ def test_graphite_present_exactly_where_the_gas_alone_is_supersaturated_in_carbo
 def test_ternary_svg_is_a_labelled_triangle_in_our_colours(grid20):
     root = ET.fromstring(grid20["svg"])
     texts = [t.text or "" for t in root.iter(SVG_NS + "text")]
-    for label in ("C", "H", "O", "atom % H", "atom % O", "atom % C", "phases present", "boundary"):
+    for label in ("C", "H", "O", "atom % H", "atom % O", "atom % C", "phases present", "boundary (traced)",
+                  "design point"):
         assert label in texts, label
     assert any(t.startswith("gas + graphite (") for t in texts) and any(t.startswith("gas (") for t in texts)
     assert any("923 K" in t for t in texts)
     cells = [p for p in root.iter(SVG_NS + "polygon") if p.find(SVG_NS + "title") is not None]
     assert len(cells) == 171
     assert cells[0].find(SVG_NS + "title").text.startswith("C:H:O = 1:1:18")
-    palette = set(style.SERIES) | {style.INK, style.GRID, style.RULE} | {c for pair in style.VERDICT.values() for c in pair}
+    palette = set(style.SERIES) | {style.INK, style.GRID, style.RULE, style.LABEL_HALO, style.BOUNDARY,
+                                   style.DESIGN_POINT} | {c for pair in style.VERDICT.values() for c in pair}
     colours = set(re.findall(r'(?:fill|stroke)="(#[0-9a-f]{6})"', grid20["svg"]))
     assert colours and colours <= palette
-    assert root.findall(f".//{SVG_NS}line[@stroke-width='2.2']"), "the carbon boundary is drawn"
+    traced = [e for e in root.iter(SVG_NS + "polyline") if (e.findtext(SVG_NS + "title") or "") == "traced boundary"]
+    assert traced, "the carbon boundary is drawn, traced between compositions"
 
 
 # ------------------------------------------------------------------ fallback routes

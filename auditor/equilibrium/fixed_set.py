@@ -114,6 +114,8 @@ class FixedSet:
 
     def residual(self, y: np.ndarray, T: float, P: float, b: np.ndarray):
         lam, N, x = self.split(y)
+        if not (np.all(np.isfinite(y)) and np.all(np.isfinite(x))):
+            raise NotFollowed("the state left the range of finite amounts")
         mu, g = self.model.at_state(T, P, self.full_x(x))
         Ws = self.Ws
         e1 = mu[self.species] - Ws.T @ lam

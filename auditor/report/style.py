@@ -32,6 +32,8 @@ GRID = "#d5d9de"               # chart gridlines
 PAPER_TINT = "#f4f3ee"         # background of embedded files
 AXIS = INK                     # chart frames, axes and legend outlines
 LABEL_HALO = "#ffffff"         # outline behind labels drawn over coloured regions
+BOUNDARY = INK                 # a traced phase boundary on a map
+DESIGN_POINT = "#c2185b"       # the case's own design point on a map (crimson, apart from every series colour)
 
 # Verdict box: (fill, border) per verdict.
 _GOOD, _TO_FIX, _WRONG = ("#e2eee4", "#2f6b45"), ("#f5ecd7", "#9a6a12"), ("#f2e0db", "#8e3b46")

@@ -147,9 +147,11 @@ def line_chart(title: str, x_label: str, xs: list[float], series: dict[str, list
 
 def presence_map(title: str, xs: list[float], ys: list[float], cells: dict[tuple[int, int], str],
                  x_label: str, y_label: str, width: int = 720, height: int = 420,
-                 subtitle: Sequence[str] = ()) -> str:
+                 subtitle: Sequence[str] = (), overlay=None) -> str:
     """Two-dimensional map of which phases are present at each grid point: each cell centred on its
-    grid point, round ticks, gridlines, and every region labelled in place as well as in the legend."""
+    grid point, round ticks, gridlines, and every region labelled in place as well as in the legend.
+    ``overlay(X, Y, legend_x, legend_y)`` adds elements drawn over the cells (X and Y map the axes'
+    values to the picture; the legend continues at legend_x, legend_y)."""
     top = 30 + 14 * len(subtitle) + 8
     left, right, bottom = 64, 170, 46
     pw, ph = width - left - right, height - top - bottom
@@ -190,6 +192,8 @@ def presence_map(title: str, xs: list[float], ys: list[float], cells: dict[tuple
     out.append(f'<rect x="{left}" y="{top}" width="{pw}" height="{ph}" fill="none" stroke="{style.AXIS}"/>')
     out.append(f'<text x="{left + pw / 2}" y="{height - 8}" text-anchor="middle">{escape(x_label)}</text>')
     out.append(f'<text transform="translate(14,{top + ph / 2}) rotate(-90)" text-anchor="middle">{escape(y_label)}</text>')
+    if overlay is not None:
+        out += overlay(X, Y, left + pw + 12, top + 16 * len(kinds) + 6)
     for k in kinds:   # a label inside each region, at the cell nearest the region's centre
         own = [(i, j) for (i, j), kind in cells.items() if kind == k]
         ci = sum(i for i, _ in own) / len(own)

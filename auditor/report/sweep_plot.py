@@ -97,8 +97,10 @@ def _stack(parts: list[str]) -> str:
     return (f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" height="{y}">\n' + "\n".join(body) + "\n</svg>\n")
 
 
-def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units: Sequence[str] | None = None) -> str:
-    """The sweep's picture; ``units`` are the units the user gave per axis (default K and bar)."""
+def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units: Sequence[str] | None = None,
+              boundaries=None) -> str:
+    """The sweep's picture; ``units`` are the units the user gave per axis (default K and bar);
+    ``boundaries`` (a two-variable map's traced phase boundaries) are drawn over the map."""
     units = list(units or [DEFAULT_UNIT[a.name] for a in axes])
     title = case.title if case is not None else "sweep"
     fixed = _fixed(case, axes) + [picture_stamp(case)]
@@ -110,8 +112,13 @@ def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units:
             i, j = r.index % len(xs), r.index // len(xs)
             cells[(i, j)] = " + ".join(r.phases_present) if r.phases_present else r.verdict
         sub = [f"phases present (assumed: {' + '.join(assumed)}) at equilibrium"] + fixed
+        overlay = None
+        if boundaries is not None:
+            from .boundary_lines import map_overlay
+            overlay, note = map_overlay(boundaries, axes, units, xs, ys, convert)
+            sub.insert(1, note)
         return _stack([svg.presence_map(title, xs, ys, cells, _label(a0.name, units[0]), _label(a1.name, units[1]),
-                                        subtitle=sub)])
+                                        subtitle=sub, overlay=overlay)])
     axis, unit = axes[0], units[0]
     label = _label(axis.name, unit)
     xs = convert([_value(r, axis.name) for r in results], axis.name, unit)
@@ -149,14 +156,15 @@ def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units:
     return _stack(parts or [svg.line_chart(title, label, xs, {}, subtitle=["no solved points"] + fixed)])
 
 
-def sweep_picture(case, axes, results, ternary_divisions: int | None, vary) -> str:
-    """The ternary map (``ternary_divisions`` given), or the plot of the swept axes."""
+def sweep_picture(case, axes, results, ternary_divisions: int | None, vary, boundaries=None) -> str:
+    """The ternary map (``ternary_divisions`` given), or the plot of the swept axes (a map with
+    its traced ``boundaries``)."""
     if ternary_divisions:
         from .ternary import ternary_svg
         s, written = case.specified, case.as_written       # T and P as the case file writes them
         return ternary_svg(results, axes[0].elements, ternary_divisions,
                            f"T = {written.get('specified.temperature', f'{s.temperature_K:g} K')}, "
                            f"P = {written.get('specified.pressure', f'{s.pressure_Pa / 1e5:g} bar')}", case.title,
-                           picture_stamp(case))
+                           picture_stamp(case), boundaries=boundaries)
     assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
-    return sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in vary])
+    return sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in vary], boundaries=boundaries)

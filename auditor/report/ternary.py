@@ -151,7 +151,7 @@ def _axis_names(elements: Sequence[str]) -> list[str]:
     return out
 
 
-def _legend(pts, labels: list[str], colour: dict[str, str]) -> list[str]:
+def _legend(pts, labels: list[str], colour: dict[str, str], traced=None) -> list[str]:
     lx, ly = LEFT + SIDE + 30, 90.0
     out = [f'<text x="{lx:.0f}" y="{ly:.0f}" font-weight="bold">phases present</text>']
     for n, lab in enumerate(labels):
@@ -160,30 +160,47 @@ def _legend(pts, labels: list[str], colour: dict[str, str]) -> list[str]:
         out.append(f'<rect x="{lx:.0f}" y="{y - 11:.0f}" width="14" height="14" fill="{colour[lab]}"/>'
                    f'<text x="{lx + 20:.0f}" y="{y:.0f}">{escape(lab)} ({count})</text>')
     y = ly + 22 * (len(labels) + 1)
+    if traced is not None:
+        from .boundary_lines import legend_svg
+        return out + legend_svg(lx, y - 10, True, traced)
     out.append(f'<line x1="{lx:.0f}" y1="{y - 4:.0f}" x2="{lx + 14:.0f}" y2="{y - 4:.0f}" stroke="{style.INK}" '
                f'stroke-width="2.2"/><text x="{lx + 20:.0f}" y="{y:.0f}">boundary</text>')
     return out
 
 
+def _traced(bmap) -> tuple[list[str], bool]:
+    """The traced boundary lines and the case's design point (when it lies inside the triangle)."""
+    from .boundary_lines import design_svg, lines_svg
+    out = lines_svg(bmap, [_at([v for _, v in c.coordinates]) for c in bmap.crossings])
+    shown = bmap.design is not None and all(v >= 0 for _, v in bmap.design)
+    if shown:
+        out += design_svg(*_at([v for _, v in bmap.design]))
+    return out, shown
+
+
 def ternary_svg(results, elements: Sequence[str], divisions: int, condition: str, title: str = "",
-                stamp: str = "") -> str:
+                stamp: str = "", boundaries=None) -> str:
     """The map as SVG text.  ``results`` carry coordinates ``atoms[E]`` (atom fractions of the
     three elements); ``condition`` says at what T and P, ``title`` names the case (shown on top),
-    ``stamp`` the tool's version and the case file's hash (shown at the foot)."""
+    ``stamp`` the tool's version and the case file's hash (shown at the foot); ``boundaries``, the
+    traced phase boundaries (drawn instead of the hexagon sides) and the case's design point."""
     pts = _points(results, elements, divisions)
     labels, colour = _colours(pts)
     tri = " ".join(f"{x:.2f},{y:.2f}" for x, y in _corners())
     out = _header(elements, divisions, len(pts), condition, title, tri)
-    out += ['<g clip-path="url(#tri)">', *_cells(pts, elements, divisions, colour), *_boundaries(pts, divisions), '</g>']
-    out += _grid_and_frame(tri)
+    traced, shown = _traced(boundaries) if boundaries is not None else (_boundaries(pts, divisions), None)
+    out += ['<g clip-path="url(#tri)">', *_cells(pts, elements, divisions, colour)]
+    out += (['</g>'] + _grid_and_frame(tri) + traced) if boundaries is not None else (traced + ['</g>'] + _grid_and_frame(tri))
     out += _axis_names(elements)
     edge_note = "the sides (an element absent) are included" if any(0 in ijk for ijk, _, _ in pts) else \
         "the sides (an element absent) were not computed"
+    line_note = ("Heavy line: traced boundary" + ("; ring: the case's feed" if shown else "") if boundaries is not None
+                 else "Heavy line: the phase set changes")
     out.append(f'<text x="{WIDTH / 2:.0f}" y="{HEIGHT - 30:.0f}" text-anchor="middle" font-size="11">'
-               f'Each hexagon is one computed composition; {edge_note}. Heavy line: the phase set changes.</text>')
+               f'Each hexagon is one computed composition; {edge_note}. {line_note}.</text>')
     if stamp:
         out.append(f'<text x="{WIDTH / 2:.0f}" y="{HEIGHT - 12:.0f}" text-anchor="middle" font-size="9" '
                    f'fill="{style.RULE}">{escape(stamp)}</text>')
-    out += _legend(pts, labels, colour)
+    out += _legend(pts, labels, colour, shown)
     out.append("</svg>")
     return "\n".join(out) + "\n"
