@@ -180,6 +180,19 @@ def _simplicity(system: ChemicalSystem, k: int) -> tuple:
     return (abs(system.species[k].charge) != 0 and len(f) > 0, len(f), sum(abs(v) for v in f.values()), k)
 
 
+def _formula_elimination(system: ChemicalSystem):
+    """The formula matrix in reduced row echelon form over the species ordered from the
+    simplest: (simplicity of each species, that order, the elimination over positions in it)."""
+    n = system.n_species
+    simplicity = [_simplicity(system, k) for k in range(n)]
+    order = sorted(range(n), key=simplicity.__getitem__)
+    position = {k: j for j, k in enumerate(order)}
+    ech = exact.RowEchelon(track=False, leftmost=True)
+    for row in system.formula_matrix:
+        ech.add({position[k]: x for k, x in enumerate(row) if x != 0})
+    return simplicity, order, ech
+
+
 def derived_basis(system: ChemicalSystem) -> tuple[Reaction, ...]:
     """A complete set of independent reactions from the species alone.
 
@@ -189,12 +202,7 @@ def derived_basis(system: ChemicalSystem) -> tuple[Reaction, ...]:
     primitive integers and then made sparser where a cheap step helps.
     """
     n = system.n_species
-    simplicity = [_simplicity(system, k) for k in range(n)]
-    order = sorted(range(n), key=simplicity.__getitem__)
-    position = {k: j for j, k in enumerate(order)}
-    ech = exact.RowEchelon(track=False, leftmost=True)
-    for row in system.formula_matrix:
-        ech.add({position[k]: x for k, x in enumerate(row) if x != 0})
+    simplicity, order, ech = _formula_elimination(system)
     vectors = [{order[j]: x for j, x in w.items()} for w in ech.nullspace(range(n))]
     vectors = exact.small_integer_basis(vectors)
     out = []
@@ -257,12 +265,7 @@ def _frozen_directions(system: ChemicalSystem, reactions, basis_reaction, basis,
     continued with the derived ones in order."""
     n = system.n_species
     if len(basis) >= COORDINATE_COMPLEMENT_MIN:
-        simplicity = [_simplicity(system, k) for k in range(n)]
-        order = sorted(range(n), key=simplicity.__getitem__)
-        position = {k: j for j, k in enumerate(order)}
-        elim = exact.RowEchelon(track=False, leftmost=True)
-        for row in system.formula_matrix:
-            elim.add({position[k]: x for k, x in enumerate(row) if x != 0})
+        _, order, elim = _formula_elimination(system)
         pivots = {order[j] for j in elim.pivots}
         own = [[k for k, _ in r.stoich if k not in pivots] for r in basis]
         if all(len(c) == 1 for c in own):
