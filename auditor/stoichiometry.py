@@ -263,7 +263,6 @@ def _frozen_directions(system: ChemicalSystem, reactions, basis_reaction, basis,
     matrix's elimination, as ``derived_basis`` builds them), and the complement is read off
     the listed reactions' free coordinates; otherwise the listed reactions' elimination is
     continued with the derived ones in order."""
-    n = system.n_species
     if len(basis) >= COORDINATE_COMPLEMENT_MIN:
         _, order, elim = _formula_elimination(system)
         pivots = {order[j] for j in elim.pivots}
