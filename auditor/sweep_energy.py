@@ -32,14 +32,19 @@ def check_spec_axis(name: str, specified) -> None:
                                  "{temperature: ..., pressure: ...}}' under 'specified')"))
 
 
+def fills_at_feed_temperature(specified) -> bool:
+    """A rigid vessel filled with the feed at the feed temperature of the case's energy balance."""
+    fill, balance = specified.volume_feed_at, specified.energy_balance
+    return fill is not None and balance is not None and math.isclose(fill[0], balance[0], rel_tol=1e-9)
+
+
 def with_spec_axes(specified, coordinates: Iterable[tuple[str, float]]):
     """``specified`` with the values of this point's feed-temperature and fill-pressure axes."""
     for name, value in coordinates:
         if name == "feed-temperature":
-            fill = specified.volume_feed_at
-            if fill is not None and math.isclose(fill[0], specified.energy_balance[0], rel_tol=1e-12):
+            if fills_at_feed_temperature(specified):
                 # a vessel filled with the feed at its feed temperature: it is filled at the new one
-                specified = replace(specified, volume_feed_at=(float(value), fill[1]))
+                specified = replace(specified, volume_feed_at=(float(value), specified.volume_feed_at[1]))
             if specified.heat_added is not None:
                 specified = replace(specified, heat_added=(float(value), specified.heat_added[1]))
             else:
