@@ -79,7 +79,7 @@ def test_readme_links_stay_inside_the_repository():
 SUPPORT = {"errors", "settings", "findings", "verdicts", "sentences", "exact", "units", "dm", "dm_plain", "yaml_nodes",
            "yaml_syntax", "common_names", "__version__"}
 RANK = {"system": 1, "case": 2, "stoichiometry": 3, "phase_rule": 4, "structure": 5, "equilibrium": 6,
-        "hindered": 7, "audit": 8, "sweep_files": 8.5, "sweep": 9, "executors": 9, "report": 10, "cli_parser": 10.5, "cli": 11, "api": 11, "__main__": 12}
+        "hindered": 7, "audit": 8, "sweep_files": 8.5, "sweep_energy": 8.5, "sweep": 9, "executors": 9, "report": 10, "cli_parser": 10.5, "cli": 11, "api": 11, "__main__": 12}
 
 
 def internal_imports(path: Path) -> set[str]:
