@@ -65,6 +65,18 @@ def _fixed(case, axes) -> list[str]:
     return lines
 
 
+def _swept_inside(case, key: str, swept: set) -> bool:
+    """Whether a case-file value (``adiabatic.feed-temperature``, ``volume.feed-at.pressure``) is
+    replaced by a feed-temperature or fill-pressure axis, and so is not held fixed."""
+    if "fill-pressure" in swept and key == "volume.feed-at.pressure":
+        return True
+    if "feed-temperature" not in swept:
+        return False
+    from ..sweep_energy import fills_at_feed_temperature
+    return key.endswith(".feed-temperature") or (key == "volume.feed-at.temperature"
+                                                  and fills_at_feed_temperature(case.specified))
+
+
 def picture_stamp(case) -> str:
     """The tool's version and the case file's SHA-256, printed on every picture so that a
     picture found alone can be traced to what made it."""
@@ -96,6 +108,24 @@ def _stack(parts: list[str]) -> str:
         y += h + 10
         width = max(width, w)
     return (f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" height="{y}">\n' + "\n".join(body) + "\n</svg>\n")
+
+
+def _solved_state_charts(results, case, swept, title, label, xs, shade, fixed) -> list[str]:
+    """The temperature (and for a rigid vessel the pressure) each point solves, when the case does
+    not fix it (an energy balance, a vessel, an entropy): one chart per solved variable."""
+    if case is None or not any(r.phases_present for r in results):
+        return []
+    spec, parts = case.specified, []
+    for field, fixed_value, y_label, scale in (("temperature_K", spec.temperature_K, "solved temperature, K", 1.0),
+                                               ("pressure_Pa", spec.pressure_Pa, "solved pressure, bar", 1e-5)):
+        if fixed_value is not None or field.startswith(swept + "_"):
+            continue
+        ys = [getattr(r, field) * scale if r.phases_present and getattr(r, field) else float("nan") for r in results]
+        name = y_label.split(",")[0]
+        parts.append(svg.line_chart(title, label, xs, {name: ys}, shade=shade, y_label=y_label, y_from_zero=False,
+                                    subtitle=[f"{name} at equilibrium; the case solves it from "
+                                              f"{' and '.join(s.label for s in spec.specifications if s.kind not in FIELD)}"] + fixed))
+    return parts
 
 
 def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units: Sequence[str] | None = None) -> str:
@@ -151,24 +181,6 @@ def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units:
     return _stack(parts or [svg.line_chart(title, label, xs, {}, subtitle=["no solved points"] + fixed)])
 
 
-def _solved_state_charts(results, case, swept, title, label, xs, shade, fixed) -> list[str]:
-    """The temperature (and for a rigid vessel the pressure) each point solves, when the case does
-    not fix it (an energy balance, a vessel, an entropy): one chart per solved variable."""
-    if case is None or not any(r.phases_present for r in results):
-        return []
-    spec, parts = case.specified, []
-    for field, fixed_value, y_label, scale in (("temperature_K", spec.temperature_K, "solved temperature, K", 1.0),
-                                               ("pressure_Pa", spec.pressure_Pa, "solved pressure, bar", 1e-5)):
-        if fixed_value is not None or field.startswith(swept + "_"):
-            continue
-        ys = [getattr(r, field) * scale if r.phases_present and getattr(r, field) else float("nan") for r in results]
-        name = y_label.split(",")[0]
-        parts.append(svg.line_chart(title, label, xs, {name: ys}, shade=shade, y_label=y_label, y_from_zero=False,
-                                    subtitle=[f"{name} at equilibrium; the case solves it from "
-                                              f"{' and '.join(s.label for s in spec.specifications if s.kind not in FIELD)}"] + fixed))
-    return parts
-
-
 def sweep_picture(case, axes, results, ternary_divisions: int | None, vary) -> str:
     """The ternary map (``ternary_divisions`` given), or the plot of the swept axes."""
     if ternary_divisions:
@@ -180,15 +192,3 @@ def sweep_picture(case, axes, results, ternary_divisions: int | None, vary) -> s
                            picture_stamp(case))
     assumed = case.coexisting or tuple(p for p, _ in case.system.phases)
     return sweep_svg(results, axes, assumed, case=case, units=[unit_of(v) for v in vary])
-
-
-def _swept_inside(case, key: str, swept: set) -> bool:
-    """Whether a case-file value (``adiabatic.feed-temperature``, ``volume.feed-at.pressure``) is
-    replaced by a feed-temperature or fill-pressure axis, and so is not held fixed."""
-    if "fill-pressure" in swept and key == "volume.feed-at.pressure":
-        return True
-    if "feed-temperature" not in swept:
-        return False
-    from ..sweep_energy import fills_at_feed_temperature
-    return key.endswith(".feed-temperature") or (key == "volume.feed-at.temperature"
-                                                  and fills_at_feed_temperature(case.specified))
