@@ -97,19 +97,6 @@ def _value(r, name: str) -> float:
     return float("nan") if v is None else float(v)
 
 
-def _stack(parts: list[str]) -> str:
-    """One SVG holding several pictures one below the other."""
-    import re
-    y, body, width = 0, [], 0
-    for p in parts:
-        m = re.search(r'width="(\d+)" height="(\d+)"', p)
-        w, h = (int(m.group(1)), int(m.group(2))) if m else (640, 320)
-        body.append(p.replace("<svg ", f'<svg y="{y}" ', 1))
-        y += h + 10
-        width = max(width, w)
-    return (f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" height="{y}">\n' + "\n".join(body) + "\n</svg>\n")
-
-
 def _solved_state_charts(results, case, swept, title, label, xs, shade, fixed) -> list[str]:
     """The temperature (and for a rigid vessel the pressure) each point solves, when the case does
     not fix it (an energy balance, a vessel, an entropy): one chart per solved variable."""
@@ -126,6 +113,19 @@ def _solved_state_charts(results, case, swept, title, label, xs, shade, fixed) -
                                     subtitle=[f"{name} at equilibrium; the case solves it from "
                                               f"{' and '.join(s.label for s in spec.specifications if s.kind not in FIELD)}"] + fixed))
     return parts
+
+
+def _stack(parts: list[str]) -> str:
+    """One SVG holding several pictures one below the other."""
+    import re
+    y, body, width = 0, [], 0
+    for p in parts:
+        m = re.search(r'width="(\d+)" height="(\d+)"', p)
+        w, h = (int(m.group(1)), int(m.group(2))) if m else (640, 320)
+        body.append(p.replace("<svg ", f'<svg y="{y}" ', 1))
+        y += h + 10
+        width = max(width, w)
+    return (f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" height="{y}">\n' + "\n".join(body) + "\n</svg>\n")
 
 
 def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units: Sequence[str] | None = None) -> str:
