@@ -21,7 +21,15 @@ EPILOG_SWEEP = """examples:
   auditor sweep my_case.yaml --vary feed.H2O=1:5:0.5         mol of H2O in the feed
   auditor sweep my_case.yaml --vary ratio.O/C=0.5:3:0.25 --vary ratio.H/C=2:4:0.5
   auditor sweep chem.yaml --ternary C,H,O --divisions 20     a C-H-O map at the case's T, P
+  auditor sweep cases/combustor_adiabatic.yaml --vary feed-temperature=300:700:50
+  auditor sweep cases/vessel_rigid_adiabatic.yaml --vary fill-pressure=1:10:1
 Temperature is in K, pressure in bar and feed amounts in mol unless a unit follows STEP.
+An adiabatic, heat-added, isentropic or rigid-vessel case solves its temperature (and a
+vessel its pressure): an axis on a solved variable is refused; vary the feed, the pressure
+it fixes, feed-temperature (the feed temperature of its adiabatic or heat-added balance; a
+vessel filled with the feed at that temperature is filled at the new one) or fill-pressure
+(the pressure a vessel is filled at, volume: {feed-at: ...}). The picture adds the solved
+temperature and pressure as curves.
 A ratio axis leaves the feed species holding neither element as they are and changes the
 others as little as possible (least squares, in mol) with their total amount kept.
 A ternary point feeds each element as the case's single-element feed species (e.g.
@@ -96,7 +104,8 @@ def _sweep_command(sub) -> None:
                        epilog=EPILOG_SWEEP, formatter_class=argparse.RawDescriptionHelpFormatter)
     w.add_argument("case", metavar="CASE", help="the case file to sweep (YAML, with a feed)")
     w.add_argument("--vary", action="append", metavar="NAME=START:STOP:STEP",
-                   help="temperature (K), pressure (bar), feed.SPECIES (mol of a feed species) or ratio.X/Y "
+                   help="temperature (K), pressure (bar), feed-temperature (K), fill-pressure (bar), feed.SPECIES "
+                        "(mol of a feed species) or ratio.X/Y "
                         "(atoms of element X per atom of Y in the feed); repeat for a two-dimensional grid")
     w.add_argument("--ternary", metavar="X,Y,Z", help="map three elements' feed composition at the case's T and P "
                    "(each fed as the case's single-element feed species, e.g. C(gr), H2, O2)")

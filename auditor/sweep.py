@@ -22,6 +22,7 @@ from typing import TYPE_CHECKING, Callable, Iterable, NamedTuple, Sequence
 
 from .case import Case, load_case, outside_limits, parse_quantity
 from .errors import InputError, Problem
+from .sweep_energy import SPEC_AXES, VARIABLES, check_state_axes, with_spec_axes
 from .sweep_files import PointResult, csv_text  # noqa: F401  (csv_text: re-exported for callers)
 from .verdicts import Verdict
 
@@ -29,7 +30,6 @@ if TYPE_CHECKING:
     from .audit import CountingStages
     from .equilibrium import Workspace
 
-VARIABLES = {"temperature": ("temperature", "K"), "pressure": ("pressure", "bar")}
 FEED, RATIO, TERNARY = "feed.", "ratio.", "ternary"
 
 
@@ -42,7 +42,8 @@ class Axis:
 
 def parse_vary(text: str) -> Axis:
     """``temperature=600:1400:25`` (K), ``pressure=1:40:5`` (bar), ``feed.H2O=1:5:0.5`` (mol of a
-    feed species) or ``ratio.O/C=0.5:3:0.25`` (atoms of O per atom of C in the feed); a unit may
+    feed species), ``feed-temperature=300:700:50`` (K, the feed temperature of the case's energy
+    balance), ``fill-pressure=1:10:1`` (bar, the pressure a rigid vessel is filled at) or ``ratio.O/C=0.5:3:0.25`` (atoms of O per atom of C in the feed); a unit may
     follow the step, e.g. ``temperature=500:900:50 degC``.  The end point is included when the
     steps reach it."""
     def fail(msg):
@@ -57,10 +58,10 @@ def parse_vary(text: str) -> Axis:
         if len(pair) != 2 or not all(p.strip() for p in pair) or pair[0].strip() == pair[1].strip():
             fail(f"an element ratio is written ratio.X/Y with two different elements, e.g. ratio.O/C, not {name!r}")
         kind, default_unit = "ratio", ""
-    elif name in VARIABLES:
-        kind, default_unit = VARIABLES[name]
+    elif name in VARIABLES or name in SPEC_AXES:
+        kind, default_unit = VARIABLES.get(name) or SPEC_AXES[name]
     else:
-        fail(f"can vary only {', '.join(VARIABLES)}, feed.SPECIES or ratio.X/Y, not {name!r}")
+        fail(f"can vary only {', '.join([*VARIABLES, *SPEC_AXES])}, feed.SPECIES or ratio.X/Y, not {name!r}")
     parts = rng.split(":")
     if len(parts) != 3:
         fail("expected START:STOP:STEP")
@@ -242,39 +243,29 @@ def grid(case: Case, axes: Sequence[Axis]) -> list[Point]:
     """Grid points in a fixed order (the first axis varies fastest)."""
     names = [a.name for a in axes]
     if not axes or len(axes) > 2 or len(set(names)) != len(names):
-        raise InputError(Problem("--vary", "vary one or two of temperature, pressure, feed.SPECIES, ratio.X/Y, "
-                                 "each once"))
+        raise InputError(Problem("--vary", "vary one or two of temperature, pressure, feed-temperature, "
+                                 "fill-pressure, feed.SPECIES, ratio.X/Y, each once"))
     if TERNARY in names and len(axes) > 1:
         raise InputError(Problem("--ternary", "a ternary map runs at the case's temperature and pressure; drop --vary"))
     if (any(n.startswith((FEED, RATIO)) for n in names) or TERNARY in names) and case.feed is None:
         raise InputError(Problem("--vary", "feed axes need a case with a feed"))
-    fixed_by_case = {"temperature": case.specified.temperature_K, "pressure": case.specified.pressure_Pa}
-    others = [sp.label for sp in case.specified.specifications if sp.kind not in ("temperature", "pressure")]
-    for a in axes:
-        if a.name in VARIABLES and fixed_by_case[a.name] is None and others:
-            raise InputError(Problem("--vary", f"the case does not fix the {a.name}: it is solved from "
-                                     f"{' and '.join(others)}; a {a.name} axis would over-specify the case "
-                                     "(vary the feed, or a variable the case fixes)"))
-    for a in axes:
-        if a.name in VARIABLES:
-            continue
-        for tp, value in (("temperature", case.specified.temperature_K), ("pressure", case.specified.pressure_Pa)):
-            if value is None and tp not in names:
-                raise InputError(Problem("--vary", f"a feed axis runs at fixed temperature and pressure; the case does "
-                                         f"not fix the {tp} (vary it too, or specify it in the case)"))
+    check_state_axes(case.specified, names)
     feeds = _feed_points(case, axes)
-    tp_axes = [a for a in axes if a.name in VARIABLES]
-    tp_combos: list[dict] = [{}]
-    for ax in tp_axes:
-        tp_combos = [{**c, ax.name: v} for v in ax.values for c in tp_combos]
+    other_axes = [a for a in axes if a.name in VARIABLES or a.name in SPEC_AXES]
+    combos: list[dict] = [{}]
+    for ax in other_axes:
+        combos = [{**c, ax.name: v} for v in ax.values for c in combos]
+    T, P = case.specified.temperature_K, case.specified.pressure_Pa
+
+    def point(i, c, f=(None, ())):
+        spec = tuple((n, float(v)) for n, v in c.items() if n in SPEC_AXES)
+        return Point(i, c.get("temperature", T), c.get("pressure", P), f[0], tuple(f[1]) + spec)
     if feeds is None:
-        return [Point(i, c.get("temperature", case.specified.temperature_K),
-                      c.get("pressure", case.specified.pressure_Pa)) for i, c in enumerate(tp_combos)]
-    # the feed axis first (fastest), then temperature or pressure
-    order = [(f, c) for c in tp_combos for f in feeds] if names[0] not in VARIABLES else \
-        [(f, c) for f in feeds for c in tp_combos]
-    return [Point(i, c.get("temperature", case.specified.temperature_K), c.get("pressure", case.specified.pressure_Pa),
-                  f[0], f[1]) for i, (f, c) in enumerate(order)]
+        return [point(i, c) for i, c in enumerate(combos)]
+    # the feed axis first (fastest) when it is named first, else the other axis
+    first_is_feed = names[0] not in VARIABLES and names[0] not in SPEC_AXES
+    order = [(f, c) for c in combos for f in feeds] if first_is_feed else [(f, c) for f in feeds for c in combos]
+    return [point(i, c, f) for i, (f, c) in enumerate(order)]
 
 
 class Prepared(NamedTuple):
@@ -327,7 +318,7 @@ def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> Point
     system, reactions, analysis = stages.system, stages.reactions, stages.analysis
     count, structure = stages.count, stages.specification
     spec = replace(case.specified, temperature_K=point.temperature_K, pressure_Pa=point.pressure_Pa)
-    here = replace(case, specified=spec)
+    here = replace(case, specified=with_spec_axes(spec, point.coordinates))
     where = (point.index, point.temperature_K, point.pressure_Pa)
     try:
         if point.feed is not None:

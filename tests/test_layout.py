@@ -112,6 +112,9 @@ def internal_imports(path: Path) -> set[str]:
     return out - {own}
 
 
+RANK["sweep_energy"] = 8.5     # the sweep axes inside a specification: below sweep, beside sweep_files
+
+
 @pytest.mark.parametrize("path", sorted(PACKAGE.rglob("*.py")), ids=lambda p: str(p.relative_to(PACKAGE)))
 def test_imports_point_one_way(path):
     own = path.relative_to(PACKAGE).parts[0].removesuffix(".py")

@@ -12,7 +12,8 @@ from ..verdicts import Verdict
 
 from . import svg
 
-DEFAULT_UNIT = {"temperature": "K", "pressure": "bar"}
+DEFAULT_UNIT = {"temperature": "K", "pressure": "bar", "feed-temperature": "K", "fill-pressure": "bar"}
+STATE_AXIS_KIND = {"feed-temperature": "temperature", "fill-pressure": "pressure"}   # values inside a specification
 SI_UNIT = {"temperature": "K", "pressure": "Pa"}
 FIELD = {"temperature": "temperature_K", "pressure": "pressure_Pa"}
 
@@ -27,7 +28,7 @@ def unit_of(vary_text: str) -> str:
 
 def _kind(name: str) -> str | None:
     """The unit kind of a swept variable: temperature, pressure, amount (a feed axis) or None (a ratio)."""
-    return name if name in SI_UNIT else "amount" if name.startswith("feed.") else None
+    return name if name in SI_UNIT else STATE_AXIS_KIND.get(name) or ("amount" if name.startswith("feed.") else None)
 
 
 def convert(values, name: str, unit: str) -> list[float]:
@@ -54,7 +55,7 @@ def _fixed(case, axes) -> list[str]:
     from .entered import read
     e = read(case)
     swept = {a.name for a in axes}
-    held = [f"{k} = {v}" for k, v in e.specified if k.split(".")[0] not in swept]
+    held = [f"{k} = {v}" for k, v in e.specified if k.split(".")[0] not in swept and not _swept_inside(case, k, swept)]
     feed = ", ".join(f"{s} {t}" for s, t in e.feed)
     lines = []
     if held:
@@ -62,6 +63,18 @@ def _fixed(case, axes) -> list[str]:
     if feed:
         lines.append(f"feed: {feed}" + ("" if any(c.isalpha() for _, t in e.feed for c in t) else " (mol)"))
     return lines
+
+
+def _swept_inside(case, key: str, swept: set) -> bool:
+    """Whether a case-file value (``adiabatic.feed-temperature``, ``volume.feed-at.pressure``) is
+    replaced by a feed-temperature or fill-pressure axis, and so is not held fixed."""
+    if "fill-pressure" in swept and key == "volume.feed-at.pressure":
+        return True
+    if "feed-temperature" not in swept:
+        return False
+    from ..sweep_energy import fills_at_feed_temperature
+    return key.endswith(".feed-temperature") or (key == "volume.feed-at.temperature"
+                                                  and fills_at_feed_temperature(case.specified))
 
 
 def picture_stamp(case) -> str:
@@ -82,6 +95,24 @@ def _value(r, name: str) -> float:
         return float(v) if v else float("nan")       # a point that did not solve carries no state
     v = dict(r.coordinates).get(name)
     return float("nan") if v is None else float(v)
+
+
+def _solved_state_charts(results, case, swept, title, label, xs, shade, fixed) -> list[str]:
+    """The temperature (and for a rigid vessel the pressure) each point solves, when the case does
+    not fix it (an energy balance, a vessel, an entropy): one chart per solved variable."""
+    if case is None or not any(r.phases_present for r in results):
+        return []
+    spec, parts = case.specified, []
+    for field, fixed_value, y_label, scale in (("temperature_K", spec.temperature_K, "solved temperature, K", 1.0),
+                                               ("pressure_Pa", spec.pressure_Pa, "solved pressure, bar", 1e-5)):
+        if fixed_value is not None or field.startswith(swept + "_"):
+            continue
+        ys = [getattr(r, field) * scale if r.phases_present and getattr(r, field) else float("nan") for r in results]
+        name = y_label.split(",")[0]
+        parts.append(svg.line_chart(title, label, xs, {name: ys}, shade=shade, y_label=y_label, y_from_zero=False,
+                                    subtitle=[f"{name} at equilibrium; the case solves it from "
+                                              f"{' and '.join(s.label for s in spec.specifications if s.kind not in FIELD)}"] + fixed))
+    return parts
 
 
 def _stack(parts: list[str]) -> str:
@@ -153,6 +184,7 @@ def sweep_svg(results, axes: Sequence, assumed: Sequence[str], case=None, units:
         absent = f"; never present: {', '.join(never)}" if never else ""
         parts.append(svg.line_chart(title, label, xs, moles, shade=shade, y_label="phase amount, mol",
                                     subtitle=[f"phase amounts{absent}; {note}"] + fixed, y_from_zero=False))
+    parts += _solved_state_charts(results, case, axis.name, title, label, xs, shade, fixed)
     return _stack(parts or [svg.line_chart(title, label, xs, {}, subtitle=["no solved points"] + fixed)])
 
 
