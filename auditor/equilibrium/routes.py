@@ -190,6 +190,15 @@ class RouteSolver:
         # the label is part of the JSON output (``solver``): kept as it was before the module moved
         return SolvedState(n, T, P, "element-potential minimiser (auditor.minimiser)", bool(res.converged), res.message)
 
+    def _failure(self, exc: Exception, solver: str) -> str:
+        """What a cantera failure means, in words; cantera's own text stays inside (kept in
+        ``details`` for the failure classifier)."""
+        from .diagnosis import solver_words
+        raw = one_line(str(exc).replace("*", " "), 300)     # cantera frames its text in asterisks
+        if raw not in self.details:
+            self.details.append(raw)
+        return solver_words(raw, solver)
+
     def _one_gas(self, T: float, P: float, start: np.ndarray) -> SolvedState:
         """A single ideal-gas phase: cantera's element-potential solver (``Solution.equilibrate``,
         several times faster than the multiphase solvers).  It returns mole fractions; the
@@ -204,11 +213,7 @@ class RouteSolver:
                 gas.TPX = T, P, x0 / x0.sum()
                 gas.equilibrate("TP", solver="element_potential", rtol=1e-14, max_steps=2000, max_iter=200)
         except Exception as exc:
-            from .diagnosis import solver_words
-            raw = one_line(str(exc).replace("*", " "), 300)
-            if raw not in self.details:
-                self.details.append(raw)
-            return SolvedState(n, T, P, "cantera element_potential", False, solver_words(raw, "element_potential"))
+            return SolvedState(n, T, P, "cantera element_potential", False, self._failure(exc, "element_potential"))
         w = self.arrays.W[:, idx] @ gas.X
         b = self.arrays.W @ self.n0
         n[idx] = gas.X * (float(w @ b) / max(float(w @ w), 1e-300))
@@ -251,13 +256,7 @@ class RouteSolver:
                 mix.equilibrate("TP", solver=solver, max_steps=2000, max_iter=200, estimate_equil=0)
             converged, msg = True, ""
         except Exception as exc:
-            # cantera's own text stays inside (the failure classifier reads it); the route
-            # history gets what it means
-            from .diagnosis import solver_words
-            raw = one_line(str(exc).replace("*", " "), 300)
-            if raw not in self.details:
-                self.details.append(raw)
-            converged, msg = False, solver_words(raw, solver)
+            converged, msg = False, self._failure(exc, solver)
         for line in log.getvalue().splitlines():
             if line.strip() and line.strip() not in self.log:
                 self.log.append(line.strip())
