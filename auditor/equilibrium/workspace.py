@@ -148,6 +148,7 @@ class MixtureSlot:
     in_mixture: np.ndarray     # per system species: in the mixture
     one_gas: bool = False      # the mixture is one ideal-gas phase (cantera's element-potential solver applies)
     neutral_seeds: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=int))  # positions of the uncharged species that may form
+    whole: bool = False        # every species of the system is in the mixture (no mask to apply)
 
 
 def _store(table: dict, key, value):
@@ -200,7 +201,7 @@ class Workspace:
             one_gas = len(kept) == 1 and kept[0].model == "ideal-gas"
             neutral = np.array([s.charge == 0 for s in self.system.species]) & candidate & in_mixture
             got = _store(self._mixtures, key, MixtureSlot(mixture, tuple(s for s in seeds if s.size), in_mixture,
-                                                          one_gas, position[neutral]))
+                                                          one_gas, position[neutral], bool(in_mixture.all())))
         return got
 
     def present_species(self, present: np.ndarray) -> PresentSpecies:
