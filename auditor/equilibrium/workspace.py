@@ -172,6 +172,23 @@ class Workspace:
         self._absent: dict[bytes, tuple[dict, dict]] = {}
         self._layout_stages: tuple = ()      # the counting stages the layouts below belong to
         self._layouts: dict = {}
+        self._feeds: dict[tuple, tuple[np.ndarray, np.ndarray]] = {}
+
+    def feed(self, case: Case) -> tuple[np.ndarray, np.ndarray]:
+        """The feed vector of ``case`` (``feed_vector``) and, per species, whether it may form
+        from that feed (a species holding an element the feed lacks never can), kept by the
+        feed's value; both read-only."""
+        key = (case.feed, case.feed_mass)
+        got = self._feeds.get(key)
+        if got is None:
+            n0 = feed_vector(case, self.system)
+            # only element rows count here, the charge row has both signs
+            rows = self.arrays.element_rows
+            candidate = ~(rows[rows @ n0 == 0] != 0).any(axis=0)
+            n0.setflags(write=False)
+            candidate.setflags(write=False)
+            got = _store(self._feeds, key, (n0, candidate))
+        return got
 
     @functools.cached_property
     def model(self) -> PhaseModel:
