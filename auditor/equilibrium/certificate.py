@@ -310,9 +310,10 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     ok_phases, phase_notes = _phase_findings(m, count, solver, sol.T, ranges, case.specified.incipient_phases)
     findings += more + incipient_notes + phase_notes
     a = solver.arrays
-    from .energy import heat_of
-    heat = heat_of(case.specified, solver.model, solver.n0, float(sol.T), float(sol.P), sol.n) \
-        if solver.report_heat else None
+    heat = None
+    if solver.report_heat:
+        from .energy import heat_of
+        heat = heat_of(case.specified, solver.model, solver.n0, float(sol.T), float(sol.P), sol.n)
     x_list = m.mole_fractions.tolist()                 # zero in an empty phase (mole_fractions)
     phases = tuple(PhaseState(p.name, tot, tuple(zip(labels, (x_list[k] for k in idx.tolist()))))
                    for p, idx, labels, tot in zip(solver.system.phases, a.phase_species, a.phase_labels, m.totals.tolist()))
