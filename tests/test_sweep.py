@@ -394,3 +394,18 @@ def test_parse_vary_rejects_units_of_the_wrong_kind(text):
         parse_vary(text)
     assert info.value.problems[0].file == "--vary"
     assert text in str(info.value)
+
+
+def test_point_records_equal_dataclasses_replace():
+    """The sweep's cheap copies (Specified.at_conditions, Case.with_specified) make the records
+    dataclasses.replace makes (same fields, same specification records); a plain identity."""
+    from dataclasses import fields, replace as dc_replace
+    case = auditor.sweep.load_case(str(Path(__file__).resolve().parents[1] / "cases" / "reformer_carbon_risk.yaml"))
+    for t, p in ((900.0, 2e5), (None, 3e5), (1000.0, None)):
+        fast = case.specified.at_conditions(t, p)
+        slow = dc_replace(case.specified, temperature_K=t, pressure_Pa=p)
+        assert fast == slow and fast.specifications == slow.specifications
+        assert fast.__dict__ == slow.__dict__
+        here, there = case.with_specified(fast), dc_replace(case, specified=slow)
+        assert here == there
+        assert all(getattr(here, f.name) == getattr(there, f.name) for f in fields(here))
