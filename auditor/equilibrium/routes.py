@@ -18,7 +18,7 @@ import numpy as np
 
 from .. import settings
 from ..errors import one_line
-from .workspace import MixtureSlot, Workspace, outside_range
+from .workspace import MixtureSlot, Workspace, _store, outside_range
 
 ROUTE_OURS = "element-potential minimiser"
 ROUTE_ONE_GAS = "cantera element-potential solver from the feed"
@@ -284,11 +284,19 @@ class RouteSolver:
         feed, then from element-preserving starting estimates, then the project's own minimiser
         (ideal phases only: it treats every phase as ideal).  An incomplete reaction list has
         one route: only the own minimiser holds the extra conserved quantities."""
-        if not self.complete or not all(self.model.usable) or not (self.candidate & self.arrays.usable_species).any() \
-                or self.approach is not None:     # cantera's solvers take no shifted potentials
+        if self.approach is not None:     # cantera's solvers take no shifted potentials
             return (ROUTE_OURS,)
-        one_gas = self.workspace.mixture(self.candidate).one_gas
-        return ((ROUTE_ONE_GAS,) if one_gas else ()) + CANTERA_ROUTES + ((ROUTE_OURS,) if self.arrays.ideal else ())
+        # the rest depends on the workspace and the candidate species only: kept per candidate set
+        key = self.candidate.tobytes()
+        got = self.workspace.routes.get(key)
+        if got is None:
+            if not self.complete or not all(self.model.usable) or not (self.candidate & self.arrays.usable_species).any():
+                got = (ROUTE_OURS,)
+            else:
+                one_gas = self.workspace.mixture(self.candidate).one_gas
+                got = ((ROUTE_ONE_GAS,) if one_gas else ()) + CANTERA_ROUTES + ((ROUTE_OURS,) if self.arrays.ideal else ())
+            _store(self.workspace.routes, key, got)
+        return got
 
     def start_at(self, first: int) -> None:
         """Later solves begin at route ``first`` (routes before it gave a state that failed its

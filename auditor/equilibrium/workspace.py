@@ -173,6 +173,7 @@ class Workspace:
         self._layout_stages: tuple = ()      # the counting stages the layouts below belong to
         self._layouts: dict = {}
         self._feeds: dict[tuple, tuple[np.ndarray, np.ndarray]] = {}
+        self.routes: dict[bytes, tuple[str, ...]] = {}   # candidate species -> routes (RouteSolver.routes; bounded)
 
     def feed(self, case: Case) -> tuple[np.ndarray, np.ndarray]:
         """The feed vector of ``case`` (``feed_vector``) and, per species, whether it may form
