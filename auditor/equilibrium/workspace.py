@@ -173,6 +173,7 @@ class Workspace:
         self._layout_stages: tuple = ()      # the counting stages the layouts below belong to
         self._layouts: dict = {}
         self._feeds: dict[tuple, tuple[np.ndarray, np.ndarray]] = {}
+        self._last_feed: tuple = (None, None)  # (key, value) of the last feed asked, compared by value
         self.routes: dict[bytes, tuple[str, ...]] = {}   # candidate species -> routes (RouteSolver.routes; bounded)
 
     def feed(self, case: Case) -> tuple[np.ndarray, np.ndarray]:
@@ -180,6 +181,8 @@ class Workspace:
         from that feed (a species holding an element the feed lacks never can), kept by the
         feed's value; both read-only."""
         key = (case.feed, case.feed_mass)
+        if self._feeds and self._last_feed[0] == key:
+            return self._last_feed[1]      # the feed of the last call (a sweep over T and P: every point)
         got = self._feeds.get(key)
         if got is None:
             n0 = feed_vector(case, self.system)
@@ -189,6 +192,7 @@ class Workspace:
             n0.setflags(write=False)
             candidate.setflags(write=False)
             got = _store(self._feeds, key, (n0, candidate))
+        self._last_feed = (key, got)
         return got
 
     @functools.cached_property
