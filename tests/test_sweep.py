@@ -409,3 +409,19 @@ def test_point_records_equal_dataclasses_replace():
         here, there = case.with_specified(fast), dc_replace(case, specified=slow)
         assert here == there
         assert all(getattr(here, f.name) == getattr(there, f.name) for f in fields(here))
+
+
+def test_solved_check_equals_the_dataclass_constructor():
+    """result.solved_check fills the same record as EquilibriumCheck(...) (a plain identity)
+    and refuses a missing or unknown field, as the constructor does."""
+    from auditor.equilibrium.result import EquilibriumCheck, solved_check
+    kw = dict(solved=True, converged=True, solver="cantera vcs", temperature_K=1000.0, pressure_Pa=1e5, phases=(),
+              phases_present=("gas",), max_affinity_RT=0.0, element_balance_error=0.0, potential_residual_RT=0.0,
+              absent_phase_driving_force=(), unique=True, starts=1, lnK_additivity_error=None, jacobian_rcond=None,
+              assumed_densities=(), findings=(), confirmed=True, route="cantera vcs from the feed")
+    fast, slow = solved_check(**kw), EquilibriumCheck(**kw)
+    assert fast == slow and fast.__dict__ == slow.__dict__ and repr(fast) == repr(slow)
+    with pytest.raises(TypeError):
+        solved_check(**{k: v for k, v in kw.items() if k != "solver"})
+    with pytest.raises(TypeError):
+        solved_check(**kw, colour="blue")

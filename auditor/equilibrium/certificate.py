@@ -33,7 +33,7 @@ from ..phase_rule import PhaseRuleCount
 from ..structure import SpecificationAudit
 from . import jacobian
 from .ranges import RangeReport, range_report
-from .result import EquilibriumCheck, PhaseState
+from .result import EquilibriumCheck, PhaseState, solved_check
 from .routes import RouteSolver, SolvedState, SolveError
 from .uniqueness import NOT_CHECKED, max_abs, mole_fractions, uniqueness
 from .workspace import CaseArrays
@@ -325,7 +325,7 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     x_list = m.mole_fractions.tolist()                 # zero in an empty phase (mole_fractions)
     phases = tuple(PhaseState(p.name, tot, tuple(zip(labels, (x_list[k] for k in idx.tolist()))))
                    for p, idx, labels, tot in zip(solver.system.phases, a.phase_species, a.phase_labels, m.totals.tolist()))
-    return EquilibriumCheck(
+    return solved_check(
         solved=True, converged=sol.converged, solver=sol.solver, temperature_K=float(sol.T), pressure_Pa=float(sol.P),
         phases=phases, phases_present=_with_incipient(m.present_names, incipient_phases, solver.system), max_affinity_RT=m.max_affinity,
         element_balance_error=m.balance_error, potential_residual_RT=m.potential_residual,
