@@ -88,8 +88,10 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
 
 def _treated_as_ideal(system: ChemicalSystem, analysis: ReactionAnalysis, model) -> list[Finding]:
     """The element-potential minimiser knows only standard potentials: say which model it drops."""
+    if analysis.complete and all(model.usable):
+        return []
     non_ideal = [ph.name for ph, ok in zip(system.phases, model.usable) if ok and ph.model not in IDEAL_MODELS]
-    if not non_ideal or (analysis.complete and all(model.usable)):
+    if not non_ideal:
         return []
     why = ("the reaction list is incomplete, so the element-potential minimiser holds the extra conserved "
            "quantities" if not analysis.complete else "a phase cannot enter cantera's multiphase solver, so "

@@ -237,8 +237,8 @@ def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: 
     zero amount: it counts as present, as it does in the phase rule), and on the data's T range."""
     ok, out = ranges.ok, []
     assumed = tuple(count.coexisting)
-    found = set(m.present_names) | set(incipient)
-    if found != set(assumed):
+    if (incipient or m.present_names != assumed) and set(m.present_names) | set(incipient) != set(assumed):
+        found = set(m.present_names) | set(incipient)
         ok = False
         appeared = sorted(found - set(assumed))
         vanished = sorted(set(assumed) - found)
