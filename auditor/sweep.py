@@ -317,8 +317,8 @@ def evaluate_point(case_path: str, vary: tuple[str, ...], point: Point) -> Point
     case, stages, workspace = _prepared(case_path, vary)
     system, reactions, analysis = stages.system, stages.reactions, stages.analysis
     count, structure = stages.count, stages.specification
-    spec = replace(case.specified, temperature_K=point.temperature_K, pressure_Pa=point.pressure_Pa)
-    here = replace(case, specified=with_spec_axes(spec, point.coordinates))
+    spec = case.specified.at_conditions(point.temperature_K, point.pressure_Pa)
+    here = case.with_specified(with_spec_axes(spec, point.coordinates))
     where = (point.index, point.temperature_K, point.pressure_Pa)
     try:
         if point.feed is not None:

@@ -394,3 +394,34 @@ def test_parse_vary_rejects_units_of_the_wrong_kind(text):
         parse_vary(text)
     assert info.value.problems[0].file == "--vary"
     assert text in str(info.value)
+
+
+def test_point_records_equal_dataclasses_replace():
+    """The sweep's cheap copies (Specified.at_conditions, Case.with_specified) make the records
+    dataclasses.replace makes (same fields, same specification records); a plain identity."""
+    from dataclasses import fields, replace as dc_replace
+    case = auditor.sweep.load_case(str(Path(__file__).resolve().parents[1] / "cases" / "reformer_carbon_risk.yaml"))
+    for t, p in ((900.0, 2e5), (None, 3e5), (1000.0, None)):
+        fast = case.specified.at_conditions(t, p)
+        slow = dc_replace(case.specified, temperature_K=t, pressure_Pa=p)
+        assert fast == slow and fast.specifications == slow.specifications
+        assert fast.__dict__ == slow.__dict__
+        here, there = case.with_specified(fast), dc_replace(case, specified=slow)
+        assert here == there
+        assert all(getattr(here, f.name) == getattr(there, f.name) for f in fields(here))
+
+
+def test_solved_check_equals_the_dataclass_constructor():
+    """result.solved_check fills the same record as EquilibriumCheck(...) (a plain identity)
+    and refuses a missing or unknown field, as the constructor does."""
+    from auditor.equilibrium.result import EquilibriumCheck, solved_check
+    kw = dict(solved=True, converged=True, solver="cantera vcs", temperature_K=1000.0, pressure_Pa=1e5, phases=(),
+              phases_present=("gas",), max_affinity_RT=0.0, element_balance_error=0.0, potential_residual_RT=0.0,
+              absent_phase_driving_force=(), unique=True, starts=1, lnK_additivity_error=None, jacobian_rcond=None,
+              assumed_densities=(), findings=(), confirmed=True, route="cantera vcs from the feed")
+    fast, slow = solved_check(**kw), EquilibriumCheck(**kw)
+    assert fast == slow and fast.__dict__ == slow.__dict__ and repr(fast) == repr(slow)
+    with pytest.raises(TypeError):
+        solved_check(**{k: v for k, v in kw.items() if k != "solver"})
+    with pytest.raises(TypeError):
+        solved_check(**kw, colour="blue")

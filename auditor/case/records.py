@@ -127,6 +127,15 @@ class Specified:
     def __post_init__(self):
         object.__setattr__(self, "specifications", _specifications(self))
 
+    def at_conditions(self, temperature_K: float | None, pressure_Pa: float | None) -> "Specified":
+        """``replace(self, temperature_K=..., pressure_Pa=...)``, for a sweep's every point: the
+        fields copied at once instead of set one by one, the records rebuilt as ``__post_init__`` does."""
+        out = object.__new__(Specified)
+        out.__dict__.update(self.__dict__)
+        out.__dict__.update(temperature_K=temperature_K, pressure_Pa=pressure_Pa)
+        out.__dict__["specifications"] = _specifications(out)
+        return out
+
     @property
     def fixes_volume(self) -> bool:
         """A rigid vessel: the energy balance is on internal energy, not enthalpy."""
@@ -206,6 +215,14 @@ class Case:
 
     def line(self, key_path: str) -> int | None:
         return self.lines.get(key_path)
+
+    def with_specified(self, specified: Specified) -> "Case":
+        """``replace(self, specified=specified)``, for a sweep's every point: ``Case`` has no
+        ``__post_init__``, so its fields copied at once with one changed make the same record."""
+        out = object.__new__(Case)
+        out.__dict__.update(self.__dict__)
+        out.__dict__["specified"] = specified
+        return out
 
 
 # ------------------------------------------------------------------ units

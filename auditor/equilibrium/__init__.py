@@ -72,11 +72,9 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
     findings += _treated_as_ideal(system, analysis, model)
     if not any(model.usable):
         return not_solved("no phase of this system can enter a Gibbs minimisation", assumed=model.assumed)
-    n0 = feed_vector(case, system)
     # a species holding an element the feed lacks can never form (and a pure phase of one makes
-    # cantera's vcs solver fail); only element rows count here, the charge row has both signs
-    rows = workspace.arrays.element_rows
-    candidate = ~(rows[rows @ n0 == 0] != 0).any(axis=0)
+    # cantera's vcs solver fail)
+    n0, candidate = workspace.feed(case)
     solver = RouteSolver(workspace, n0, candidate)
     solver.report_heat = heat
     if case.approach:
@@ -90,8 +88,10 @@ def confirm(case: Case, system: ChemicalSystem, analysis: ReactionAnalysis, coun
 
 def _treated_as_ideal(system: ChemicalSystem, analysis: ReactionAnalysis, model) -> list[Finding]:
     """The element-potential minimiser knows only standard potentials: say which model it drops."""
+    if analysis.complete and all(model.usable):
+        return []
     non_ideal = [ph.name for ph, ok in zip(system.phases, model.usable) if ok and ph.model not in IDEAL_MODELS]
-    if not non_ideal or (analysis.complete and all(model.usable)):
+    if not non_ideal:
         return []
     why = ("the reaction list is incomplete, so the element-potential minimiser holds the extra conserved "
            "quantities" if not analysis.complete else "a phase cannot enter cantera's multiphase solver, so "

@@ -144,11 +144,11 @@ def approach_findings(solver, T: float, P: float, n: np.ndarray) -> tuple[bool, 
     """The certificate's check of each approached reaction at the solved state: ln Q equals
     ln K at T -+ dT to ``AFFINITY_TOLERANCE_RT`` (instead of zero affinity).  Returns (holds,
     (equation, dT K, temperature of K, ln K there, ln Q) per reaction, findings)."""
-    from .. import settings
-    from ..findings import Finding
     plan = solver.approach
     if plan is None:
         return True, (), []
+    from .. import settings
+    from ..findings import Finding
     states = approach_states(solver.model, plan, T)
     mu = solver.model.at_state(T, P, n)[0]
     ok, records, out = True, [], []

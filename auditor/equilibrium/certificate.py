@@ -33,7 +33,7 @@ from ..phase_rule import PhaseRuleCount
 from ..structure import SpecificationAudit
 from . import jacobian
 from .ranges import RangeReport, range_report
-from .result import EquilibriumCheck, PhaseState
+from .result import EquilibriumCheck, PhaseState, solved_check
 from .routes import RouteSolver, SolvedState, SolveError
 from .uniqueness import NOT_CHECKED, max_abs, mole_fractions, uniqueness
 from .workspace import CaseArrays
@@ -237,8 +237,8 @@ def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: 
     zero amount: it counts as present, as it does in the phase rule), and on the data's T range."""
     ok, out = ranges.ok, []
     assumed = tuple(count.coexisting)
-    found = set(m.present_names) | set(incipient)
-    if found != set(assumed):
+    if (incipient or m.present_names != assumed) and set(m.present_names) | set(incipient) != set(assumed):
+        found = set(m.present_names) | set(incipient)
         ok = False
         appeared = sorted(found - set(assumed))
         vanished = sorted(set(assumed) - found)
@@ -260,7 +260,9 @@ def _phase_findings(m: Measured, count: PhaseRuleCount, solver: RouteSolver, T: 
 
 def _with_incipient(present: tuple[str, ...], incipient: tuple[str, ...], system) -> tuple[str, ...]:
     """The phases present, an incipient phase among them (present in zero amount, as the phase
-    rule counts it), in the system's order."""
+    rule counts it), in the system's order (``present`` already is: ``measure`` builds it so)."""
+    if not incipient:
+        return present
     return tuple(p.name for p in system.phases if p.name in present or p.name in incipient)
 
 
@@ -270,6 +272,8 @@ def incipient_findings(case: Case, m: Measured, sol: SolvedState, system) -> tup
     of all moles; every other absent phase must have a positive one (``_numerical_findings``).
     Returns (holds, (phase, driving force RT, phase fraction) per incipient phase, findings)."""
     ok, records, out = True, [], []
+    if not case.specified.phase_fractions:
+        return ok, records, out             # no phase fixed at a fraction (the common case)
     drive, total = dict(m.drive), max(float(m.totals.sum()), 1e-300)
     names = [p.name for p in system.phases]
     for name in case.specified.incipient_phases:
@@ -303,22 +307,27 @@ def certify(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     ranges = range_report(solver.system, solver.arrays, solver.candidate, solver.candidate_at(sol.T), m.present,
                           m.mole_fractions, sol.T, tuple(count.coexisting))
     ok_incipient, incipient, incipient_notes = incipient_findings(case, m, sol, solver.system)
-    from .approach import approach_findings
-    ok_approach, approached, approach_notes = approach_findings(solver, float(sol.T), float(sol.P), m.n)
+    if solver.approach is None:
+        ok_approach, approached, approach_notes = True, (), []     # as approach_findings says of no plan
+    else:
+        from .approach import approach_findings
+        ok_approach, approached, approach_notes = approach_findings(solver, float(sol.T), float(sol.P), m.n)
     incipient_notes += approach_notes
     ok_incipient = ok_incipient and ok_approach
-    ok_phases, phase_notes = _phase_findings(m, count, solver, sol.T, ranges, case.specified.incipient_phases)
+    incipient_phases = case.specified.incipient_phases
+    ok_phases, phase_notes = _phase_findings(m, count, solver, sol.T, ranges, incipient_phases)
     findings += more + incipient_notes + phase_notes
     a = solver.arrays
-    from .energy import heat_of
-    heat = heat_of(case.specified, solver.model, solver.n0, float(sol.T), float(sol.P), sol.n) \
-        if solver.report_heat else None
+    heat = None
+    if solver.report_heat:
+        from .energy import heat_of
+        heat = heat_of(case.specified, solver.model, solver.n0, float(sol.T), float(sol.P), sol.n)
     x_list = m.mole_fractions.tolist()                 # zero in an empty phase (mole_fractions)
     phases = tuple(PhaseState(p.name, tot, tuple(zip(labels, (x_list[k] for k in idx.tolist()))))
                    for p, idx, labels, tot in zip(solver.system.phases, a.phase_species, a.phase_labels, m.totals.tolist()))
-    return EquilibriumCheck(
+    return solved_check(
         solved=True, converged=sol.converged, solver=sol.solver, temperature_K=float(sol.T), pressure_Pa=float(sol.P),
-        phases=phases, phases_present=_with_incipient(m.present_names, case.specified.incipient_phases, solver.system), max_affinity_RT=m.max_affinity,
+        phases=phases, phases_present=_with_incipient(m.present_names, incipient_phases, solver.system), max_affinity_RT=m.max_affinity,
         element_balance_error=m.balance_error, potential_residual_RT=m.potential_residual,
         absent_phase_driving_force=m.drive, unique=m.unique, starts=m.starts, lnK_additivity_error=m.lnk_error,
         jacobian_rcond=m.jacobian_rcond, nonsingularity_test=m.nonsingularity_test, assumed_densities=tuple(solver.model.assumed), findings=tuple(findings),

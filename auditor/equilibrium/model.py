@@ -8,6 +8,7 @@ model of each phase, narrowed to the chosen species.
 from __future__ import annotations
 
 import functools
+import math
 import warnings
 
 import numpy as np
@@ -134,7 +135,7 @@ class PhaseModel:
 
     # ---- thermodynamics at a state
     def set_state(self, T: float, P: float, n: np.ndarray):
-        if not (np.isfinite(n).all() and np.isfinite(T) and np.isfinite(P)):
+        if not (np.isfinite(n).all() and math.isfinite(T) and math.isfinite(P)):
             # an iterate beyond what floating point carries (exp overflow): refused before cantera
             # takes it, which would leave the phase in a state it cannot leave (NaN density)
             raise FloatingPointError("amounts, temperature or pressure beyond the floating-point range")

@@ -62,9 +62,12 @@ def range_report(system: ChemicalSystem, arrays: CaseArrays, candidate: np.ndarr
     that may form from the feed; ``at_T``: those that may form at ``T``; ``present`` and ``x``
     (mole fractions) describe the state; ``assumed``: the phases the case assumes present."""
     out = RangeReport()
-    aside = candidate & arrays.usable_species & ~at_T
     names = []
-    for p in sorted(set(arrays.phase_of[aside].tolist())):
+    # ``at_T`` is ``candidate`` less the condensed species outside their data (``outside_range``):
+    # none when every condensed species' data cover T, the common case, and nothing is set aside
+    inside = arrays.condensed_low <= T <= arrays.condensed_high
+    aside = None if inside else candidate & arrays.usable_species & ~at_T
+    for p in () if inside else sorted(set(arrays.phase_of[aside].tolist())):
         phase = system.phases[p].name
         idx = arrays.phase_species[p]
         left = idx[aside[idx]]

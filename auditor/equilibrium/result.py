@@ -5,7 +5,7 @@ Data only: the JSON block is ``report.document.equilibrium_document``, the text
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import MISSING, dataclass, fields
 
 from .. import settings
 from ..findings import Finding
@@ -65,6 +65,24 @@ class EquilibriumCheck:
                    absent_phase_driving_force=(), unique=None, starts=0, lnK_additivity_error=None,
                    jacobian_rcond=None, assumed_densities=tuple(assumed), findings=tuple(findings), confirmed=False,
                    seconds=seconds)
+
+
+_DEFAULTS = {f.name: f.default for f in fields(EquilibriumCheck) if f.default is not MISSING}
+_NAMES = frozenset(f.name for f in fields(EquilibriumCheck))
+
+
+def solved_check(**values) -> EquilibriumCheck:
+    """``EquilibriumCheck(**values)`` with its fields filled at once (a frozen dataclass's
+    ``__init__`` sets its 37 fields one by one, on the path every sweep point takes): every
+    field without a default must be given, and no other name."""
+    out = object.__new__(EquilibriumCheck)
+    d = out.__dict__
+    d.update(_DEFAULTS)
+    d.update(values)
+    if len(d) != len(_NAMES) or not _NAMES.issuperset(values):
+        raise TypeError(f"EquilibriumCheck fields missing or unknown: "
+                        f"{sorted(_NAMES.symmetric_difference(d))}")
+    return out
 
 
 def certificate_holds(check: EquilibriumCheck) -> bool:

@@ -7,9 +7,9 @@ estimate, then the element-potential minimiser (:mod:`auditor.equilibrium.minimi
 """
 from __future__ import annotations
 
-import contextlib
 import functools
 import io
+import sys
 import time
 import warnings
 from dataclasses import dataclass
@@ -18,7 +18,7 @@ import numpy as np
 
 from .. import settings
 from ..errors import one_line
-from .workspace import MixtureSlot, Workspace, outside_range
+from .workspace import MixtureSlot, Workspace, _store, outside_range
 
 ROUTE_OURS = "element-potential minimiser"
 ROUTE_ONE_GAS = "cantera element-potential solver from the feed"
@@ -226,13 +226,16 @@ class RouteSolver:
             return SolvedState(np.zeros(self.system.n_species), T, P, f"cantera {solver}", False,
                                _NOT_HELD.format(T=T) if (self.candidate & self.arrays.usable_species).any()
                                else "no phase of the system can form from this feed")
-        if start[~usable_mask].any():
-            # the start holds species set aside at this T (a feed of ice above its melting point)
-            start = self._start_within(T, start)
-            if start is None:
-                return SolvedState(np.zeros(self.system.n_species), T, P, f"cantera {solver}", False,
-                                   _NOT_HELD.format(T=T))
-        start = start[usable_mask]        # a copy
+        if slot.whole:
+            start = start.copy()
+        else:
+            if start[~usable_mask].any():
+                # the start holds species set aside at this T (a feed of ice above its melting point)
+                start = self._start_within(T, start)
+                if start is None:
+                    return SolvedState(np.zeros(self.system.n_species), T, P, f"cantera {solver}", False,
+                                       _NOT_HELD.format(T=T))
+            start = start[usable_mask]        # a copy
         # trace seeds: every uncharged species that may form (seeded species save the solver
         # iterations; a charged seed would break electroneutrality), then any phase still empty
         # (zero-seeded phases break the solver)
@@ -250,18 +253,27 @@ class RouteSolver:
         mix.species_moles = start
         log = io.StringIO()
         try:
-            # cantera's solver log goes to stdout; keep it out of the tool's output (and JSON)
-            with warnings.catch_warnings(), contextlib.redirect_stdout(log):
+            # cantera's solver log goes to sys.stdout (its logger writes there); keep it out of the
+            # tool's output (and JSON): sys.stdout swapped as contextlib.redirect_stdout does, inline
+            with warnings.catch_warnings():
                 warnings.simplefilter("ignore")
-                mix.equilibrate("TP", solver=solver, max_steps=2000, max_iter=200, estimate_equil=0)
+                stdout, sys.stdout = sys.stdout, log
+                try:
+                    mix.equilibrate("TP", solver=solver, max_steps=2000, max_iter=200, estimate_equil=0)
+                finally:
+                    sys.stdout = stdout
             converged, msg = True, ""
         except Exception as exc:
             converged, msg = False, self._failure(exc, solver)
-        for line in log.getvalue().splitlines():
-            if line.strip() and line.strip() not in self.log:
-                self.log.append(line.strip())
-        n = np.zeros(self.system.n_species)
-        n[usable_mask] = mix.species_moles
+        if log.tell():
+            for line in log.getvalue().splitlines():
+                if line.strip() and line.strip() not in self.log:
+                    self.log.append(line.strip())
+        if slot.whole:
+            n = mix.species_moles         # a new array over every species
+        else:
+            n = np.zeros(self.system.n_species)
+            n[usable_mask] = mix.species_moles
         return SolvedState(n, T, P, f"cantera {solver}", converged, msg)
 
     # ---- routes: fixed, deterministic order; each tried only when the ones before it fail
@@ -271,11 +283,19 @@ class RouteSolver:
         feed, then from element-preserving starting estimates, then the project's own minimiser
         (ideal phases only: it treats every phase as ideal).  An incomplete reaction list has
         one route: only the own minimiser holds the extra conserved quantities."""
-        if not self.complete or not all(self.model.usable) or not (self.candidate & self.arrays.usable_species).any() \
-                or self.approach is not None:     # cantera's solvers take no shifted potentials
+        if self.approach is not None:     # cantera's solvers take no shifted potentials
             return (ROUTE_OURS,)
-        one_gas = self.workspace.mixture(self.candidate).one_gas
-        return ((ROUTE_ONE_GAS,) if one_gas else ()) + CANTERA_ROUTES + ((ROUTE_OURS,) if self.arrays.ideal else ())
+        # the rest depends on the workspace and the candidate species only: kept per candidate set
+        key = self.candidate.tobytes()
+        got = self.workspace.routes.get(key)
+        if got is None:
+            if not self.complete or not all(self.model.usable) or not (self.candidate & self.arrays.usable_species).any():
+                got = (ROUTE_OURS,)
+            else:
+                one_gas = self.workspace.mixture(self.candidate).one_gas
+                got = ((ROUTE_ONE_GAS,) if one_gas else ()) + CANTERA_ROUTES + ((ROUTE_OURS,) if self.arrays.ideal else ())
+            _store(self.workspace.routes, key, got)
+        return got
 
     def start_at(self, first: int) -> None:
         """Later solves begin at route ``first`` (routes before it gave a state that failed its

@@ -119,6 +119,8 @@ def solve_specified(case: Case, solver: RouteSolver) -> SolvedState | None:
     system = solver.system
     s = case.specified
     T, P = s.temperature_K, s.pressure_Pa
+    if T is not None and P is not None and len(s.specifications) == 2:
+        return solver.solve(T, P)     # T and P only (every specification has its record): no other residual
     others = other_residuals(s, system, solver)
     if T is not None and P is not None:
         if others:
@@ -309,7 +311,6 @@ def _certified_from(case: Case, count: PhaseRuleCount, spec: SpecificationAudit,
     of lower Gibbs energy (the route stopped at a saddle point or a local minimum: two liquids
     that must split).  Each failure is appended to ``attempts``.  Returns (the certified
     check or None, the first check whose certificate failed or None)."""
-    from .polish import polish
     first_failed, polished = None, False
     for _ in range(DESCENTS + 1):
         solver.attempts = tuple(attempts)   # the certified check carries them (no copy on the common path)
@@ -326,6 +327,7 @@ def _certified_from(case: Case, count: PhaseRuleCount, spec: SpecificationAudit,
         if solver.lower is not None:
             sol = replace(solver.lower, route=f"{sol.route}, then a restart of lower Gibbs energy")
         elif not polished and failure.startswith("affinity") and sol.sides is None and sol.solver.startswith("cantera"):
+            from .polish import polish
             polished, better = True, polish(solver, sol)
             if better is None:
                 attempts.append((f"{sol.route}, polished by Newton's method", "failed: the refinement on the present "

@@ -24,7 +24,7 @@ def max_abs(a: np.ndarray) -> float:
     numpy's ``max``).  Plain Python: cheaper than numpy's reduction on a few entries."""
     values = a.tolist()
     m = max(map(abs, values), default=0.0)
-    return m if all(v == v for v in values) else math.nan
+    return math.nan if any(map(math.isnan, values)) else m
 
 
 def phase_amount_rcond(arrays: CaseArrays, n: np.ndarray, phase_present: np.ndarray) -> float:

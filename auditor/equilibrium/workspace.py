@@ -148,6 +148,7 @@ class MixtureSlot:
     in_mixture: np.ndarray     # per system species: in the mixture
     one_gas: bool = False      # the mixture is one ideal-gas phase (cantera's element-potential solver applies)
     neutral_seeds: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=int))  # positions of the uncharged species that may form
+    whole: bool = False        # every species of the system is in the mixture (no mask to apply)
 
 
 def _store(table: dict, key, value):
@@ -171,6 +172,28 @@ class Workspace:
         self._absent: dict[bytes, tuple[dict, dict]] = {}
         self._layout_stages: tuple = ()      # the counting stages the layouts below belong to
         self._layouts: dict = {}
+        self._feeds: dict[tuple, tuple[np.ndarray, np.ndarray]] = {}
+        self._last_feed: tuple = (None, None)  # (key, value) of the last feed asked, compared by value
+        self.routes: dict[bytes, tuple[str, ...]] = {}   # candidate species -> routes (RouteSolver.routes; bounded)
+
+    def feed(self, case: Case) -> tuple[np.ndarray, np.ndarray]:
+        """The feed vector of ``case`` (``feed_vector``) and, per species, whether it may form
+        from that feed (a species holding an element the feed lacks never can), kept by the
+        feed's value; both read-only."""
+        key = (case.feed, case.feed_mass)
+        if self._feeds and self._last_feed[0] == key:
+            return self._last_feed[1]      # the feed of the last call (a sweep over T and P: every point)
+        got = self._feeds.get(key)
+        if got is None:
+            n0 = feed_vector(case, self.system)
+            # only element rows count here, the charge row has both signs
+            rows = self.arrays.element_rows
+            candidate = ~(rows[rows @ n0 == 0] != 0).any(axis=0)
+            n0.setflags(write=False)
+            candidate.setflags(write=False)
+            got = _store(self._feeds, key, (n0, candidate))
+        self._last_feed = (key, got)
+        return got
 
     @functools.cached_property
     def model(self) -> PhaseModel:
@@ -200,7 +223,7 @@ class Workspace:
             one_gas = len(kept) == 1 and kept[0].model == "ideal-gas"
             neutral = np.array([s.charge == 0 for s in self.system.species]) & candidate & in_mixture
             got = _store(self._mixtures, key, MixtureSlot(mixture, tuple(s for s in seeds if s.size), in_mixture,
-                                                          one_gas, position[neutral]))
+                                                          one_gas, position[neutral], bool(in_mixture.all())))
         return got
 
     def present_species(self, present: np.ndarray) -> PresentSpecies:
