@@ -182,7 +182,6 @@ def load_nodes(path: Path, text: str | None = None):
     """The root node of a case file, after the size, encoding, syntax and budget checks.
     ``text``: the case's YAML text held in memory (a case given as a mapping); ``path`` then
     only names it in messages."""
-    import yaml
     if text is not None:
         return _root_of(path, text.encode("utf-8", "surrogatepass"))
     if path.is_dir():

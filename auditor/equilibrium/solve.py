@@ -206,7 +206,7 @@ def refine_transition(solver: RouteSolver, resid: Residual, guess: SolvedState, 
     Solved by least squares (scipy's Levenberg-Marquardt) in ln n and ln T (or ln P)
     from the mixture of the two sides; None when it does not converge."""
     from scipy.optimize import least_squares
-    a, model = solver.arrays, solver.model
+    a = solver.arrays
     n_g = np.maximum(guess.n, 0.0)
     totals = n_g @ a.membership
     phase_present = totals > settings.PHASE_PRESENCE_FRACTION * max(totals.sum(), 1e-300)

@@ -22,9 +22,8 @@ from ..errors import MechanismError
 _NOT_BRACKET = re.compile(r"[^\[\]{}]+")
 _DASH_NESTING = re.compile(r"^[ \t]*(?:-[ \t]+){%d}" % (settings.MAX_MECHANISM_DEPTH + 1), re.M)
 _DEEP_INDENT = re.compile(r"^ {%d,}(?:- |[A-Za-z_\"'][^:\n]*:)" % settings.MAX_MECHANISM_INDENT, re.M)
-_ANCHOR = re.compile(r"(?:^|[\s\[\{,:-])&([A-Za-z0-9_][\w.-]*)", re.M)
-_SPECIES_OR_PHASE = re.compile(r"^[ \t]*-[ \t]+name[ \t]*:", re.M)
-_REACTION = re.compile(r"^[ \t]*-[ \t]+equation[ \t]*:", re.M)
+_ANCHOR = re.compile(r"&([A-Za-z0-9_][\w.-]*)")     # an anchor follows a space, a line start or [{,:-
+_ENTRY = re.compile(r"^[ \t]*-[ \t]+(name|equation)[ \t]*:", re.M)
 # YAML 1.1's not-a-number and infinity (.nan, -.inf, ...) as a plain value
 _NOT_FINITE = re.compile(r"(?<![\w.'\"])([-+]?\.(?:nan|NaN|NAN|inf|Inf|INF))(?![\w.'\"])")
 
@@ -66,18 +65,21 @@ def check_text(path: Path, text: str, what: str = "mechanism file") -> None:
         raise MechanismError.single(path, f"{what} {message}; refused")
 
     depth = settings.MAX_MECHANISM_DEPTH
-    if _flow_depth(text) > depth or _DASH_NESTING.search(text) or _DEEP_INDENT.search(text):
+    deep_indent = " " * settings.MAX_MECHANISM_INDENT in text and _DEEP_INDENT.search(text)   # substring first: fast
+    if _flow_depth(text) > depth or _DASH_NESTING.search(text) or deep_indent:
         refuse(f"nests deeper than {depth} levels {_raise_it('MAX_MECHANISM_DEPTH')}")
-    n_species = len(_SPECIES_OR_PHASE.findall(text))
+    entries = _ENTRY.findall(text)          # one pass: the keys of every list entry named or an equation
+    n_species = entries.count("name")
     if n_species > settings.MAX_MECHANISM_SPECIES:
         refuse(f"declares about {n_species:,} species (and phases), above the limit of "
                f"{settings.MAX_MECHANISM_SPECIES:,} {_raise_it('MAX_MECHANISM_SPECIES')}")
-    n_reactions = len(_REACTION.findall(text))
+    n_reactions = len(entries) - n_species
     if n_reactions > settings.MAX_MECHANISM_REACTIONS:
         refuse(f"declares {n_reactions:,} reactions, above the limit of {settings.MAX_MECHANISM_REACTIONS:,} "
                f"{_raise_it('MAX_MECHANISM_REACTIONS')}")
     _check_finite(path, text, what)
-    anchors = set(_ANCHOR.findall(text)) if "&" in text and "*" in text else ()
+    anchors = {m.group(1) for m in _ANCHOR.finditer(text) if m.start() == 0 or text[m.start() - 1] in " \t\r\n[{,:-"} \
+        if "&" in text and "*" in text else ()
     if anchors and any(re.search(r"\*" + re.escape(a) + r"(?![\w.-])", text) for a in anchors):
         _check_aliases(text, refuse)
 
@@ -96,15 +98,14 @@ def _check_finite(path: Path, text: str, what: str) -> None:
 
 
 def _flow_depth(text: str) -> int:
-    """Deepest nesting of flow brackets (``[`` and ``{``), from the brackets alone."""
-    level = deepest = 0
-    for c in _NOT_BRACKET.sub("", text):
-        if c in "[{":
-            level += 1
-            deepest = max(deepest, level)
-        else:
-            level -= 1
-    return deepest
+    """Deepest nesting of flow brackets (``[`` and ``{``), from the brackets alone (a running
+    sum of +1 per opening and -1 per closing bracket)."""
+    import numpy as np
+    brackets = np.frombuffer(_NOT_BRACKET.sub("", text).encode("ascii"), dtype=np.uint8)
+    if not brackets.size:
+        return 0
+    steps = np.where((brackets == ord("[")) | (brackets == ord("{")), 1, -1)
+    return int(np.cumsum(steps).max())
 
 
 def _check_aliases(text: str, refuse) -> None:
