@@ -32,9 +32,9 @@ from .model import IDEAL_MODELS, density_table
 from .result import EquilibriumCheck, PhaseState, certificate_holds
 from .routes import ROUTE_OURS, RouteSolver
 from .solve import certified_on_routes
-from .workspace import RESTARTS, Workspace
+from .workspace import RESTARTS, Workspace, feed_vector
 
-__all__ = ["confirm", "confirm_equilibrium", "EquilibriumCheck", "PhaseState", "Workspace", "certificate_holds", "density_table",
+__all__ = ["confirm", "confirm_equilibrium", "feed_vector", "EquilibriumCheck", "PhaseState", "Workspace", "certificate_holds", "density_table",
            "ROUTE_OURS", "RESTARTS"]
 
 
