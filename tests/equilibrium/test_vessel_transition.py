@@ -124,6 +124,6 @@ def test_rigid_ice_melter_ice_left_matches_a_hand_energy_balance():
     eq, gas, ice, water = _state()
     melted_hand = _melted_by_hand(eq.temperature_K, eq.pressure_Pa)
     assert 0.8 < melted_hand < 1.0
-    assert FEED["H2O(s)"] - ice == pytest.approx(melted_hand, rel=1e-4)
+    assert FEED["H2O(s)"] - ice == pytest.approx(melted_hand, rel=3e-4)   # measured 7.6e-5: condensed P*v left out
     vapour = gas.get("H2O", 0.0)
     assert water + vapour + ice == pytest.approx(FEED["H2O(s)"] + FEED["H2"], rel=1e-9)   # hydrogen balance
