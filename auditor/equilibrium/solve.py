@@ -197,14 +197,22 @@ def on_transition(solver: RouteSolver, resid: Residual, x: float, T: float | Non
     return refine_transition(solver, resid, guess, T is None) or guess
 
 
-def refine_transition(solver: RouteSolver, resid: Residual, guess: SolvedState, t_free: bool) -> SolvedState | None:
+LN_AMOUNT_FLOOR = math.log(1e-300)   # ln mol: the smallest amount the rigid-vessel refinement may reach
+RIGID_LN_T_STEP = 0.02               # how far ln T (about 2 %) may move from the mixture's on the
+#                                      rigid-vessel refinement (the transition is already bracketed)
+
+
+def refine_transition(solver: RouteSolver, resid: Residual, guess: SolvedState, t_free: bool,
+                      volume: Residual | None = None) -> SolvedState | None:
     """Solve the state on the transition directly: the T,P solver sets phase boundaries only
     to its own tolerance (about 1e-4 K for ice/water), too coarse for the certificate.  On the
     transition the phases of both sides coexist, and the state is fixed by the conserved
     quantities, zero affinity of every independent reaction among their species, and the
-    extensive specification: as many equations as unknowns (the amounts and T, or P).
-    Solved by least squares (scipy's Levenberg-Marquardt) in ln n and ln T (or ln P)
-    from the mixture of the two sides; None when it does not converge."""
+    extensive specification: as many equations as unknowns (the amounts and T, or P).  In a
+    rigid vessel (``volume`` given, the residual ln(V/V_vessel)) T and P are both unknowns and
+    the volume balance is the extra equation.  Solved by least squares (scipy's
+    Levenberg-Marquardt) in ln n and ln T (or ln P) from the mixture of the two sides; None
+    when it does not converge."""
     from scipy.optimize import least_squares
     a = solver.arrays
     n_g = np.maximum(guess.n, 0.0)
@@ -216,20 +224,29 @@ def refine_transition(solver: RouteSolver, resid: Residual, guess: SolvedState, 
     W = a.W[:, idx]
     b = a.W @ solver.n0
     b_scale = max(float(np.abs(b).max()), 1e-300)
+    k = idx.size
 
     def state(z):
         n = np.zeros_like(n_g)
-        n[idx] = np.exp(z[:-1])
-        x = math.exp(z[-1])
-        T, P = (x, guess.P) if t_free else (guess.T, x)
+        if volume is not None:
+            # no amount may underflow to zero: a pure phase of no amount would meet its
+            # zero-affinity equation at any T
+            n[idx] = np.exp(np.maximum(z[:k], LN_AMOUNT_FLOOR))
+            T, P = math.exp(z[k]), math.exp(z[k + 1])
+        else:
+            n[idx] = np.exp(z[:k])
+            x = math.exp(z[-1])
+            T, P = (x, guess.P) if t_free else (guess.T, x)
         return SolvedState(n, T, P, guess.solver, True, "", guess.sides, guess.route)
 
     def equations(z):
         sol = state(z)
         mu = solver.potentials(sol.T, sol.P, sol.n)[0][idx]
-        return np.concatenate(((W @ sol.n[idx] - b) / b_scale, basis @ mu, [resid(sol)]))
+        extra = [resid(sol)] if volume is None else [resid(sol), volume(sol)]
+        return np.concatenate(((W @ sol.n[idx] - b) / b_scale, basis @ mu, extra))
 
-    z0 = np.concatenate((np.log(np.maximum(n_g[idx], 1e-300)), [math.log(guess.T if t_free else guess.P)]))
+    unknowns = [guess.T, guess.P] if volume is not None else [guess.T if t_free else guess.P]
+    z0 = np.concatenate((np.log(np.maximum(n_g[idx], 1e-300)), np.log(unknowns)))
     try:
         res = least_squares(equations, z0, method="lm", xtol=1e-15, ftol=1e-15, gtol=1e-15, max_nfev=200 * z0.size)
     except Exception:
@@ -237,6 +254,8 @@ def refine_transition(solver: RouteSolver, resid: Residual, guess: SolvedState, 
     out = state(res.x)
     if np.max(np.abs(equations(res.x))) > 1e-9:
         return None
+    if volume is not None and abs(math.log(out.T / guess.T)) > RIGID_LN_T_STEP:
+        return None         # a state far from the bracketed transition is not the one sought
     return out
 
 

@@ -5,7 +5,11 @@ Nested bracketed solves around the T,P minimisation: at each trial temperature t
 solve finds the pressure at which the equilibrium state fills the vessel (Newton's method on
 ln V against ln P with a secant slope, which for a gas is nearly -1, so it converges in a few
 steps; a bracketed solve, and the state on a transition, when it does not); the outer solve
-(Brent's method) finds the temperature that meets the other specification.
+(Brent's method) finds the temperature that meets the other specification.  Where that
+answer sits on a univariant transition of the outer variable (ice melting in a closed can:
+heat goes into melting at a fixed temperature) the outer residual jumps there; the state is
+then the mixture of the two sides that meets the specification, refined with the amounts,
+T and P solved together (``on_transition_rigid``).
 """
 from __future__ import annotations
 
@@ -74,6 +78,38 @@ def solve_rigid(solver: RouteSolver, others: list, t_range: tuple[float, float])
     sol = pressure_for_volume(solver, volume, t, start)
     worst = max(abs(volume(sol)), abs(resid(sol)))
     if not np.isfinite(worst) or worst > RESIDUAL_TOLERANCE:
+        sol = on_transition_rigid(solver, volume, resid, t, start) or sol
+        worst = max(abs(volume(sol)), abs(resid(sol)))
+    if not np.isfinite(worst) or worst > RESIDUAL_TOLERANCE:
         sol.converged = False
         sol.message = f"the volume and the {what} specification are met only to {worst:.2e}"
     return sol
+
+
+def on_transition_rigid(solver: RouteSolver, volume, resid, t: float, start: list) -> SolvedState | None:
+    """The outer residual jumps across t (a univariant transition): the states just below and
+    above t, each at the pressure that fills the vessel, are mixed (amounts and ln P in
+    proportion) to meet the other specification, and the mixture is refined by
+    ``refine_transition`` with T and P both unknown and the volume balance added; None when
+    the two sides do not bracket the specification."""
+    from scipy.optimize import brentq
+    from .solve import refine_transition
+    d = 1e-8 * t
+    try:
+        lo = pressure_for_volume(solver, volume, t - d, start)
+        hi = pressure_for_volume(solver, volume, t + d, start)
+    except SolveError:
+        return None
+    if not (lo.converged and hi.converged):
+        return None
+    ln_lo, ln_hi = math.log(lo.P), math.log(hi.P)
+
+    def mix(s: float) -> SolvedState:
+        return SolvedState((1 - s) * lo.n + s * hi.n, t, math.exp((1 - s) * ln_lo + s * ln_hi), lo.solver, True, "",
+                           (lo.n, hi.n), lo.route)
+
+    r0, r1 = resid(mix(0.0)), resid(mix(1.0))
+    if not (np.isfinite(r0) and np.isfinite(r1)) or r0 * r1 > 0:
+        return None
+    guess = mix(brentq(lambda s: resid(mix(s)), 0.0, 1.0, xtol=1e-15))
+    return refine_transition(solver, resid, guess, True, volume) or guess
