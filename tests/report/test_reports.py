@@ -284,7 +284,10 @@ def test_json_report_validates_and_hashes_the_case(rendered):
     assert doc["versions"]["python"] == ".".join(map(str, sys.version_info[:3]))
     # a filed report is check --json plus its context, nothing else differs
     plain = {k: v for k, v in doc.items() if k not in CONTEXT_KEYS}
-    assert plain == rendered["doc"]
+    # the same document: floats to the golden files' tolerances (a solve that ends in a least-squares
+    # refinement, such as a rigid vessel on a transition, may differ in its last bits between runs)
+    from test_golden import differences
+    assert differences(plain, rendered["doc"]) == []
 
 
 def test_markdown_report_tables_and_headings(rendered):
