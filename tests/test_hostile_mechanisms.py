@@ -13,27 +13,10 @@ from auditor import settings  # noqa: E402
 from auditor.system.file_guard import check_text  # noqa: E402
 
 from clitools import run  # noqa: E402
+from small_mechanism import MECHANISM  # noqa: E402
 
 REFUSAL_SECONDS = 2.0     # the issue's bound for a refusal, whatever the file
 
-PHASES = """\
-phases:
-- name: gas
-  thermo: ideal-gas
-  elements: [H, O]
-  species: [H2, O2, H2O]
-  state: {T: 300.0, P: 1 atm}
-species:
-- name: H2
-  composition: {H: 2}
-  thermo: {model: constant-cp, T0: 298.15 K, h0: 0.0 J/mol, s0: 130.7 J/mol/K, cp0: 28.8 J/mol/K}
-- name: O2
-  composition: {O: 2}
-  thermo: {model: constant-cp, T0: 298.15 K, h0: 0.0 J/mol, s0: 205.2 J/mol/K, cp0: 29.4 J/mol/K}
-- name: H2O
-  composition: {H: 2, O: 1}
-  thermo: {model: constant-cp, T0: 298.15 K, h0: -241826 J/mol, s0: 188.8 J/mol/K, cp0: 33.6 J/mol/K}
-"""
 
 
 def alias_bomb() -> str:
@@ -41,7 +24,7 @@ def alias_bomb() -> str:
     lines = ["a0: &a0 [x, x, x, x, x, x, x, x, x, x]"]
     for i in range(1, 10):
         lines.append(f"a{i}: &a{i} [" + ", ".join([f"*a{i - 1}"] * 10) + "]")
-    return "\n".join(lines) + "\n" + PHASES
+    return "\n".join(lines) + "\n" + MECHANISM
 
 
 def check_case(tmp_path, mechanism: str) -> os.PathLike:
@@ -67,7 +50,7 @@ def refused(args, tmp_path, *words):
 
 def test_a_legitimate_mechanism_passes(tmp_path):
     mech = tmp_path / "small.yaml"
-    mech.write_text(PHASES, encoding="utf-8")
+    mech.write_text(MECHANISM, encoding="utf-8")
     code, out, err = run(["check", str(check_case(tmp_path, "small.yaml"))])
     assert code == 0, err
 
@@ -81,14 +64,14 @@ def test_alias_bomb_is_refused_quickly(tmp_path):
 @pytest.mark.parametrize("nesting", ["[" * 5000 + "]" * 5000, "{a: " * 5000 + "1" + "}" * 5000,
                                      "\n" + "- " * 5000 + "x"])
 def test_deep_nesting_is_refused(tmp_path, nesting):
-    (tmp_path / "deep.yaml").write_text(f"deep: {nesting}\n" + PHASES, encoding="utf-8")
+    (tmp_path / "deep.yaml").write_text(f"deep: {nesting}\n" + MECHANISM, encoding="utf-8")
     refused(["reactions", str(tmp_path / "deep.yaml")], tmp_path, "MAX_MECHANISM_DEPTH")
 
 
 def test_file_above_the_size_limit_is_refused_unread(tmp_path):
     big = tmp_path / "big.yaml"
     with big.open("w", encoding="utf-8") as fh:
-        fh.write(PHASES)
+        fh.write(MECHANISM)
         line = "# " + "x" * 1021 + "\n"
         for _ in range(50 * 1024):            # 50 MB of comment
             fh.write(line)
@@ -96,7 +79,7 @@ def test_file_above_the_size_limit_is_refused_unread(tmp_path):
 
 
 def test_twenty_thousand_species_are_refused(tmp_path):
-    many = PHASES + "".join(f"- name: X{i}\n  composition: {{H: 2}}\n  thermo: {{model: constant-cp}}\n"
+    many = MECHANISM + "".join(f"- name: X{i}\n  composition: {{H: 2}}\n  thermo: {{model: constant-cp}}\n"
                             for i in range(20_000))
     (tmp_path / "many.yaml").write_text(many, encoding="utf-8")
     refused(["reactions", str(tmp_path / "many.yaml")], tmp_path, "MAX_MECHANISM_SPECIES", "20,00")

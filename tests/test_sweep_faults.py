@@ -15,6 +15,7 @@ import pytest
 
 import auditor.sweep
 from clitools import read_csv, run
+from small_mechanism import MECHANISM, MECHANISM_CASE  # noqa: E402
 
 RATIO_ON_ABSENT = """\
 title: a ratio naming a species the feed cannot form
@@ -83,32 +84,6 @@ def test_a_tiny_feed_axis_plots(tmp_path):
 
 # ------------------------------------------------------------------ sweeps killed, resumed, contended
 
-MECHANISM = """\
-phases:
-- name: gas
-  thermo: ideal-gas
-  elements: [H, O]
-  species: [H2, O2, H2O]
-  state: {T: 300, P: 1 atm}
-species:
-- name: H2
-  composition: {H: 2}
-  thermo: {model: constant-cp, T0: 298.15 K, h0: 0, s0: 130.68 J/mol/K, cp0: 28.8 J/mol/K}
-- name: O2
-  composition: {O: 2}
-  thermo: {model: constant-cp, T0: 298.15 K, h0: 0, s0: 205.1 J/mol/K, cp0: 29.4 J/mol/K}
-- name: H2O
-  composition: {H: 2, O: 1}
-  thermo: {model: constant-cp, T0: 298.15 K, h0: -241.8 kJ/mol, s0: 188.8 J/mol/K, cp0: 33.6 J/mol/K}
-"""
-MECHANISM_CASE = """\
-title: mechanism case
-system:
-  mechanism: mech.yaml
-reactions: from-mechanism
-feed: {H2: 2, O2: 1}
-specified: {temperature: 1000 K, pressure: 1 bar}
-"""
 LONG_GRID = "temperature=1000:3000:1"          # 2001 points: minutes of work, stopped after a few
 
 
