@@ -35,7 +35,7 @@ from . import jacobian
 from .ranges import RangeReport, range_report
 from .result import EquilibriumCheck, PhaseState, solved_check
 from .routes import RouteSolver, SolvedState, SolveError
-from .uniqueness import NOT_CHECKED, max_abs, mole_fractions, uniqueness
+from .uniqueness import NOT_CHECKED, PROVED, max_abs, mole_fractions, uniqueness
 from .workspace import CaseArrays
 
 
@@ -173,7 +173,7 @@ def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     # square cases only): by proof where it applies, else numerically
     jac, nonsingularity_test = None, ""
     if spec.decomposition.structurally_nonsingular and not spec.extensive and tuple(count.coexisting) == present_names:
-        if jacobian.proof_applies(a.ideal, case, unique_basis.startswith("proved:"), n, present):
+        if jacobian.proof_applies(a.ideal, case, unique_basis.startswith(PROVED), n, present):
             nonsingularity_test = jacobian.BY_PROOF
         else:
             try:

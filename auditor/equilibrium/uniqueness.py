@@ -13,6 +13,10 @@ NOT_CHECKED = "not checked by restart"     # a restart that reached no state: sa
 LOWER = "lower Gibbs energy"               # a restart below the state: said in ``unique_basis``
 
 
+# how uniqueness was decided when the convexity proof holds (the certificate reads it: the same
+# proof makes the equations nonsingular at fixed T and P)
+PROVED = "proved: ideal phases, every absent phase has a positive driving force, phase amounts determined"
+
 def mole_fractions(n: np.ndarray, phase_of: np.ndarray, totals: np.ndarray) -> np.ndarray:
     """Mole fraction of every phase-species in its own phase (zero in an empty phase)."""
     tot = totals[phase_of]
@@ -191,7 +195,7 @@ def uniqueness(arrays: CaseArrays, solver: RouteSolver, sol: SolvedState, n: np.
     differ = bool(counts.get("rival") or counts.get("lower"))
     agree = _restart_words(counts, failed) if counts else ""
     if proved:
-        how = "proved: ideal phases, every absent phase has a positive driving force, phase amounts determined"
+        how = PROVED
         return not differ, starts, how + (f"; {agree}" if agree else ""), rcond
     if not cantera:
         return True, 1, "convex minimisation (ideal phases)", rcond
