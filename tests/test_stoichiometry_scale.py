@@ -82,3 +82,17 @@ def test_coordinate_and_incremental_choices_agree_in_span(tmp_path, monkeypatch)
             assert both.rank == len(vectors) == len(others)       # the same space
         else:
             assert len(vectors) == len(others)                     # complements of one space
+
+
+@pytest.mark.parametrize("name", ["reformer_design_point.yaml", "methanol_loop_complete_set.yaml",
+                                  "sulphur_furnace_demo.yaml"])
+def test_the_certificate_may_reuse_the_counts_basis(name):
+    # the certificate takes the phase-rule count's reactions among the present species instead of
+    # computing them again: both come from basis_within on the same set (identity)
+    from pathlib import Path
+    from auditor.audit import counting_stages
+    from auditor.case import load_case
+    from auditor.stoichiometry import basis_within
+    st = counting_stages(load_case(Path(__file__).resolve().parents[1] / "cases" / name))
+    again = basis_within(st.analysis.reactions, st.system.n_species, tuple(st.count.present_species))
+    assert [dict(r.stoich) for r in st.count.reactions_present] == list(again)

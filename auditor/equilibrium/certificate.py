@@ -148,7 +148,7 @@ def measure(case: Case, count: PhaseRuleCount, spec: SpecificationAudit, solver:
     # independent reactions among them
     mu, g = solver.potentials(sol.T, sol.P, n)
     present = phase_present[a.phase_of] & (n > 0)
-    ps = ws.present_species(present)
+    ps = ws.present_species(present, count)
     mu_p = mu[ps.index]
     lam = ps.pinv @ mu_p
     resid = max_abs(ps.rows @ lam - mu_p) if mu_p.size else 0.0

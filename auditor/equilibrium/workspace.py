@@ -226,13 +226,20 @@ class Workspace:
                                                           one_gas, position[neutral], bool(in_mixture.all())))
         return got
 
-    def present_species(self, present: np.ndarray) -> PresentSpecies:
+    def present_species(self, present: np.ndarray, counted=None) -> PresentSpecies:
+        """What the certificate needs for these present species.  ``counted``: the phase-rule
+        count (its present species and the basis of reactions among them), whose basis is taken
+        as it is when the sets agree instead of being computed again (``basis_within``)."""
         got = self._present.get(present.tobytes())
         if got is None:
             W = self.arrays.W
             idx = np.flatnonzero(present)
-            basis = direction_matrix(basis_within(self.analysis.reactions, len(present), tuple(int(k) for k in idx)),
-                                     len(present))
+            within = tuple(int(k) for k in idx)
+            if counted is not None and tuple(counted.present_species) == within:
+                vectors = [dict(r.stoich) for r in counted.reactions_present]
+            else:
+                vectors = basis_within(self.analysis.reactions, len(present), within)
+            basis = direction_matrix(vectors, len(present))
             rows = W[:, idx].T
             m = W.shape[0]
             if rows.size == 0:
